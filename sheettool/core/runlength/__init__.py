@@ -1,0 +1,1 @@
+"""Run-length engine: how long a monitoring scheme runs before it signals."""

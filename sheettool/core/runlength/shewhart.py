@@ -1,0 +1,45 @@
+"""Shewhart limits alone: each point signals independently, so the run length is geometric.
+
+ARL = 1 / p with p the probability that one point falls beyond a limit (common practice;
+for 3-sigma limits p = 2 * Phi(-3) = 0.0027 and ARL = 370.4).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy import stats
+
+from sheettool.core.constants import constants, range_cdf
+
+
+def mean_beyond_probability(shift: np.ndarray | float, n: int = 1, k: float = 3.0,
+                            sigma_ratio: float = 1.0) -> np.ndarray:
+    """P(a subgroup mean falls beyond center +/- k standard errors) after a mean shift.
+
+    shift is in process sigmas; the standardized shift of a mean of n readings is shift * sqrt(n).
+    """
+    d = np.asarray(shift, dtype=float) * np.sqrt(n)
+    return stats.norm.sf((k - d) / sigma_ratio) + stats.norm.cdf((-k - d) / sigma_ratio)
+
+
+def range_beyond_probability(n: int, sigma_ratio: float = 1.0, k: float = 3.0) -> float:
+    """P(a subgroup range falls beyond the R chart's limits when sigma is multiplied by sigma_ratio."""
+    c = constants(n, k)
+    upper = 1.0 - float(range_cdf(c.D4 * c.d2 / sigma_ratio, n)[0])
+    lower = float(range_cdf(c.D3 * c.d2 / sigma_ratio, n)[0]) if c.D3 > 0 else 0.0
+    return upper + lower
+
+
+def geometric_arl(p: np.ndarray | float) -> np.ndarray:
+    """Average run length 1 / p of a scheme whose points signal independently with probability p."""
+    p = np.asarray(p, dtype=float)
+    with np.errstate(divide="ignore"):
+        return np.where(p > 0, 1.0 / p, np.inf)
+
+
+def either_signals(*probabilities: np.ndarray | float) -> np.ndarray:
+    """P(at least one of several independent charts signals on the same subgroup)."""
+    stay = np.ones_like(np.asarray(probabilities[0], dtype=float))
+    for p in probabilities:
+        stay = stay * (1.0 - np.asarray(p, dtype=float))
+    return 1.0 - stay

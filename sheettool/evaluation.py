@@ -1,0 +1,145 @@
+"""Evaluate one characteristic: fit its chart, find signals, describe the scheme's run lengths.
+
+Pure computation over the core: a Characteristic in, a CharacteristicResult out.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from sheettool.core.charts import CHART_KINDS, ChartFit
+from sheettool.core.data import Characteristic, Measurements
+from sheettool.core.rules import Rule, find_hits, parse_rules
+from sheettool.core.runlength.shewhart import (
+    either_signals,
+    geometric_arl,
+    mean_beyond_probability,
+    range_beyond_probability,
+)
+from sheettool.problems import Problem
+
+STANDARD_SHIFTS: tuple[float, ...] = (0.0, 0.5, 1.0, 1.5, 2.0, 3.0)
+
+
+@dataclass(frozen=True)
+class Signal:
+    """A rule's pattern completed at a plotted point (positions are 1-based)."""
+
+    subgroup: int
+    label: str
+    statistic: str
+    rule: str
+    words: str
+    points: tuple[int, ...]
+
+
+@dataclass(frozen=True)
+class ShiftArl:
+    """ARL after a mean shift of `shift` process standard deviations."""
+
+    shift: float
+    arl: float
+
+
+@dataclass
+class Performance:
+    """How the scheme in use behaves: in-control ARL and ARL at standard mean shifts."""
+
+    method: str
+    arl_in_control: float
+    shifts: list[ShiftArl]
+    components: dict[str, float] = field(default_factory=dict)  # in-control ARL per chart alone
+
+
+@dataclass
+class EvaluationOptions:
+    """Choices that shape an evaluation; the workbook and command line fill these."""
+
+    chart: str | None = None
+    rules: str = "limits"
+    shifts: tuple[float, ...] = STANDARD_SHIFTS
+
+
+@dataclass
+class CharacteristicResult:
+    """Everything computed for one characteristic."""
+
+    characteristic: Characteristic
+    sheet: str
+    fit: ChartFit
+    rules: list[Rule]
+    signals: list[Signal]
+    performance: Performance
+    capability: dict | None = None
+    problems: list[Problem] = field(default_factory=list)
+
+
+def choose_chart(characteristic: Characteristic) -> str:
+    """The chart kind the data calls for (the choice is stated in the output)."""
+    if isinstance(characteristic.data, Measurements):
+        return "xbar-r"
+    raise ValueError("attribute counts are not supported yet")
+
+
+def evaluate(characteristic: Characteristic, sheet: str,
+             options: EvaluationOptions | None = None) -> CharacteristicResult:
+    """Fit the chart, apply the rules and compute the performance of one characteristic."""
+    options = options or EvaluationOptions()
+    chart = options.chart or choose_chart(characteristic)
+    kind = CHART_KINDS[chart]()
+    base = ~np.asarray(characteristic.excluded, dtype=bool)
+    fit = kind.fit(characteristic, base)
+    rules = parse_rules(options.rules)
+    signals = find_signals(fit, rules, characteristic.labels)
+    problems = [Problem("note", sheet, note) for note in fit.notes]
+    if fit.sigma_within == 0:
+        problems.append(Problem("warning", sheet, "every subgroup has zero spread: the limits "
+                                "collapse onto the center line; check the gauge resolution"))
+    return CharacteristicResult(
+        characteristic=characteristic,
+        sheet=sheet,
+        fit=fit,
+        rules=rules,
+        signals=signals,
+        performance=scheme_performance(fit, options.shifts),
+        problems=problems,
+    )
+
+
+def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Signal]:
+    """Apply the rules to each plotted statistic in standard-error units."""
+    signals: list[Signal] = []
+    for stat in fit.statistics:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            z = (stat.values - stat.center) / stat.sigma
+        for hit in find_hits(z, rules):
+            signals.append(Signal(
+                subgroup=hit.point + 1,
+                label=labels[hit.point],
+                statistic=stat.name,
+                rule=hit.rule.text,
+                words=hit.rule.words,
+                points=tuple(p + 1 for p in hit.points),
+            ))
+    signals.sort(key=lambda s: (s.subgroup, s.statistic))
+    return signals
+
+
+def scheme_performance(fit: ChartFit, shifts: tuple[float, ...]) -> Performance:
+    """ARL of the X-bar chart together with its R chart: the scheme signals when either does."""
+    n = fit.subgroup_size
+    p_range = range_beyond_probability(n)
+    p_mean = mean_beyond_probability(np.asarray(shifts), n)
+    arl = geometric_arl(either_signals(p_mean, p_range))
+    return Performance(
+        method="geometric run length of Shewhart limits (mean and range charts together)",
+        arl_in_control=float(geometric_arl(either_signals(mean_beyond_probability(0.0, n),
+                                                          p_range))),
+        shifts=[ShiftArl(float(s), float(a)) for s, a in zip(shifts, arl, strict=True)],
+        components={
+            "mean": float(geometric_arl(mean_beyond_probability(0.0, n))),
+            "range": float(geometric_arl(p_range)),
+        },
+    )

@@ -1,0 +1,77 @@
+"""The evaluation of one input file, and its JSON form (a stable contract for scripts)."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from sheettool import TOOL_NAME, __version__
+from sheettool.core.charts import PlottedStatistic
+from sheettool.evaluation import CharacteristicResult
+from sheettool.problems import Problem
+
+
+@dataclass
+class EvaluationReport:
+    """Results for every characteristic of one input workbook."""
+
+    input: Path
+    input_sha256: str
+    input_size: int
+    output: Path | None
+    characteristics: list[CharacteristicResult]
+    problems: list[Problem] = field(default_factory=list)
+
+
+def _number(value: float) -> float | None:
+    value = float(value)
+    return None if math.isnan(value) else (value if math.isfinite(value) else None)
+
+
+def _limit_value(values: np.ndarray) -> float | list[float | None] | None:
+    if np.ptp(values) == 0:
+        return _number(values[0])
+    return [_number(v) for v in values]
+
+
+def limits_json(stat: PlottedStatistic) -> dict[str, Any]:
+    """center/lcl/ucl of one statistic: numbers, or lists where they vary by point."""
+    return {"center": _limit_value(stat.center), "lcl": _limit_value(stat.lcl), "ucl": _limit_value(stat.ucl)}
+
+
+def characteristic_json(result: CharacteristicResult) -> dict[str, Any]:
+    """The JSON object of one characteristic."""
+    fit = result.fit
+    perf = result.performance
+    return {
+        "name": result.characteristic.name,
+        "sheet": result.sheet,
+        "chart": fit.chart,
+        "subgroups": result.characteristic.data.subgroups,
+        "subgroup_size": fit.subgroup_size,
+        "limits": {stat.name: limits_json(stat) for stat in fit.statistics},
+        "signals": [{"subgroup": s.subgroup, "statistic": s.statistic, "rule": s.rule} for s in result.signals],
+        "capability": result.capability,
+        "performance": {
+            "method": perf.method,
+            "arl_in_control": _number(perf.arl_in_control),
+            "shifts": [{"shift": s.shift, "arl": _number(s.arl)} for s in perf.shifts],
+        },
+    }
+
+
+def report_json(report: EvaluationReport) -> dict[str, Any]:
+    """The whole report as one JSON-ready object."""
+    problems = report.problems + [p for c in report.characteristics for p in c.problems]
+    return {
+        "tool": {"name": TOOL_NAME, "version": __version__},
+        "input": str(report.input),
+        "input_sha256": report.input_sha256,
+        "output": str(report.output) if report.output else None,
+        "characteristics": [characteristic_json(c) for c in report.characteristics],
+        "problems": [{"severity": p.severity, "where": p.where, "message": p.message} for p in problems],
+    }

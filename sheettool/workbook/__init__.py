@@ -1,0 +1,1 @@
+"""The workbook layer: reading input workbooks and writing evaluated ones around the core."""
