@@ -20,7 +20,7 @@ demo: $(STAMP)
 	@echo "Evaluated workbook written to $(DEMO_OUT)"
 
 lint: $(STAMP)
-	$(PY) -m ruff check sheettool tests benchmarks
+	$(PY) -m ruff check .
 
 test: lint
 	$(PY) -m pytest

@@ -9,6 +9,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from sheettool.core.capability import AttributeRate, Capability
 from sheettool.core.charts import CHART_KINDS, ChartFit
 from sheettool.core.data import Characteristic, Measurements
 from sheettool.core.rules import Rule, find_hits, parse_rules
@@ -19,6 +20,7 @@ from sheettool.core.runlength.shewhart import (
     range_beyond_probability,
 )
 from sheettool.problems import Problem
+from sheettool.settings import Setting
 
 STANDARD_SHIFTS: tuple[float, ...] = (0.0, 0.5, 1.0, 1.5, 2.0, 3.0)
 
@@ -37,29 +39,47 @@ class Signal:
 
 @dataclass(frozen=True)
 class ShiftArl:
-    """ARL after a mean shift of `shift` process standard deviations."""
+    """ARL after a mean shift of `shift` process standard deviations; ATS where the interval is known."""
 
     shift: float
     arl: float
+    ats_hours: float | None = None
 
 
 @dataclass
 class Performance:
-    """How the scheme in use behaves: in-control ARL and ARL at standard mean shifts."""
+    """How the scheme in use behaves: in-control ARL, false alarms, ARL at standard mean shifts."""
 
     method: str
     arl_in_control: float
     shifts: list[ShiftArl]
     components: dict[str, float] = field(default_factory=dict)  # in-control ARL per chart alone
+    interval_hours: float | None = None
+    false_alarms_per_month: float | None = None
+    curve: list[ShiftArl] = field(default_factory=list)  # ARL over a fine grid, for the performance tab
 
 
 @dataclass
 class EvaluationOptions:
-    """Choices that shape an evaluation; the workbook and command line fill these."""
+    """Choices that shape an evaluation; filled from settings (workbook, options, defaults)."""
 
     chart: str | None = None
     rules: str = "limits"
     shifts: tuple[float, ...] = STANDARD_SHIFTS
+    lsl: float | None = None
+    usl: float | None = None
+    target: float | None = None
+    limits_from: str = "all"
+    standard: dict[str, float] = field(default_factory=dict)  # mean, sigma, p0, c0 given as standards
+    carried: dict[str, object] | None = None  # a limits-block entry from an earlier output
+    ewma_lambda: float = 0.2
+    ewma_L: float = 3.0
+    cusum_k: float = 0.5
+    cusum_h: float = 5.0
+    confidence: float = 0.95
+    revise: bool = False
+    interval_hours: float | None = None
+    hours_per_month: float | None = None
 
 
 @dataclass
@@ -72,8 +92,9 @@ class CharacteristicResult:
     rules: list[Rule]
     signals: list[Signal]
     performance: Performance
-    capability: dict | None = None
+    capability: Capability | AttributeRate | None = None
     problems: list[Problem] = field(default_factory=list)
+    settings: dict[str, Setting] = field(default_factory=dict)
 
 
 def choose_chart(characteristic: Characteristic) -> str:

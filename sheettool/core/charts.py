@@ -46,6 +46,8 @@ class ChartFit:
     sigma_within: float
     sigma_method: str
     base: np.ndarray  # True for the subgroups that set the limits
+    limits_source: str = "base period: all subgroups"  # where the limits came from, in words
+    parameters: dict[str, float] = field(default_factory=dict)  # what the run-length engine needs
     notes: list[str] = field(default_factory=list)
 
 
@@ -122,6 +124,8 @@ class XbarR(ChartKind):
             sigma_within=sigma,
             sigma_method="R-bar / d2",
             base=usable,
+            limits_source=f"base period: {int(usable.sum())} of {m} subgroups",
+            parameters={"n": float(n)},
             notes=notes,
         )
 

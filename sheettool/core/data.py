@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+import datetime as dt
+
 import numpy as np
 
 
@@ -56,6 +58,7 @@ class Characteristic:
     unit: str = ""
     excluded: np.ndarray | None = None  # True where a subgroup is kept out of the limits
     notes: list[str] = field(default_factory=list)  # per subgroup, "" where none
+    dates: list[dt.datetime | None] = field(default_factory=list)  # per subgroup, None where unknown
 
     def __post_init__(self) -> None:
         m = self.data.subgroups
@@ -65,3 +68,5 @@ class Characteristic:
             self.excluded = np.zeros(m, dtype=bool)
         if not self.notes:
             self.notes = [""] * m
+        if not self.dates:
+            self.dates = [None] * m
