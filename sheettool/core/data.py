@@ -2,9 +2,8 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
-
 import datetime as dt
+from dataclasses import dataclass, field
 
 import numpy as np
 
