@@ -10,6 +10,8 @@ from __future__ import annotations
 import json
 from typing import Any
 
+from sheettool.evaluation import CharacteristicResult
+
 LIMITS_SHEET = "limits-block"
 MARKER = "sheettool limits block"
 VERSION = 1
@@ -34,3 +36,18 @@ def parse_limits_rows(rows: list[tuple[Any, ...]]) -> dict[str, dict[str, Any]]:
         if row and row[0] is not None and len(row) > 2 and row[2]:
             out[str(row[0])] = json.loads(row[2])
     return out
+
+
+def limits_entry(result: CharacteristicResult) -> dict[str, Any]:
+    """What the block keeps of one characteristic: enough to apply the same limits next month."""
+    fit = result.fit
+    return {
+        "sheet": result.sheet,
+        "chart": fit.chart,
+        "subgroup_size": fit.subgroup_size,
+        "process_mean": fit.process_mean,
+        "sigma_within": fit.sigma_within,
+        "parameters": fit.parameters,
+        "limits": {s.name: {"center": float(s.center[0]), "lcl": float(s.lcl[0]), "ucl": float(s.ucl[0])}
+                   for s in fit.statistics},
+    }

@@ -20,7 +20,7 @@ from sheettool.errors import OutputError
 from sheettool.evaluation import CharacteristicResult
 from sheettool.report import EvaluationReport
 from sheettool.workbook import style
-from sheettool.workbook.limits_block import LIMITS_SHEET, limits_rows
+from sheettool.workbook.limits_block import LIMITS_SHEET, limits_entry, limits_rows
 from sheettool.workbook.reader import SheetRead
 
 CAUTION = (
@@ -88,26 +88,13 @@ def write_evaluated_workbook(report: EvaluationReport, reads: list[SheetRead], p
             _write_evaluation_tab(book, eval_ws, fmt, result, data_tab, refs)
         _write_notes_tab(book.add_worksheet(NOTES_TAB), fmt, report, stamp)
         block = book.add_worksheet(LIMITS_SHEET)
-        for r, row in enumerate(limits_rows([_limits_entry(c) for c in report.characteristics])):
+        for r, row in enumerate(limits_rows([limits_entry(c) for c in report.characteristics])):
             for c, value in enumerate(row):
                 block.write(r, c, value)
         block.hide()
         book.close()
 
     write_atomically(path, build, protect=report.input)
-
-
-def _limits_entry(result: CharacteristicResult) -> dict[str, Any]:
-    fit = result.fit
-    return {
-        "sheet": result.sheet,
-        "chart": fit.chart,
-        "subgroup_size": fit.subgroup_size,
-        "process_mean": fit.process_mean,
-        "sigma_within": fit.sigma_within,
-        "limits": {s.name: {"center": float(s.center[0]), "lcl": float(s.lcl[0]), "ucl": float(s.ucl[0])}
-                   for s in fit.statistics},
-    }
 
 
 def _put(ws: Any, row: int, col: int, value: object, fmt: Any = None) -> None:
