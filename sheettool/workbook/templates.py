@@ -35,8 +35,9 @@ class TemplateSpec:
     instructions: list[str]
 
 
-_COMMON_SETTINGS = ["Part", "Characteristic", "Unit", "Sampling interval (h)", "Hours per month",
-                    "Rules", "Limits from"]
+_IDENTITY = ["Part", "Characteristic", "Unit"]
+_SAMPLING = ["Sampling interval (h)", "Hours per month", "Rules", "Limits from"]
+_SPECS = ["LSL", "USL", "Target"]
 
 
 def template_spec(kind: str, n: int = 5) -> TemplateSpec:
@@ -46,20 +47,20 @@ def template_spec(kind: str, n: int = 5) -> TemplateSpec:
             raise ValueError("a subgroups template needs --n from 2 to 25 readings per subgroup")
         example = [round(10.0 + 0.01 * ((i * 7) % 5 - 2), 3) for i in range(n)]
         return TemplateSpec(kind, "Measurements", [f"Reading {i + 1}" for i in range(n)], example, False,
-                            ["LSL", "USL", "Target", *_COMMON_SETTINGS],
+                            [*_IDENTITY, *_SPECS, *_SAMPLING],
                             [f"One row per subgroup: the {n} readings taken together, side by side.",
                              "Type numbers only in the reading cells; leave a cell empty if a reading is missing."])
     if kind == "individuals":
         return TemplateSpec(kind, "Measurements", ["Value"], [10.0], False,
-                            ["LSL", "USL", "Target", *_COMMON_SETTINGS],
+                            [*_IDENTITY, *_SPECS, *_SAMPLING],
                             ["One row per measurement, in the order taken."])
     if kind == "proportions":
         return TemplateSpec(kind, "Inspection", ["Inspected", "Defective units"], [200, 3], True,
-                            _COMMON_SETTINGS,
+                            [*_IDENTITY, *_SAMPLING],
                             ["One row per lot or shift: units inspected and how many of them were defective."])
     if kind == "counts":
         return TemplateSpec(kind, "Defects", ["Units inspected", "Defects found"], [50, 4], True,
-                            _COMMON_SETTINGS,
+                            [*_IDENTITY, *_SAMPLING],
                             ["One row per lot or shift: units inspected and the defects found on them "
                              "(a unit may have several)."])
     raise ValueError(f"unknown template kind '{kind}'; choose one of {', '.join(TEMPLATE_KINDS)}")
@@ -115,6 +116,9 @@ def write_template(spec: TemplateSpec, path: Path) -> None:
     ws.set_column(1, last_col, 14)
     ws.set_column(last_col + 1, last_col + 1, 28)
     ws.freeze_panes(header_row + 1, 0)
+    ws.set_landscape()
+    ws.fit_to_pages(1, 0)
+    ws.repeat_rows(header_row)
     book.close()
 
 
