@@ -72,16 +72,28 @@ class SigmaEstimator:
         return float(self.scale * math.sqrt(stats.chi2.ppf(q, self.nu) / self.nu))
 
 
+def _chi_shortfall(nu: float) -> float:
+    """1 - E[chi_nu / sqrt(nu)] = 1 - c4(nu + 1) for real nu, without cancellation for large nu.
+
+    Large nu: Gamma(x + 1/2) / Gamma(x) = sqrt(x) (1 - 1/(8x) + 1/(128x^2) + 5/(1024x^3) + ...) (Abramowitz and
+    Stegun 1964, 6.1.47) with x = nu / 2; below 1000 the log-gamma difference is exact to double precision.
+    """
+    if nu >= 1000.0:
+        return 1.0 / (4.0 * nu) - 1.0 / (32.0 * nu**2) - 5.0 / (128.0 * nu**3)
+    return -math.expm1(0.5 * math.log(2.0 / nu) + special.gammaln((nu + 1) / 2) - special.gammaln(nu / 2))
+
+
 def _chi_mean(nu: float) -> float:
     """E[chi_nu / sqrt(nu)] = c4(nu + 1), for real nu."""
-    return math.sqrt(2.0 / nu) * math.exp(special.gammaln((nu + 1) / 2) - special.gammaln(nu / 2))
+    return 1.0 - _chi_shortfall(nu)
 
 
 def _moment_matched(method: str, variance: float, tail_rate: float) -> SigmaEstimator:
     """Scaled chi with mean 1 and the given variance (Patnaik 1950): solve (1 - c^2) / c^2 = variance for nu."""
     def gap(log_nu: float) -> float:
-        c = _chi_mean(math.exp(log_nu))
-        return math.log((1.0 - c * c) / (c * c)) - math.log(variance)
+        short = _chi_shortfall(math.exp(log_nu))
+        c = 1.0 - short
+        return math.log(short * (1.0 + c) / (c * c)) - math.log(variance)
 
     nu = math.exp(optimize.brentq(gap, math.log(0.05), math.log(1e9), xtol=1e-12))
     return SigmaEstimator(method, nu, 1.0 / _chi_mean(nu), tail_rate, exact=False)
@@ -220,13 +232,17 @@ def carl_distribution(m: int, n: int, sigma_method: str, L: float = 3.0) -> Carl
     which = "exact" if est.exact else "approximate (scaled chi with exact mean and variance, Patnaik 1950)"
     return CarlDistribution(
         m=int(m), n=int(n), sigma_method=sigma_method, L=float(L),
-        known_arl=1.0 / (2.0 * stats.norm.sf(L)),
+        known_arl=float(1.0 / (2.0 * stats.norm.sf(L))),
         mean=mean, sd=sd, p10=_quantile(0.1, est, a, L), p50=_quantile(0.5, est, a, L),
         method=(f"conditional in-control ARL of limits center +/- {L:g} sigma_hat/sqrt(n) with mean and sigma "
-                f"({SIGMA_METHODS[sigma_method]}) estimated from {m} subgroups of {n}; sigma_hat distribution "
+                f"({SIGMA_METHODS[sigma_method]}) estimated from {_base_words(m, n)}; sigma_hat distribution "
                 f"{which}; Gauss-Hermite and Gauss-Legendre integration (Jensen et al. 2006)"),
         notes=notes,
     )
+
+
+def _base_words(m: int, n: int) -> str:
+    return f"{m} points" if n == 1 else f"{m} subgroups of {n}"
 
 
 def _check_L(L: float) -> None:
@@ -269,13 +285,21 @@ def adjusted_factor(m: int, n: int, sigma_method: str, target: float = 370.4, ex
     def gap(L: float) -> float:
         return 1.0 - float(est.cdf(t / L) @ _ZW) - exceed
 
-    factor = optimize.brentq(gap, 0.1, 50.0, xtol=1e-10)
+    lo, hi = 0.1, 10.0
+    while gap(lo) > 0 and lo > 1e-6:
+        lo /= 10.0
+    while gap(hi) < 0:
+        if hi > 1e4:
+            raise ValueError(f"exceed: no limit factor gives P(in-control ARL >= {floor:.4g}) = {exceed:g} with "
+                             f"{m} subgroups; lower exceed or base the limits on more subgroups")
+        hi *= 4.0
+    factor = optimize.brentq(gap, lo, hi, xtol=1e-10)
     return AdjustedFactor(
         m=int(m), n=int(n), sigma_method=sigma_method, target=float(target), exceed=float(exceed),
         tolerance=float(tolerance), factor=float(factor),
-        method=(f"limit factor with P(in-control ARL >= {floor:.4g}) = {exceed:g} for limits from {m} subgroups "
-                f"of {n} ({SIGMA_METHODS[sigma_method]}); exceedance criterion of Goedhart, Schoonhoven and "
-                f"Does (2017), solved by root finding"),
+        method=(f"limit factor with P(in-control ARL >= {floor:.4g}) = {exceed:g} for limits from "
+                f"{_base_words(m, n)} ({SIGMA_METHODS[sigma_method]}); exceedance criterion of Goedhart, "
+                f"Schoonhoven and Does (2017), solved by root finding"),
     )
 
 
@@ -321,11 +345,12 @@ def subgroups_needed(n: int, sigma_method: str, target: float = 370.4, exceed: f
                 mid = (lo + hi) // 2
                 lo, hi = (lo, mid) if meets(mid) else (mid, hi)
             found = hi
+    unit = "points" if n == 1 else f"subgroups of {n}"
     return SubgroupsNeeded(
         n=int(n), sigma_method=sigma_method, L=float(L), target=float(target), exceed=float(exceed),
         tolerance=float(tolerance), subgroups=found, max_searched=int(max_m), reachable=reachable,
-        method=(f"fewest subgroups of {n} with P(in-control ARL >= {floor:.4g}) >= {exceed:g} at limit factor "
-                f"{L:g} ({SIGMA_METHODS[sigma_method]}); search up to {max_m} subgroups"),
+        method=(f"fewest {unit} with P(in-control ARL >= {floor:.4g}) >= {exceed:g} at limit factor {L:g} "
+                f"({SIGMA_METHODS[sigma_method]}); search up to {max_m:,}"),
     )
 
 
