@@ -242,3 +242,33 @@ def dependence_check(points: np.ndarray, limits_sigma: str = "moving-range", k: 
                 f"start"),
         warnings=notes,
     )
+
+
+@dataclass
+class DataShapeReport:
+    """Both checks for one characteristic's base period, with their warnings together."""
+
+    shape: ShapeCheck
+    dependence: DependenceCheck
+    warnings: list[str]
+    method: str
+
+
+def data_shape_report(readings: np.ndarray, subgroup_size: int = 1, k: float = 3.0,
+                      seed: int = DEFAULT_SEED) -> DataShapeReport:
+    """Shape and dependence of a base period: readings as (subgroups, n) or a 1-D series of individuals.
+
+    The plotted points are the subgroup means (NaN readings left out) or the individuals themselves; limits for the
+    dependence check follow the chart: moving ranges for individuals, the points' own sigma for subgroup means.
+    """
+    x = np.asarray(readings, dtype=float)
+    if subgroup_size == 1:
+        points, basis = x.ravel(), "moving-range"
+    else:
+        rows = np.atleast_2d(x)
+        kept = np.isfinite(rows).any(axis=1)
+        points, basis = np.nanmean(rows[kept], axis=1), "marginal"
+    shape = shape_check(x, subgroup_size, k=k, seed=seed)
+    dependence = dependence_check(points, basis, k=k, seed=seed)
+    return DataShapeReport(shape=shape, dependence=dependence, warnings=shape.warnings + dependence.warnings,
+                           method=f"{shape.method}. {dependence.method}.")
