@@ -80,8 +80,9 @@ def shape_check(values: np.ndarray, subgroup_size: int = 1, k: float = 3.0, simu
                 seed: int = DEFAULT_SEED) -> ShapeCheck:
     """Fit the shape of the base-period readings and give the in-control ARL of k-sigma limits under it.
 
-    values: the readings (any shape; NaN ignored). For individuals the exceedance comes from the fitted cdf; for
-    subgroup means of n it comes from `simulations` seeded means of n draws from the fitted distribution.
+    values: the readings of an in-control base period, pooled (any shape; NaN ignored). For individuals the
+    exceedance comes from the fitted cdf; for subgroup means of n it comes from `simulations` seeded means of n draws
+    from the fitted distribution.
     """
     x = np.asarray(values, dtype=float).ravel()
     x = x[np.isfinite(x)]
@@ -120,18 +121,19 @@ def shape_check(values: np.ndarray, subgroup_size: int = 1, k: float = 3.0, simu
         se = arl * math.sqrt((1.0 - p) / hits) if hits else math.inf
         how = f"subgroup means of {n}: {simulations:,} seeded simulated means from the fitted distribution"
     ratio = arl / arl_normal
+    skewness = float(dist.stats(moments="s"))
     notes = []
     if abs(ratio - 1.0) > DIFFERENCE_WARNED:
-        fewer = "more" if ratio < 1 else "fewer"
+        direction = "more" if ratio < 1 else "fewer"
         arl_words = "no false alarms at all" if math.isinf(arl) else f"about {arl:.0f} points between false alarms"
-        notes.append(f"the readings are not normal in shape ({name}, skewness {float(dist.stats(moments='s')):.2f}): "
-                     f"{k:g}-sigma limits would give {arl_words} instead of {arl_normal:.0f}, so expect {fewer} "
-                     f"false alarms than the normal figures say")
+        notes.append(f"the readings are not normal in shape ({name}, skewness {skewness:.2f}): {k:g}-sigma limits "
+                     f"would give {arl_words} instead of {arl_normal:.0f}, so expect {direction} false alarms than "
+                     f"the normal figures say")
     if x.size < 100 and name != "normal":
         notes.append(f"the shape is judged from only {x.size} readings: the tail beyond the limits is a rough guess")
     return ShapeCheck(
         family=name, parameters=params, bic={f: v[2] for f, v in fits.items()},
-        skewness=float(dist.stats(moments="s")), subgroup_size=n, arl_normal=arl_normal, arl_shape=arl,
+        skewness=skewness, subgroup_size=n, arl_normal=arl_normal, arl_shape=arl,
         arl_shape_se=se, ratio=ratio,
         method=(f"shape of {x.size} readings: normal, Johnson SU and Johnson SB fitted by maximum likelihood, the "
                 f"lowest BIC kept (Johnson 1949; Schwarz 1978); limits at the fitted mean +/- {k:g} standard "
