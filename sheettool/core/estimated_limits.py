@@ -186,7 +186,8 @@ def _moment(k: int, est: SigmaEstimator, a: np.ndarray, L: float) -> float:
     hi = est.ppf(1.0 - 1e-15)
     coarse = np.linspace(lo, hi, 400)
     peak = float(np.max(log_integrand(coarse)))
-    while log_integrand(np.array([hi]))[0] > peak - 40.0:
+    while (edge := float(log_integrand(np.array([hi]))[0])) > peak - 40.0:  # near-unbounded moments: follow the tail
+        peak = max(peak, edge)
         hi *= 1.25
     edges = np.linspace(lo, hi, 81)
     half = np.diff(edges) / 2.0
@@ -227,8 +228,9 @@ def carl_distribution(m: int, n: int, sigma_method: str, L: float = 3.0) -> Carl
         notes.append("the average in-control ARL is unbounded: rare base periods overstate sigma so much that their "
                      "limits practically never give a false alarm; read the percentiles instead")
     elif not math.isfinite(sd):
-        notes.append("the spread of the in-control ARL is unbounded (rare base periods overstate sigma greatly); "
-                     "read the percentiles instead")
+        notes.append("the spread of the in-control ARL is unbounded and its average rests on rare base periods that "
+                     "overstate sigma greatly (the approximation of sigma_hat's tail matters there); read the "
+                     "percentiles instead")
     which = "exact" if est.exact else "approximate (scaled chi with exact mean and variance, Patnaik 1950)"
     return CarlDistribution(
         m=int(m), n=int(n), sigma_method=sigma_method, L=float(L),
