@@ -16,6 +16,8 @@ standard deviations, moving ranges; Basu 1955). The distribution of W, for each 
 - MR-bar / d2(2) for individuals: APPROXIMATE, a scaled chi fitted to the exact mean and variance of the average of the
   m - 1 moving ranges; adjacent moving ranges are correlated, and the variance includes their covariance
   E|A||B| - E|A| E|B| for A, B ~ N(0, 2) with correlation -1/2 (bivariate normal absolute moments, Cryer and Ryan 1990).
+  Against simulation its 1% and 99% quantiles are within about 2% at m = 25 (under 0.5% at m = 100, 8% at m = 10);
+  the R-bar and S-bar versions are within 1% at m = 25.
 
 The mean and spread of CARL are decided by rare base periods that overstate sigma: E[CARL^k] is finite only when the
 upper tail of W, P(W > w) ~ exp(-r w^2 / 2), falls faster than 1/p^k grows, i.e. r > k L^2. The rate r is computed
