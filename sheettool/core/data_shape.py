@@ -144,7 +144,11 @@ def shape_check(values: np.ndarray, subgroup_size: int = 1, k: float = 3.0, simu
 
 @dataclass
 class DependenceCheck:
-    """Lag-1 autocorrelation of the plotted points and the in-control ARL under the fitted AR(1)."""
+    """Lag-1 autocorrelation of the plotted points and the in-control ARL under the fitted AR(1).
+
+    arl_ar1 is computed at phi = r1 even when r1 is within the bound (then it mostly shows the noise in r1): show it
+    where `significant` is True.
+    """
 
     points: int
     r1: float
