@@ -115,11 +115,11 @@ def chart_choice(characteristic: Characteristic) -> tuple[str, str]:
         same = bool(seen.size and np.ptp(seen) == 0)
         if data.kind == "defectives":
             if same:
-                return "np", f"np chart: defectives counted in {seen[0]:g} units each time"
+                return "np", f"np chart: defectives counted among {seen[0]:g} unit(s) inspected each time"
             return "p", "p chart: defectives with a varying number inspected (limits per point)"
         if data.kind == "defects":
             if same:
-                return "c", f"c chart: defects counted in {seen[0]:g} units each time"
+                return "c", f"c chart: defects counted on {seen[0]:g} unit(s) inspected each time"
             return "u", "u chart: defects with a varying number inspected (limits per point)"
         raise ValueError(f"counts of kind '{data.kind}' are not known; use defectives or defects")
     n = typical_size(data.sizes)
