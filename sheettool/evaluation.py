@@ -152,9 +152,9 @@ def evaluate(characteristic: Characteristic, sheet: str,
     options = options or EvaluationOptions()
     check_specs(options.lsl, options.usl)
     given: dict[str, float] = {}
-    words, notes = "", []
+    words, origin, notes = "", "", []
     if options.carried is not None:
-        chart, given, words = carried_parameters(options.carried)
+        chart, given, words, origin = carried_parameters(options.carried)
         if options.chart and options.chart.strip().lower() != chart:
             raise ValueError(f"the carried limits are for a {chart} chart but the chart setting is "
                              f"{options.chart}; remove one of the two")
@@ -172,6 +172,7 @@ def evaluate(characteristic: Characteristic, sheet: str,
     chosen = {p: getattr(options, a) for p, a in kind.settings.items() if getattr(options, a) is not None}
     fit = fit_limits(kind, characteristic, options.limits_from, {**chosen, **given}, words, options.revise)
     fit.notes[:0] = [why, *notes]
+    fit.origin = origin
     if kind.time_weighted:
         rules = parse_rules(kind.signal_rule(fit))
         if options.rules.strip().lower() != "limits":

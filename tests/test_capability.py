@@ -118,3 +118,18 @@ def test_attribute_intervals_against_scipy():
     ten = attribute_rate(10, 4, "rate", 0.95).ci
     assert ten.low == pytest.approx(stats.gamma.ppf(0.025, 10) / 4, rel=1e-9)
     assert ten.high == pytest.approx(stats.gamma.ppf(0.975, 11) / 4, rel=1e-9)
+
+
+def test_capability_json_contract():
+    import json
+
+    from sheettool.report import characteristic_json
+
+    x = np.random.default_rng(2).normal(10.0, 1.0, (25, 5))
+    result = evaluate(Characteristic("x", Measurements(x)), "s", EvaluationOptions(lsl=6.0, usl=14.0, target=10.0))
+    out = json.loads(json.dumps(characteristic_json(result)))
+    cap = out["capability"]
+    assert {"cp", "cpk", "pp", "ppk", "cpm", "ppm_out", "ci", "confidence"} <= set(cap)
+    assert cap["confidence"] == 0.95 and len(cap["ci"]["cp"]) == 2 and len(cap["ci"]["cpk"]) == 2
+    assert cap["ci"]["cpk"][0] < cap["cpk"] < cap["ci"]["cpk"][1]
+    assert out["limits_source"] == "base period: all subgroups (points 1-25)"

@@ -80,12 +80,12 @@ def test_chart_choice_for_counts():
 
 
 @pytest.mark.parametrize(("counts", "inspected", "kind", "words"), [
-    ([3, -1, 2], [50, 50, 50], "defectives", "subgroup 2 (2): the count -1 is negative"),
-    ([3, 51, 2], [50, 50, 50], "defectives", "subgroup 2 (2): 51 defectives out of 50 inspected"),
-    ([3, 1, 2], [50, 0, 50], "defects", "subgroup 2 (2): 0 units inspected"),
+    ([3, -1, 2], [50, 50, 50], "defectives", "subgroup 2: the count -1 is negative"),
+    ([3, 51, 2], [50, 50, 50], "defectives", "subgroup 2: 51 defectives out of 50 inspected"),
+    ([3, 1, 2], [50, 0, 50], "defects", "subgroup 2: 0 units inspected"),
 ])
 def test_bad_counts_are_named(counts, inspected, kind, words):
-    with pytest.raises(ValueError, match=words.replace("(", r"\(").replace(")", r"\)")):
+    with pytest.raises(ValueError, match=words):
         _fit(counts, inspected, kind)
 
 

@@ -118,9 +118,15 @@ def test_carried_limits_round_trip(tmp_path):
         for a, b in zip(old[name], new[name], strict=True):
             assert b == pytest.approx(a, rel=1e-12)
     assert not result.fit.base.any()
-    assert result.fit.limits_source.startswith("carried from november-evaluated.xlsx (set there by base period: "
+    assert result.fit.limits_source.startswith("carried from november-evaluated.xlsx (first set by base period: "
                                                "the first 20 subgroups")
     assert sha256(december) == before
+    # a third month carried from the second keeps the first origin, not a growing chain
+    january = read_limits_block(tmp_path / "december-evaluated.xlsx")["Bore diameter"]
+    assert january["set_by"] == first.characteristics[0].fit.limits_source
+    third = evaluate(result.characteristic, "Bore diameter", EvaluationOptions(carried=january))
+    assert third.fit.limits_source == (f"carried from december-evaluated.xlsx (first set by "
+                                       f"{first.characteristics[0].fit.limits_source})")
 
 
 def test_carried_limits_for_ewma_and_p_keep_their_parameters():

@@ -69,13 +69,17 @@ def limits_entry(result: CharacteristicResult) -> dict[str, Any]:
         "sigma_method": fit.sigma_method,
         "parameters": {k: _finite(v) for k, v in fit.parameters.items()},
         "limits_source": fit.limits_source,
+        "set_by": fit.origin or fit.limits_source,
         "limits": {s.name: {"center": _finite(s.center[0]), "lcl": _finite(s.lcl[0]), "ucl": _finite(s.ucl[0])}
                    for s in fit.statistics},
     }
 
 
-def carried_parameters(entry: dict[str, Any]) -> tuple[str, dict[str, float], str]:
-    """(chart, given parameters, words) that apply a block entry's limits to new data."""
+def carried_parameters(entry: dict[str, Any]) -> tuple[str, dict[str, float], str, str]:
+    """(chart, given parameters, words, origin) that apply a block entry's limits to new data.
+
+    origin says how the limits were first set, carried unchanged through every later month.
+    """
     try:
         chart = str(entry["chart"])
         given = {k: float(v) for k, v in entry.get("parameters", {}).items() if v is not None and k != "n"}
@@ -86,8 +90,8 @@ def carried_parameters(entry: dict[str, Any]) -> tuple[str, dict[str, float], st
         raise ValueError("the carried limits entry is incomplete or damaged; evaluate with a base period "
                          "instead") from None
     where = f" from {entry['read_from']}" if entry.get("read_from") else ""
-    before = f" (set there by {entry['limits_source']})" if entry.get("limits_source") else ""
-    return chart, given, f"carried{where}{before}"
+    origin = str(entry.get("set_by") or entry.get("limits_source") or "")
+    return chart, given, f"carried{where}" + (f" (first set by {origin})" if origin else ""), origin
 
 
 def read_limits_block(path: Path) -> dict[str, dict[str, Any]]:

@@ -22,7 +22,8 @@ def check_counts(characteristic: Characteristic, kind: str) -> Counts:
         fits = "p or np" if data.kind == "defectives" else "c or u"
         raise ValueError(f"this chart plots {kind} but the data count {data.kind}; choose a {fits} chart")
     for i, (c, n) in enumerate(zip(data.counts, data.inspected, strict=True)):
-        where = f"subgroup {i + 1} ({characteristic.labels[i]})"
+        label = characteristic.labels[i]
+        where = f"subgroup {i + 1}" + (f" ({label})" if label != str(i + 1) else "")
         if np.isnan(c):
             continue
         if c < 0:

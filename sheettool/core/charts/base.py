@@ -52,6 +52,7 @@ class ChartFit:
     parameters: dict[str, float] = field(default_factory=dict)  # what the run-length engine needs
     notes: list[str] = field(default_factory=list)
     removed: list[int] = field(default_factory=list)  # 1-based points dropped from the base by revision
+    origin: str = ""  # for carried limits: how they were first set (kept month after month)
 
 
 class ChartKind:
