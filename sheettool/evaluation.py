@@ -13,7 +13,7 @@ from sheettool.core.capability import AttributeRate, Capability, attribute_rate,
 from sheettool.core.charts import CHART_KINDS, ChartFit, ChartKind, chart_kind
 from sheettool.core.charts.base import typical_size
 from sheettool.core.charts.variables import within_sigma
-from sheettool.core.data import Characteristic, Counts
+from sheettool.core.data import Characteristic, Counts, Measurements
 from sheettool.core.limits import fit_limits
 from sheettool.core.rules import Rule, find_hits, parse_rules
 from sheettool.core.runlength.shewhart import (
@@ -182,10 +182,17 @@ def evaluate(characteristic: Characteristic, sheet: str,
         rules = parse_rules(options.rules)
     signals = find_signals(fit, rules, characteristic.labels)
     capability = capability_of(characteristic, fit, bool(signals), options)
+    carried_n = (options.carried or {}).get("subgroup_size")
+    if carried_n is not None and carried_n != fit.subgroup_size and isinstance(characteristic.data, Measurements):
+        fit.notes.append(f"the carried limits were set on subgroups of {carried_n}, these have {fit.subgroup_size}: "
+                         "the limits follow each subgroup's size from the carried mean and sigma")
     problems = [Problem("note", sheet, note) for note in fit.notes]
     if fit.sigma_within == 0:
-        problems.append(Problem("warning", sheet, "every subgroup has zero spread: the limits "
-                                "collapse onto the center line; check the gauge resolution"))
+        collapse = ("every subgroup has zero spread: the limits collapse onto the center line; check the gauge "
+                    "resolution") if isinstance(characteristic.data, Measurements) else (
+                    "no count in the base period: the limits collapse onto zero; give a standard value (p0, c0) "
+                    "or a longer base period")
+        problems.append(Problem("warning", sheet, collapse))
     for note in getattr(capability, "notes", []):
         warn = note.startswith(("normality is doubtful", "the chart signals"))
         problems.append(Problem("warning" if warn else "note", sheet, f"capability: {note}"))

@@ -166,7 +166,7 @@ def process_capability(readings: np.ndarray, sigma_within: float, lsl: float | N
                               ("ppk", ppk, "bissell")):
         if value is not None:
             ci[name] = cp_interval(value, n - 1, confidence) if form == "chi2" else cpk_interval(value, n, confidence)
-    notes = [f"capability from {n} readings; within sigma {sigma_method or 'as the chart'}, overall sigma the "
+    notes = [f"from {n} readings; within sigma {sigma_method or 'as the chart'}, overall sigma the "
              "sample standard deviation; expected ppm out of spec under a normal model with the overall sigma"]
     if not sigma_within > 0 or not overall > 0:
         notes.append("the readings have no spread: the indices are undefined; check the gauge resolution")
