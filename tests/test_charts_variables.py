@@ -96,12 +96,16 @@ def test_short_subgroup_gets_its_own_limits():
     rng = np.random.default_rng(8)
     values = rng.normal(0, 1, (20, 5))
     values[7, 3:] = np.nan
+    values[9, 1:] = np.nan
     result = evaluate(Characteristic("x", Measurements(values)), "s")
-    mean = _stat(result, "mean")
+    mean, rng_stat = _stat(result, "mean"), _stat(result, "range")
     sigma = result.fit.sigma_within
-    # mean +/- 3 sigma / sqrt(n_i) (Montgomery 2009, sec. 6.3.2): wider for the subgroup of 3
+    # mean +/- 3 sigma / sqrt(n_i) (Montgomery 2009, sec. 6.3.2): wider for the subgroups of 3 and 1
     assert mean.ucl[7] - mean.center[7] == pytest.approx(3 * sigma / math.sqrt(3), rel=1e-12)
+    assert mean.ucl[9] - mean.center[9] == pytest.approx(3 * sigma, rel=1e-12)
     assert mean.ucl[0] - mean.center[0] == pytest.approx(3 * sigma / math.sqrt(5), rel=1e-12)
+    # the single reading has no range; its limit line runs on at the usual size
+    assert np.isnan(rng_stat.values[9]) and rng_stat.ucl[9] == rng_stat.ucl[0]
 
 
 @pytest.mark.parametrize(("size", "chart"), [(1, "i-mr"), (2, "xbar-r"), (9, "xbar-r"), (10, "xbar-s"),

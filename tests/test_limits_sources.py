@@ -49,6 +49,9 @@ def test_date_range_and_excluded_subgroups():
     assert np.flatnonzero(result.fit.base).tolist() == [0, 1, 2, 4, 5, 6, 7, 8, 9]
     assert "dated 2026-11-01 to 2026-11-10, less 1 excluded" in result.fit.limits_source
     assert result.fit.process_mean == pytest.approx(values[result.fit.base].mean(), rel=1e-12)
+    days = _char(values, dates=[d.date() for d in dates])  # plain dates work as well
+    same = evaluate(days, "s", EvaluationOptions(limits_from="2026-11-01..2026-11-10"))
+    assert same.fit.base[:10].all() and not same.fit.base[10:].any()
 
 
 @pytest.mark.parametrize(("spec", "words"), [

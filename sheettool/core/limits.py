@@ -27,6 +27,12 @@ def _day(text: str, end: bool) -> dt.datetime:
     return when.replace(tzinfo=None)
 
 
+def _as_datetime(value: dt.date) -> dt.datetime:
+    if not isinstance(value, dt.datetime):
+        return dt.datetime.combine(value, dt.time())
+    return value.replace(tzinfo=None)
+
+
 def base_period(characteristic: Characteristic, spec: str) -> tuple[np.ndarray, str]:
     """The subgroups a limits_from setting names ("all", "first N", "FROM..TO" dates), less excluded ones."""
     m = characteristic.data.subgroups
@@ -48,7 +54,7 @@ def base_period(characteristic: Characteristic, spec: str) -> tuple[np.ndarray, 
         dates = characteristic.dates
         if not any(d is not None for d in dates):
             raise ValueError(f"limits_from '{spec}' is a date range but the subgroups have no dates")
-        mask = np.array([d is not None and low <= d.replace(tzinfo=None) <= high for d in dates], dtype=bool)
+        mask = np.array([d is not None and low <= _as_datetime(d) <= high for d in dates], dtype=bool)
         if not mask.any():
             raise ValueError(f"limits_from '{spec}': no subgroup is dated in that range")
         words = f"subgroups dated {low_text.strip()} to {high_text.strip()}"

@@ -110,7 +110,8 @@ def overall_sigma(values: np.ndarray, mask: np.ndarray) -> float:
 
 
 def _sizes_for_limits(data: Measurements, low: int) -> np.ndarray:
-    """Subgroup sizes, with the usual size standing in where a subgroup is too small to plot."""
+    """Subgroup sizes, with the usual size standing in where a subgroup has fewer than `low` readings
+    (its statistic is not plotted there, but the limit line runs on)."""
     sizes = data.sizes.astype(int)
     return np.where(sizes >= low, sizes, max(typical_size(sizes), low))
 
@@ -150,7 +151,8 @@ class XbarR(_Variables):
         mu, sigma = params["mean"], params["sigma"]
         n = _sizes_for_limits(data, 2)
         stats = [
-            shewhart_statistic("mean", "Subgroup mean", subgroup_means(data.values), mu, sigma / np.sqrt(n)),
+            shewhart_statistic("mean", "Subgroup mean", subgroup_means(data.values), mu,
+                               sigma / np.sqrt(_sizes_for_limits(data, 1))),
             shewhart_statistic("range", "Subgroup range", subgroup_ranges(data.values), _d2(n) * sigma,
                                _d3(n) * sigma, floor=0.0),
         ]
@@ -173,7 +175,8 @@ class XbarS(_Variables):
         n = _sizes_for_limits(data, 2)
         k4 = _c4(n)
         stats = [
-            shewhart_statistic("mean", "Subgroup mean", subgroup_means(data.values), mu, sigma / np.sqrt(n)),
+            shewhart_statistic("mean", "Subgroup mean", subgroup_means(data.values), mu,
+                               sigma / np.sqrt(_sizes_for_limits(data, 1))),
             shewhart_statistic("sd", "Subgroup standard deviation", subgroup_sds(data.values), k4 * sigma,
                                np.sqrt(1.0 - k4 * k4) * sigma, floor=0.0),
         ]
