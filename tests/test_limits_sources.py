@@ -202,3 +202,20 @@ def test_limits_shift_and_scale_with_the_data(shift, scale, chart, seed):
         for x, y in ((a.center, b.center), (a.lcl, b.lcl), (a.ucl, b.ucl)):
             assert y == pytest.approx(scale * x + offset, rel=1e-9, abs=1e-9 * (1 + abs(shift)))
         assert b.ucl - b.lcl == pytest.approx(scale * (a.ucl - a.lcl), rel=1e-9, abs=1e-9)
+
+
+@pytest.mark.parametrize(("options", "words"), [
+    (EvaluationOptions(limits_from="first 40"), "limits_from 'first 40' names 40 subgroups but there are 30"),
+    (EvaluationOptions(lsl=12.1, usl=11.9), "must be below the upper one"),
+    (EvaluationOptions(chart="zigzag"), "chart 'zigzag' is not known"),
+    (EvaluationOptions(chart="p"), "a p (proportion defective) chart needs attribute counts"),
+])
+def test_bad_settings_give_a_clear_input_error(tmp_path, options, words):
+    path = tmp_path / "in.xlsx"
+    write_demo(path)
+    before = sha256(path)
+    with pytest.raises(InputError) as err:
+        evaluate_file(path, tmp_path / "out.xlsx", options)
+    message = str(err.value)
+    assert "in.xlsx" in message and "sheet 'Bore diameter'" in message and words in message
+    assert sha256(path) == before and not (tmp_path / "out.xlsx").exists()

@@ -13,11 +13,12 @@ from sheettool.core.charts.base import ChartFit, ChartKind, shewhart_statistic
 from sheettool.core.data import Characteristic, Counts
 
 
-def check_counts(characteristic: Characteristic, kind: str) -> Counts:
+def check_counts(characteristic: Characteristic, kind: str, title: str) -> Counts:
     """The counts, or ValueError naming the first subgroup whose numbers cannot be right."""
     data = characteristic.data
     if not isinstance(data, Counts):
-        raise ValueError("an attribute chart needs counts and units inspected, not measurements")
+        raise ValueError(f"a {title} chart needs attribute counts and units inspected, not measurements; "
+                         "choose a chart that fits the data")
     if data.kind != kind:
         fits = "p or np" if data.kind == "defectives" else "c or u"
         raise ValueError(f"this chart plots {kind} but the data count {data.kind}; choose a {fits} chart")
@@ -49,7 +50,7 @@ class _Attribute(ChartKind):
     rate_name = "p0"
 
     def check(self, characteristic: Characteristic) -> Counts:
-        return check_counts(characteristic, self.counts_kind)
+        return check_counts(characteristic, self.counts_kind, self.title)
 
     def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], str]:
         data = self.check(characteristic)
