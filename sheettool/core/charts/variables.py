@@ -102,13 +102,6 @@ def within_sigma(values: np.ndarray, base: np.ndarray, method: str | None = None
     return pooled / c4(dof + 1), "pooled standard deviation / c4(1 + sum(n - 1)) (subgroup sizes vary)"
 
 
-def overall_sigma(values: np.ndarray, mask: np.ndarray) -> float:
-    """Sample standard deviation of all readings of the marked subgroups (for Pp, Ppk)."""
-    readings = values[mask]
-    readings = readings[~np.isnan(readings)]
-    return float(np.std(readings, ddof=1)) if readings.size > 1 else float("nan")
-
-
 def _sizes_for_limits(data: Measurements, low: int) -> np.ndarray:
     """Subgroup sizes, with the usual size standing in where a subgroup has fewer than `low` readings
     (its statistic is not plotted there, but the limit line runs on)."""
