@@ -59,7 +59,8 @@ class _Attribute(ChartKind):
             raise ValueError("the base period holds no subgroup with a count")
         # pooled over the base: total count / total units (Montgomery 2009, eq. 7.8 and 7.17)
         rate = float(np.sum(data.counts[use]) / np.sum(data.inspected[use]))
-        return {self.rate_name: rate}, "total count / total units inspected in the base period"
+        words = f"{self.rate_name} = total {self.counts_kind} / total inspected in the base period"
+        return {self.rate_name: rate}, words
 
     def _fit(self, characteristic: Characteristic, stat, rate: float, spread: float, method: str,
              parameters: dict[str, float]) -> ChartFit:
@@ -118,7 +119,7 @@ class CChart(_Attribute):
         use = _present(data, base)
         if not use.any():
             raise ValueError("the base period holds no subgroup with a count")
-        return {"c0": float(np.mean(data.counts[use]))}, "mean count per subgroup in the base period"
+        return {"c0": float(np.mean(data.counts[use]))}, "c0 = mean defects per subgroup in the base period"
 
     def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
         data = self.check(characteristic)
