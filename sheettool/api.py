@@ -3,7 +3,9 @@
 from __future__ import annotations
 
 import hashlib
+from dataclasses import replace
 from pathlib import Path
+from typing import Any
 
 from sheettool.errors import InputError
 from sheettool.evaluation import EvaluationOptions, evaluate
@@ -30,9 +32,15 @@ def file_digest(path: Path) -> tuple[str, int]:
 
 
 def evaluate_file(input_path: Path, output: Path | None = None,
-                  options: EvaluationOptions | None = None, write: bool = True) -> EvaluationReport:
-    """Read a workbook, evaluate every characteristic in it and write the evaluated workbook."""
+                  options: EvaluationOptions | None = None, write: bool = True,
+                  carried: dict[str, dict[str, Any]] | None = None, carried_from: str = "") -> EvaluationReport:
+    """Read a workbook, evaluate every characteristic in it and write the evaluated workbook.
+
+    carried: limits-block entries by sheet name (from `read_limits_block`); a sheet with an entry
+    gets those limits, a sheet without one its own base period and a note saying so.
+    """
     input_path = Path(input_path)
+    options = options or EvaluationOptions()
     read = read_workbook(input_path)
     try:
         sha, size = file_digest(input_path)
@@ -40,8 +48,15 @@ def evaluate_file(input_path: Path, output: Path | None = None,
         raise InputError(f"{input_path}: cannot be read ({exc.strerror})") from None
     results, reads, problems = [], [], list(read.problems)
     for sheet in read.sheets:
+        sheet_options = options
+        if carried is not None:
+            sheet_options = replace(options, carried=carried.get(sheet.sheet))
+            if sheet.sheet not in carried:
+                problems.append(Problem("warning", f"{input_path.name}, sheet '{sheet.sheet}'",
+                                        f"no carried limits for this sheet in {carried_from or 'the limits file'}; "
+                                        "its limits come from its own base period"))
         try:
-            results.append(evaluate(sheet.characteristic, sheet.sheet, options))
+            results.append(evaluate(sheet.characteristic, sheet.sheet, sheet_options))
             reads.append(sheet)
         except ValueError as exc:
             problems.append(Problem("error", f"{input_path.name}, sheet '{sheet.sheet}'", str(exc)))

@@ -10,6 +10,7 @@ from typing import Any
 import numpy as np
 
 from sheettool import TOOL_NAME, __version__
+from sheettool.core.capability import AttributeRate, Capability
 from sheettool.core.charts import PlottedStatistic
 from sheettool.evaluation import CharacteristicResult
 from sheettool.problems import Problem
@@ -43,6 +44,32 @@ def limits_json(stat: PlottedStatistic) -> dict[str, Any]:
     return {"center": _limit_value(stat.center), "lcl": _limit_value(stat.lcl), "ucl": _limit_value(stat.ucl)}
 
 
+def _optional(value: float | None) -> float | None:
+    return None if value is None else _number(value)
+
+
+def capability_json(cap: Capability | AttributeRate | None) -> dict[str, Any] | None:
+    """Capability indices with their intervals, or the attribute rate with its interval."""
+    if cap is None:
+        return None
+    if isinstance(cap, AttributeRate):
+        return {"kind": cap.kind, "estimate": _number(cap.estimate), "ci": [_number(cap.ci.low), _number(cap.ci.high)],
+                "confidence": cap.confidence, "count": cap.count, "units": cap.units, "method": cap.method}
+    out: dict[str, Any] = {name: _optional(getattr(cap, name)) for name in
+                           ("cp", "cpk", "pp", "ppk", "cpm", "ppm_out", "ppm_within", "lsl", "usl", "target", "mean",
+                            "sigma_within", "sigma_overall", "normality_p", "normality_statistic")}
+    out.update({
+        "ci": {k: [_number(v.low), _number(v.high)] for k, v in cap.ci.items()},
+        "confidence": cap.confidence,
+        "sigma_method": cap.sigma_method,
+        "readings": cap.readings,
+        "normality_doubtful": cap.normality_doubtful,
+        "stable": cap.stable,
+        "notes": list(cap.notes),
+    })
+    return out
+
+
 def characteristic_json(result: CharacteristicResult) -> dict[str, Any]:
     """The JSON object of one characteristic."""
     fit = result.fit
@@ -55,7 +82,10 @@ def characteristic_json(result: CharacteristicResult) -> dict[str, Any]:
         "subgroup_size": fit.subgroup_size,
         "limits": {stat.name: limits_json(stat) for stat in fit.statistics},
         "signals": [{"subgroup": s.subgroup, "statistic": s.statistic, "rule": s.rule} for s in result.signals],
-        "capability": result.capability,
+        "limits_source": fit.limits_source,
+        "base_subgroups": [int(i) + 1 for i in np.flatnonzero(fit.base)],
+        "removed": list(fit.removed),
+        "capability": capability_json(result.capability),
         "performance": {
             "method": perf.method,
             "arl_in_control": _number(perf.arl_in_control),

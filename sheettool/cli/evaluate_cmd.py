@@ -12,6 +12,7 @@ from sheettool.core.rules import parse_rules
 from sheettool.errors import UsageError
 from sheettool.evaluation import EvaluationOptions
 from sheettool.report import report_json
+from sheettool.workbook.limits_block import read_limits_block
 
 
 def add_parser(subs: argparse._SubParsersAction) -> None:
@@ -20,6 +21,8 @@ def add_parser(subs: argparse._SubParsersAction) -> None:
     p.add_argument("input", type=Path, help="the measurement workbook (.xlsx or .xlsm)")
     p.add_argument("-o", "--output", type=Path, help="output workbook (default: IN-evaluated.xlsx beside IN)")
     p.add_argument("--rules", default="limits", help="pattern rules or preset (default: limits)")
+    p.add_argument("--limits-from", type=Path, metavar="PREVIOUS.xlsx", dest="limits_file",
+                   help="apply the limits an earlier evaluated workbook carries (matched by sheet name)")
     p.add_argument("--json", action="store_true", help="print the results as one JSON object on stdout")
     p.set_defaults(run=run)
 
@@ -30,7 +33,9 @@ def run(args: argparse.Namespace) -> int:
         parse_rules(args.rules)
     except ValueError as exc:
         raise UsageError(f"--rules: {exc}") from None
-    report = evaluate_file(args.input, args.output, EvaluationOptions(rules=args.rules))
+    carried = read_limits_block(args.limits_file) if args.limits_file else None
+    report = evaluate_file(args.input, args.output, EvaluationOptions(rules=args.rules), carried=carried,
+                           carried_from=args.limits_file.name if args.limits_file else "")
     if args.json:
         json.dump(report_json(report), sys.stdout, indent=2)
         sys.stdout.write("\n")
