@@ -131,17 +131,27 @@ def find_hits(z: np.ndarray, rules: list[Rule]) -> list[Hit]:
     return hits
 
 
+def zone_flags(rule: Rule, z: np.ndarray) -> list[np.ndarray]:
+    """Which points count toward a K/M rule: one flag array per side that is counted separately.
+
+    A same-side rule counts the upper and the lower side apart; the others have one flag.
+    Comparisons are strict, so a point exactly on Z is neither beyond nor within.
+    """
+    z = np.asarray(z, dtype=float)
+    if rule.kind == "same_side":
+        return [z > rule.z, z < -rule.z]
+    if rule.kind == "within":
+        return [np.abs(z) < rule.z]
+    if rule.kind == "either_side":
+        return [np.abs(z) > rule.z]
+    raise ValueError(f"rule '{rule.text}' is not a K/M rule")
+
+
 def _rule_hits(z: np.ndarray, rule: Rule) -> list[tuple[int, np.ndarray]]:
     if rule.kind == "trend" or rule.kind == "alternate":
         return _run_hits(z, rule)
-    if rule.kind == "same_side":
-        flags = [z > rule.z, z < -rule.z]
-    elif rule.kind == "within":
-        flags = [np.abs(z) < rule.z]
-    else:
-        flags = [np.abs(z) > rule.z]
     out: list[tuple[int, np.ndarray]] = []
-    for flag in flags:
+    for flag in zone_flags(rule, z):
         csum = np.concatenate([[0], np.cumsum(flag)])
         idx = np.arange(len(z))
         start = np.maximum(idx - rule.m + 1, 0)
