@@ -13,12 +13,7 @@ from sheettool.core.capability import AttributeRate, Capability
 from sheettool.core.charts import CHART_KINDS, ChartFit
 from sheettool.core.data import Characteristic, Measurements
 from sheettool.core.rules import Rule, find_hits, parse_rules
-from sheettool.core.runlength.shewhart import (
-    either_signals,
-    geometric_arl,
-    mean_beyond_probability,
-    range_beyond_probability,
-)
+from sheettool.core.runlength.scheme import performance_of
 from sheettool.problems import Problem
 from sheettool.settings import Setting
 
@@ -39,11 +34,19 @@ class Signal:
 
 @dataclass(frozen=True)
 class ShiftArl:
-    """ARL after a mean shift of `shift` process standard deviations; ATS where the interval is known."""
+    """ARL after a mean shift of `shift` process standard deviations; ATS where the interval is known.
+
+    For attribute charts `shift` is in standard errors of the plotted rate and `rate` is the rate itself.
+    """
 
     shift: float
     arl: float
     ats_hours: float | None = None
+    sdrl: float | None = None
+    percentiles: dict[int, float] | None = None  # 5th, 50th and 95th percentile of the run length
+    steady_state_arl: float | None = None  # conditional steady state (see core/runlength/markov.py)
+    ci: tuple[float, float] | None = None  # 95% interval of the ARL where it is simulated
+    rate: float | None = None
 
 
 @dataclass
@@ -57,6 +60,9 @@ class Performance:
     interval_hours: float | None = None
     false_alarms_per_month: float | None = None
     curve: list[ShiftArl] = field(default_factory=list)  # ARL over a fine grid, for the performance tab
+    shift_unit: str = "process standard deviations"
+    sdrl_in_control: float | None = None
+    steady_state_arl_in_control: float | None = None
 
 
 @dataclass
@@ -124,7 +130,7 @@ def evaluate(characteristic: Characteristic, sheet: str,
         fit=fit,
         rules=rules,
         signals=signals,
-        performance=scheme_performance(fit, options.shifts),
+        performance=performance_of(fit, rules, options),
         problems=problems,
     )
 
@@ -146,21 +152,3 @@ def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Si
             ))
     signals.sort(key=lambda s: (s.subgroup, s.statistic))
     return signals
-
-
-def scheme_performance(fit: ChartFit, shifts: tuple[float, ...]) -> Performance:
-    """ARL of the X-bar chart together with its R chart: the scheme signals when either does."""
-    n = fit.subgroup_size
-    p_range = range_beyond_probability(n)
-    p_mean = mean_beyond_probability(np.asarray(shifts), n)
-    arl = geometric_arl(either_signals(p_mean, p_range))
-    return Performance(
-        method="geometric run length of Shewhart limits (mean and range charts together)",
-        arl_in_control=float(geometric_arl(either_signals(mean_beyond_probability(0.0, n),
-                                                          p_range))),
-        shifts=[ShiftArl(float(s), float(a)) for s, a in zip(shifts, arl, strict=True)],
-        components={
-            "mean": float(geometric_arl(mean_beyond_probability(0.0, n))),
-            "range": float(geometric_arl(p_range)),
-        },
-    )

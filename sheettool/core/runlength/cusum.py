@@ -40,8 +40,13 @@ class OneSidedCusum(MarkovChart):
         upper_edges = (np.arange(self.cells) + 0.5) * self.width
         cdf = stats.norm.cdf((upper_edges[None, :] - self.centres[:, None] + self.k - shift) / sigma_ratio)
         q = np.diff(np.concatenate([np.zeros((self.cells, 1)), cdf], axis=1), axis=1)
+        # a head start between two cell centres: ARL read by linear interpolation between them
+        pos = min(self.head_start / self.width, self.cells - 1.0)
+        low = int(np.floor(pos))
         start = np.zeros(self.cells)
-        start[min(int(round(self.head_start / self.width)), self.cells - 1)] = 1.0
+        start[low] = 1.0 - (pos - low)
+        if low + 1 < self.cells:
+            start[low + 1] = pos - low
         return q, start
 
 
