@@ -46,9 +46,13 @@ def _block_hits(full: np.ndarray, rules: list[Rule], context: int) -> np.ndarray
             hit |= _streak(steps[:, 1:] * steps[:, :-1] < 0)[:, context - 2:] >= rule.m - 2
         else:
             for flag in zone_flags(rule, full):
-                csum = np.concatenate([np.zeros((full.shape[0], 1), dtype=int), np.cumsum(flag, axis=1)], axis=1)
-                ends = np.arange(context, full.shape[1])
-                count = csum[:, ends + 1] - csum[:, ends + 1 - rule.m]
+                if rule.k == 1:
+                    hit |= flag[:, context:]
+                    continue
+                csum = np.cumsum(flag, axis=1, dtype=np.int32)
+                width = full.shape[1]
+                # flagged points among the last m ending at each block position: csum[t] - csum[t - m]
+                count = csum[:, context:] - csum[:, context - rule.m:width - rule.m]
                 hit |= flag[:, context:] & (count >= rule.k)
     return hit
 

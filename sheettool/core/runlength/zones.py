@@ -66,12 +66,9 @@ class ZoneChain(MarkovChart):
         if not zone:
             raise ValueError("the zone chain needs at least one K/M rule")
         self.rules = zone
-        self.cuts = zone_cuts(zone)
         self._cell_probabilities = cell_probabilities or normal_cell_probabilities
         self.in_control = in_control
-        reps = cell_values(self.cuts)
-        counters: list[_Counter] = [(r.k, r.m, f) for r in zone for f in zone_flags(r, reps)]
-        self.next, self.start_state = _minimal_chain(counters, len(reps))
+        self.cuts, self.next, self.start_state = _structure(tuple(zone))
         b = self.next.shape[0]
         rows, cells = np.nonzero(self.next >= 0)
         self._flat = rows * b + self.next[rows, cells]
@@ -107,14 +104,28 @@ def normal_cell_probabilities(cuts: np.ndarray, shift: float, sigma_ratio: float
     return out
 
 
+def cell_of(cuts: np.ndarray, z: np.ndarray) -> np.ndarray:
+    """Cell index of each standardized value: 2i for the interval below cut i, 2i + 1 for cut i itself."""
+    z = np.asarray(z, dtype=float)
+    on = np.isclose(z[:, None], cuts[None, :], rtol=0.0, atol=1e-9)
+    return np.where(on.any(axis=1), 2 * np.argmax(on, axis=1) + 1, 2 * np.searchsorted(cuts, z))
+
+
 def discrete_cell_probabilities(cuts: np.ndarray, z: np.ndarray, pmf: np.ndarray) -> np.ndarray:
     """Cell probabilities of a discrete statistic with standardized support z and masses pmf."""
     out = np.zeros(2 * len(cuts) + 1)
-    on = np.isclose(z[:, None], cuts[None, :], rtol=0.0, atol=1e-9)
-    at_cut = on.any(axis=1)
-    cell = np.where(at_cut, 2 * np.argmax(on, axis=1) + 1, 2 * np.searchsorted(cuts, z))
-    np.add.at(out, cell, pmf)
+    np.add.at(out, cell_of(cuts, z), pmf)
     return out
+
+
+@cache
+def _structure(rules: tuple[Rule, ...]) -> tuple[np.ndarray, np.ndarray, int]:
+    """Cuts, minimal transition table and start state of a rule set (built once per rule set)."""
+    cuts = zone_cuts(list(rules))
+    reps = cell_values(cuts)
+    counters: list[_Counter] = [(r.k, r.m, f) for r in rules for f in zone_flags(r, reps)]
+    nxt, start = _minimal_chain(counters, len(reps))
+    return cuts, nxt, start
 
 
 def _minimal_chain(counters: list[_Counter], cells: int) -> tuple[np.ndarray, int]:
