@@ -20,7 +20,8 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import linalg
+from scipy import linalg, sparse
+from scipy.sparse.linalg import splu
 
 PERCENTILES: tuple[int, ...] = (5, 50, 95)
 _MAX_STEPS = 200_000  # survival is iterated this far at most, then extended geometrically
@@ -41,36 +42,51 @@ class RunLength:
     ci: tuple[float, float] | None = None
 
 
-def zero_state_moments(q: np.ndarray, start: np.ndarray) -> tuple[float, float, np.ndarray]:
+Matrix = np.ndarray | sparse.sparray | sparse.spmatrix
+
+
+def _solver(a: Matrix) -> Callable[[np.ndarray], np.ndarray]:
+    """Factor a once (dense LU, or sparse LU for the sparse zone chains) and return its solve."""
+    if sparse.issparse(a):
+        return splu(sparse.csc_matrix(a)).solve
+    with warnings.catch_warnings():  # a side that almost never signals is ill-conditioned, harmlessly
+        warnings.simplefilter("ignore", linalg.LinAlgWarning)
+        lu = linalg.lu_factor(a, check_finite=False)
+    return lambda b: linalg.lu_solve(lu, b, check_finite=False)
+
+
+def _identity_minus(q: Matrix) -> Matrix:
+    size = q.shape[0]
+    return sparse.identity(size, format="csc") - q if sparse.issparse(q) else np.eye(size) - q
+
+
+def zero_state_moments(q: Matrix, start: np.ndarray) -> tuple[float, float, np.ndarray]:
     """Zero-state ARL, SDRL and the ARL vector mu of every transient state."""
-    a = np.eye(q.shape[0]) - q
-    lu = linalg.lu_factor(a, check_finite=False)
+    solve = _solver(_identity_minus(q))
     ones = np.ones(q.shape[0])
-    mu = linalg.lu_solve(lu, ones, check_finite=False)
-    second = linalg.lu_solve(lu, ones + 2.0 * (q @ mu), check_finite=False)
+    mu = solve(ones)
+    second = solve(ones + 2.0 * (q @ mu))
     arl = float(start @ mu)
     var = float(start @ second) - arl * arl
     return arl, float(np.sqrt(max(var, 0.0))), mu
 
 
-def arl_only(q: np.ndarray, start: np.ndarray) -> float:
+def arl_only(q: Matrix, start: np.ndarray) -> float:
     """Zero-state ARL alone (one linear solve), for fine curves."""
-    with warnings.catch_warnings():  # a side that almost never signals is ill-conditioned, harmlessly
-        warnings.simplefilter("ignore", linalg.LinAlgWarning)
-        return float(start @ linalg.solve(np.eye(q.shape[0]) - q, np.ones(q.shape[0]), check_finite=False))
+    return float(start @ _solver(_identity_minus(q))(np.ones(q.shape[0])))
 
 
-def quasi_stationary(q: np.ndarray) -> np.ndarray:
+def quasi_stationary(q: Matrix) -> np.ndarray:
     """Quasi-stationary distribution of a transient chain: normalized left Perron eigenvector of Q.
 
     Inverse iteration on I - Q: its smallest eigenvalue is 1 - rho (rho the Perron root), so
     v <- v (I - Q)^-1 converges to the Perron vector quickly for the slow-signalling chains of interest.
     """
     size = q.shape[0]
-    lu = linalg.lu_factor((np.eye(size) - q).T, check_finite=False)
+    solve = _solver(_identity_minus(q).T)
     v = np.full(size, 1.0 / size)
     for _ in range(500):
-        new = np.abs(linalg.lu_solve(lu, v, check_finite=False))
+        new = np.abs(solve(v))
         new /= new.sum()
         if np.max(np.abs(new - v)) < 1e-13:
             return new
@@ -118,8 +134,8 @@ class MarkovChart:
 
     method = "Markov chain"
 
-    def transient(self, shift: float, sigma_ratio: float) -> tuple[np.ndarray, np.ndarray]:
-        """The transient transition matrix Q and the zero-state start vector."""
+    def transient(self, shift: float, sigma_ratio: float) -> tuple[Matrix, np.ndarray]:
+        """The transient transition matrix Q (dense or sparse) and the zero-state start vector."""
         raise NotImplementedError
 
     def in_control_chain(self) -> tuple[np.ndarray, np.ndarray]:

@@ -15,7 +15,7 @@ from collections.abc import Callable
 from functools import cache
 
 import numpy as np
-from scipy import stats
+from scipy import sparse, stats
 
 from sheettool.core.rules import Rule, zone_flags
 from sheettool.core.runlength.markov import MarkovChart
@@ -69,10 +69,8 @@ class ZoneChain(MarkovChart):
         self._cell_probabilities = cell_probabilities or normal_cell_probabilities
         self.in_control = in_control
         self.cuts, self.next, self.start_state = _structure(tuple(zone))
-        b = self.next.shape[0]
-        rows, cells = np.nonzero(self.next >= 0)
-        self._flat = rows * b + self.next[rows, cells]
-        self._cells = cells
+        self._rows, self._cells = np.nonzero(self.next >= 0)
+        self._cols = self.next[self._rows, self._cells]
 
     @property
     def states(self) -> int:
@@ -83,15 +81,16 @@ class ZoneChain(MarkovChart):
         """Probability of each cell for one point."""
         return self._cell_probabilities(self.cuts, shift, sigma_ratio)
 
-    def transient(self, shift: float, sigma_ratio: float) -> tuple[np.ndarray, np.ndarray]:
+    def transient(self, shift: float, sigma_ratio: float) -> tuple[sparse.csc_matrix, np.ndarray]:
+        # each state has at most one successor per cell: Q is sparse (duplicates are summed)
         p = self.cell_probabilities(shift, sigma_ratio)
         b = self.states
-        q = np.bincount(self._flat, weights=p[self._cells], minlength=b * b).reshape(b, b)
+        q = sparse.csc_matrix((p[self._cells], (self._rows, self._cols)), shape=(b, b))
         start = np.zeros(b)
         start[self.start_state] = 1.0
         return q, start
 
-    def in_control_chain(self) -> tuple[np.ndarray, np.ndarray]:
+    def in_control_chain(self) -> tuple[sparse.csc_matrix, np.ndarray]:
         return self.transient(*self.in_control)
 
 
