@@ -52,6 +52,8 @@ def test_every_chart_and_the_table(run_cli, chart, extra, words):
     (["--chart", "cusum", "--h", "-1"], "h must"),
     (["--n", "5", "--shift", "0,abc"], "'abc' is not a number"),
     (["--n", "5", "--shift", "0,,1"], "empty entry"),
+    (["--n", "5", "--shift", "1e400"], "finite"),
+    (["--n", "5", "--sigma-ratio", "-1"], "positive"),
     (["--chart", "p", "--n", "50"], "p0"),
     (["--chart", "p", "--n", "50", "--p0", "1.5"], "p0"),
     (["--chart", "xbar"], "--n"),
@@ -72,3 +74,17 @@ def test_evaluate_json_performance_keys(run_cli, demo_copy, tmp_path):
     assert [s["shift"] for s in perf["shifts"]] == [0.0, 0.5, 1.0, 1.5, 2.0, 3.0]
     assert all({"shift", "arl", "ats_hours"} <= set(s) for s in perf["shifts"])
     assert "R chart" in perf["method"]
+
+
+def test_broken_pipe_is_quiet():
+    # `sheettool runlength ... | head -c 10` with output far beyond a pipe buffer: no traceback, exit 0.
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    shifts = ",".join(["3"] * 500)
+    command = (f"'{sys.executable}' -m sheettool runlength --n 5 --shift {shifts} --json | head -c 10; "
+               "exit ${PIPESTATUS[0]}")
+    done = subprocess.run(["bash", "-c", command], capture_output=True, text=True, cwd=Path(__file__).parents[1])
+    assert done.stdout == '{\n  "schem' and "Traceback" not in done.stderr
+    assert done.returncode == 0, done.stderr

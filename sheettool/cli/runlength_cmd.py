@@ -51,7 +51,9 @@ def _number(option: str, text: str | None, positive: bool = False) -> float | No
         value = float(text)
     except ValueError:
         raise UsageError(f"{option}: '{text}' is not a number") from None
-    if not math.isfinite(value) or (positive and value <= 0):
+    if not math.isfinite(value):
+        raise UsageError(f"{option}: must be a finite number, got '{text}'")
+    if positive and value <= 0:
         raise UsageError(f"{option}: must be a positive number, got '{text}'")
     return value
 
