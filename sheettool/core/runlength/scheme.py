@@ -161,7 +161,7 @@ def scheme_run_lengths(scheme: Scheme, conditions: list[tuple[float, float]], fu
         return _from_chain(chart, conditions, full, lambda s: _standard_errors(scheme, s),
                            f"{chart.method}, {len(chart.x)} nodes; asymptotic limits; pattern rules not included")
     if scheme.chart == "cusum":
-        return _cusum(scheme, conditions)
+        return _cusum(scheme, conditions, full)
     if all(r.is_zone for r in rules):
         try:
             chain = _chain(scheme, rules)
@@ -183,14 +183,28 @@ def _from_chain(chart: MarkovChart, conditions: list[tuple[float, float]], full:
     return SchemeResult(method, list(conditions), out)
 
 
-def _cusum(scheme: Scheme, conditions: list[tuple[float, float]]) -> SchemeResult:
-    exact = cusum.combination_is_exact(scheme.k, scheme.h, scheme.head_start)
-    how = "exact here (h <= 2k)" if exact else "an approximation here"
-    method = (f"{cusum.OneSidedCusum.method}, cells doubled with Richardson extrapolation; two-sided by "
-              f"1/ARL = 1/ARL+ + 1/ARL- (Lucas and Crosier 1982), {how}; SDRL and percentiles not computed; "
-              "pattern rules not included")
-    out = [RunLength(arl=cusum.two_sided_arl(scheme.k, scheme.h, _standard_errors(scheme, s), r, scheme.head_start))
-           for s, r in conditions]
+def _cusum(scheme: Scheme, conditions: list[tuple[float, float]], full: bool) -> SchemeResult:
+    if scheme.head_start > 0.0:
+        how = (f"two-sided ARL from the {cusum.TwoSidedCusum.method} with the head start, "
+               "Richardson-extrapolated")
+    else:
+        exact = ("exact here (h <= 2k)" if cusum.combination_is_exact(scheme.k, scheme.h)
+                 else "a close approximation here")
+        how = f"two-sided ARL by 1/ARL = 1/ARL+ + 1/ARL- (Lucas and Crosier 1982), {exact}"
+    method = f"{cusum.OneSidedCusum.method}, cells doubled with Richardson extrapolation; {how}"
+    joint = cusum.TwoSidedCusum(scheme.k, scheme.h, head_start=scheme.head_start) if full else None
+    if joint is not None:
+        method += (f"; SDRL, percentiles and steady state from the {joint.method}, {joint.cells} cells per side "
+                   "(about 3 significant figures)")
+    method += "; pattern rules not included"
+    out = []
+    for s, r in conditions:
+        arl = cusum.two_sided_arl(scheme.k, scheme.h, _standard_errors(scheme, s), r, scheme.head_start)
+        if joint is None:
+            out.append(RunLength(arl=arl))
+            continue
+        rl = joint.run_length(_standard_errors(scheme, s), r)
+        out.append(RunLength(arl=arl, sdrl=rl.sdrl, percentiles=rl.percentiles, steady_state_arl=rl.steady_state_arl))
     return SchemeResult(method, list(conditions), out)
 
 
