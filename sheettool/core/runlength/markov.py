@@ -142,6 +142,12 @@ class MarkovChart:
         """Q and start in control, whose quasi-stationary distribution starts the steady state."""
         return self.transient(0.0, 1.0)
 
+    def steady_start(self) -> np.ndarray:
+        """The conditional steady-state start vector (computed once per chart)."""
+        if getattr(self, "_steady", None) is None:
+            self._steady = quasi_stationary(self.in_control_chain()[0])
+        return self._steady
+
     def arl(self, shift: float, sigma_ratio: float = 1.0) -> float:
         """Zero-state ARL only."""
         return arl_only(*self.transient(shift, sigma_ratio))
@@ -150,8 +156,7 @@ class MarkovChart:
         """Zero-state ARL, SDRL, percentiles and conditional steady-state ARL."""
         q, start = self.transient(shift, sigma_ratio)
         arl, sdrl, mu = zero_state_moments(q, start)
-        q0, _ = self.in_control_chain()
-        steady = float(quasi_stationary(q0) @ mu)
+        steady = float(self.steady_start() @ mu)
         pct = run_length_percentiles(q, start) if percentiles and np.isfinite(arl) else None
         return RunLength(arl=arl, sdrl=sdrl, percentiles=pct, steady_state_arl=steady)
 

@@ -20,16 +20,15 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
 import numpy as np
-from scipy import stats
 
 from sheettool.core.charts import ChartFit
-from sheettool.core.constants import constants, range_cdf
 from sheettool.core.rules import Rule, parse_rules
 from sheettool.core.runlength import cusum
 from sheettool.core.runlength.attributes import CountModel, attribute_chain
 from sheettool.core.runlength.ewma import EwmaChart
 from sheettool.core.runlength.markov import MarkovChart, RunLength, WithCompanion
 from sheettool.core.runlength.montecarlo import normal_sampler, simulate_run_lengths, summarize
+from sheettool.core.runlength.shewhart import geometric_arl, range_beyond_probability, sd_beyond_probability
 from sheettool.core.runlength.zones import MAX_STATES, ZoneChain
 
 if TYPE_CHECKING:
@@ -98,26 +97,13 @@ class SchemeResult:
 
 
 def companion_probability(kind: str, n: int) -> Callable[[float, float], float]:
-    """Per-subgroup probability that the R or S chart (3-sigma limits) signals, given the sigma ratio.
+    """Per-subgroup probability that the R ("range") or S ("sd") chart signals, given the sigma ratio.
 
-    Range: the normal range distribution (Tippett 1925) at D3 d2 and D4 d2; standard deviation:
-    (n - 1) S^2 / sigma^2 is chi-square with n - 1 degrees of freedom, limits B3 c4 and B4 c4.
-    Neither depends on the mean, and both are independent of the subgroup mean (normal data).
+    Neither depends on the mean, and both are independent of the subgroup mean for normal data,
+    which is what lets the companion act as an extra absorption probability per point.
     """
-    c = constants(int(n))
-
-    def p_range(_shift: float, ratio: float) -> float:
-        upper = 1.0 - float(range_cdf(c.D4 * c.d2 / ratio, int(n))[0])
-        lower = float(range_cdf(c.D3 * c.d2 / ratio, int(n))[0]) if c.D3 > 0 else 0.0
-        return upper + lower
-
-    def p_sd(_shift: float, ratio: float) -> float:
-        dof = int(n) - 1
-        upper = float(stats.chi2.sf(dof * (c.B4 * c.c4 / ratio) ** 2, dof))
-        lower = float(stats.chi2.cdf(dof * (c.B3 * c.c4 / ratio) ** 2, dof)) if c.B3 > 0 else 0.0
-        return upper + lower
-
-    return p_range if kind == "range" else p_sd
+    beyond = range_beyond_probability if kind == "range" else sd_beyond_probability
+    return lambda _shift, ratio: beyond(int(n), ratio)
 
 
 def _standard_errors(scheme: Scheme, shift: float) -> float:
@@ -295,7 +281,7 @@ def _components(scheme: Scheme) -> dict[str, float]:
     if not scheme.companion:
         return {}
     p = companion_probability(scheme.companion, int(scheme.n))(0.0, 1.0)
-    out = {scheme.companion: 1.0 / p}
+    out = {scheme.companion: float(geometric_arl(p))}
     if all(r.is_zone for r in scheme.rules):
         out = {"mean": ZoneChain(list(scheme.rules)).arl(0.0), **out}
     return out
