@@ -29,7 +29,7 @@ from sheettool.core.runlength.ewma import EwmaChart
 from sheettool.core.runlength.markov import MarkovChart, RunLength, WithCompanion
 from sheettool.core.runlength.montecarlo import normal_sampler, simulate_run_lengths, summarize
 from sheettool.core.runlength.shewhart import geometric_arl, range_beyond_probability, sd_beyond_probability
-from sheettool.core.runlength.zones import MAX_STATES, ZoneChain
+from sheettool.core.runlength.zones import MAX_STATES, TooManyStates, ZoneChain
 
 if TYPE_CHECKING:
     from sheettool.evaluation import EvaluationOptions, Performance
@@ -38,7 +38,7 @@ VARIABLES = ("xbar", "xbar-r", "xbar-s", "individuals", "i-mr")
 ATTRIBUTES = ("p", "np", "c", "u")
 SCHEME_CHARTS = (*VARIABLES, "ewma", "cusum", *ATTRIBUTES)
 MONTE_CARLO_RUNS = 20_000
-CURVE_RUNS = 2_000
+CURVE_RUNS = 2_000  # simulated runs per point of the fine curve (the tabled shifts use MONTE_CARLO_RUNS)
 SEED = 20_261_202
 CURVE_SHIFTS: tuple[float, ...] = tuple(np.round(np.linspace(0.0, 4.0, 41), 10))
 
@@ -145,21 +145,27 @@ def scheme_run_lengths(scheme: Scheme, conditions: list[tuple[float, float]], fu
         check = ((0.0, 1.0), *[(_standard_errors(scheme, s), r) for s, r in conditions])
         chart = EwmaChart(scheme.lam, scheme.L, check=check)
         return _from_chain(chart, conditions, full, lambda s: _standard_errors(scheme, s),
-                           f"{chart.method}, {len(chart.x)} nodes; asymptotic limits; pattern rules not included")
+                           f"{chart.method}, {len(chart.x)} nodes; asymptotic limits{_rules_left_out(rules)}")
     if scheme.chart == "cusum":
         return _cusum(scheme, conditions, full)
+    why = "trend/alternate rules"
     if all(r.is_zone for r in rules):
         try:
             chain = _chain(scheme, rules)
-        except ValueError as exc:
-            if "chain states" not in str(exc):
-                raise
+        except TooManyStates:
+            why = f"the zone rules need more than {MAX_STATES} chain states"
         else:
             convert = (lambda s: s) if scheme.chart in ATTRIBUTES else (lambda s: _standard_errors(scheme, s))
             count = chain.chart.states if isinstance(chain, WithCompanion) else chain.states
             states = f"{count} state{'s' if count != 1 else ''}"
             return _from_chain(chain, conditions, full, convert, _method_note(scheme, f"{ZoneChain.method}, {states}"))
-    return _monte_carlo(scheme, rules, conditions, runs, seed)
+    return _monte_carlo(scheme, rules, conditions, runs, seed, why)
+
+
+def _rules_left_out(rules: list[Rule]) -> str:
+    """The note for EWMA and CUSUM, whose own limits are the scheme: other rules are not in the figure."""
+    others = [r.text for r in rules if r.text != "1/1>3"]
+    return f"; the rules {', '.join(others)} are not included" if others else ""
 
 
 def _from_chain(chart: MarkovChart, conditions: list[tuple[float, float]], full: bool,
@@ -182,7 +188,7 @@ def _cusum(scheme: Scheme, conditions: list[tuple[float, float]], full: bool) ->
     if joint is not None:
         method += (f"; SDRL, percentiles and steady state from the {joint.method}, {joint.cells} cells per side "
                    "(about 3 significant figures)")
-    method += "; pattern rules not included"
+    method += _rules_left_out(list(scheme.rules))
     out = []
     for s, r in conditions:
         arl = cusum.two_sided_arl(scheme.k, scheme.h, _standard_errors(scheme, s), r, scheme.head_start)
@@ -195,7 +201,7 @@ def _cusum(scheme: Scheme, conditions: list[tuple[float, float]], full: bool) ->
 
 
 def _monte_carlo(scheme: Scheme, rules: list[Rule], conditions: list[tuple[float, float]],
-                 runs: int, seed: int) -> SchemeResult:
+                 runs: int, seed: int, why: str) -> SchemeResult:
     out = []
     companion = companion_probability(scheme.companion, int(scheme.n)) if scheme.companion else None
     for i, (s, r) in enumerate(conditions):
@@ -207,8 +213,6 @@ def _monte_carlo(scheme: Scheme, rules: list[Rule], conditions: list[tuple[float
             sampler = normal_sampler(_standard_errors(scheme, s), r)
         extra = companion(s, r) if companion else 0.0
         out.append(summarize(simulate_run_lengths(rules, sampler, runs, seed + i, extra)))
-    too_many = any(r.is_zone for r in rules) and all(r.is_zone for r in rules)
-    why = f"the zone rules need more than {MAX_STATES} chain states" if too_many else "trend/alternate rules"
     base = f"Monte Carlo, {runs} runs per condition, 95% CI by normal approximation, seed {seed} ({why})"
     return SchemeResult(_method_note(scheme, base), list(conditions), out)
 

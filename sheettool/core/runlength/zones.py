@@ -25,6 +25,10 @@ MAX_STATES = 6000  # beyond this the exact chain is too large; callers fall back
 _Counter = tuple[int, int, np.ndarray]  # K, M, flag per cell
 
 
+class TooManyStates(ValueError):
+    """The exact chain of a rule set would exceed MAX_STATES states."""
+
+
 @cache
 def _prune(ages: tuple[int, ...], k: int, m: int) -> tuple[int, ...]:
     """Drop flagged points that no future window of M points could complete to K flags."""
@@ -144,7 +148,7 @@ def _minimal_chain(counters: list[_Counter], cells: int) -> tuple[np.ndarray, in
                 continue
             if nxt not in index:
                 if len(order) >= MAX_STATES:
-                    raise ValueError(f"the rules need more than {MAX_STATES} chain states")
+                    raise TooManyStates(f"the rules need more than {MAX_STATES} chain states")
                 index[nxt] = len(order)
                 order.append(nxt)
             row.append(index[nxt])
