@@ -20,7 +20,8 @@ def test_presets_expand_in_order_without_repeats():
 
 
 def test_spelling_round_trips():
-    for text in ("1/1>3", "2/3>2", "4/5>1", "8/8>0", "15/15<1", "8/8>>1", "trend 6", "alternate 14", "3/7>2.5"):
+    for text in ("1/1>3", "2/3>2", "4/5>1", "8/8>0", "15/15<1", "8/8>>1", "trend 6", "alternate 14", "3/7>2.5",
+                 "2/3>0.00001"):
         (rule,) = parse_rules(text)
         assert rule.text == text
         assert parse_rules(rule.text) == [rule]

@@ -49,12 +49,12 @@ def test_chain_is_minimal_and_small():
     assert ZoneChain(parse_rules("1/1>3,2/3>2")).states == 7  # empty, and one/two sides with one recent point
 
 
-@pytest.mark.parametrize("shift", [0.0, 1.0])
-def test_monte_carlo_agrees_with_the_chain(shift):
+@pytest.mark.parametrize("shift, ratio", [(0.0, 1.0), (1.0, 1.0), (0.0, 1.5)])
+def test_monte_carlo_agrees_with_the_chain(shift, ratio):
     # Independent check: vectorized simulation of the same rules (numpy, seeded), within 3.5 standard errors.
     rules = parse_rules("zones,15/15<1,8/8>>1")
-    exact = ZoneChain(rules).run_length(shift)
-    sim = simulate_run_lengths(rules, normal_sampler(shift, 1.0), 8_000, seed=5)
+    exact = ZoneChain(rules).run_length(shift, ratio)
+    sim = simulate_run_lengths(rules, normal_sampler(shift, ratio), 8_000, seed=5)
     mc = summarize(sim)
     se = mc.sdrl / np.sqrt(len(sim))
     assert abs(mc.arl - exact.arl) < 3.5 * se

@@ -42,7 +42,7 @@ class Rule:
         if self.kind == "trend" or self.kind == "alternate":
             return f"{self.kind} {self.m}"
         op = {"same_side": ">", "within": "<", "either_side": ">>"}[self.kind]
-        return f"{self.k}/{self.m}{op}{self.z:g}"
+        return f"{self.k}/{self.m}{op}{_decimal(self.z)}"
 
     @property
     def words(self) -> str:
@@ -51,7 +51,7 @@ class Rule:
             return f"{self.m} points in a row each higher than the one before, or each lower"
         if self.kind == "alternate":
             return f"{self.m} points in a row alternating up and down"
-        z = f"{self.z:g} standard error{'s' if self.z != 1 else ''}"
+        z = f"{_decimal(self.z)} standard error{'s' if self.z != 1 else ''}"
         if self.k == self.m == 1 and self.kind == "same_side":
             return f"a point more than {z} from the center line"
         lead = f"{self.k} of the last {self.m} points" if self.k < self.m else f"{self.m} points in a row"
@@ -67,6 +67,11 @@ class Rule:
     def is_zone(self) -> bool:
         """True for the K/M forms, whose run length has an exact Markov chain."""
         return self.kind in ("same_side", "within", "either_side")
+
+
+def _decimal(value: float) -> str:
+    """A number as plain decimals (never exponent notation), so the spelling parses back."""
+    return np.format_float_positional(value, trim="-")
 
 
 def parse_rules(text: str) -> list[Rule]:
