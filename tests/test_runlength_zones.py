@@ -82,3 +82,8 @@ def test_steady_state_against_simulation():
 def test_too_many_states_is_refused():
     with pytest.raises(ValueError, match="chain states"):
         ZoneChain(parse_rules("9/60>1,9/60>0.5"))
+
+
+def test_trend_rules_have_no_exact_chain():
+    with pytest.raises(ValueError, match="simulated"):
+        ZoneChain(parse_rules("all"))

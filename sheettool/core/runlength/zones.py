@@ -66,9 +66,9 @@ class ZoneChain(MarkovChart):
     def __init__(self, rules: list[Rule],
                  cell_probabilities: Callable[[np.ndarray, float, float], np.ndarray] | None = None,
                  in_control: tuple[float, float] = (0.0, 1.0)) -> None:
-        zone = [r for r in rules if r.is_zone]
-        if not zone:
-            raise ValueError("the zone chain needs at least one K/M rule")
+        zone = list(rules)
+        if not zone or not all(r.is_zone for r in zone):
+            raise ValueError("the exact chain takes K/M rules only; trend and alternate rules are simulated")
         self.rules = zone
         self._cell_probabilities = cell_probabilities or normal_cell_probabilities
         self.in_control = in_control
