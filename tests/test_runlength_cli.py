@@ -57,6 +57,7 @@ def test_every_chart_and_the_table(run_cli, chart, extra, words):
     (["--chart", "p", "--n", "50"], "p0"),
     (["--chart", "p", "--n", "50", "--p0", "1.5"], "p0"),
     (["--chart", "xbar"], "--n"),
+    (["--chart", "individuals", "--n", "5"], "single readings"),
     (["--chart", "c", "--c0", "4", "--shift", "-1"], "rate"),
 ])
 def test_bad_parameters(run_cli, args, words):

@@ -72,6 +72,8 @@ def _scheme(args: argparse.Namespace) -> Scheme:
     except ValueError as exc:
         raise UsageError(f"--rules: {exc}") from None
     n = _number("--n", args.n, positive=True)
+    if chart == "individuals" and n not in (None, 1.0):
+        raise UsageError("--n: an individuals chart plots single readings; leave --n out or use --chart xbar")
     if n is None:
         if chart in ("xbar", "xbar-r", "xbar-s", "p", "np", "u"):
             raise UsageError(f"--n: needed for the {args.chart} chart (readings or units per subgroup)")
