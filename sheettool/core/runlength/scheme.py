@@ -246,7 +246,7 @@ def performance_of(fit: ChartFit, rules: list[Rule], options: EvaluationOptions)
     from sheettool.evaluation import Performance, ShiftArl  # the result types live with the evaluation
 
     scheme = scheme_of(fit, rules)
-    shifts = [0.0, *[float(s) for s in options.shifts if float(s) != 0.0]]
+    shifts = [0.0, *dict.fromkeys(float(s) for s in options.shifts if float(s) != 0.0)]
     attribute = scheme.chart in ATTRIBUTES
 
     def condition(shift: float) -> tuple[float, float]:
@@ -265,11 +265,10 @@ def performance_of(fit: ChartFit, rules: list[Rule], options: EvaluationOptions)
     arl0 = rows[0].arl
     per_month = (options.hours_per_month / (interval * arl0)
                  if interval and options.hours_per_month and np.isfinite(arl0) else None)
-    wanted = {float(s) for s in options.shifts}
     return Performance(
         method=result.method,
         arl_in_control=arl0,
-        shifts=[r for r in rows if r.shift in wanted],
+        shifts=[next(r for r in rows if r.shift == float(s)) for s in options.shifts],
         components=_components(scheme),
         interval_hours=interval,
         false_alarms_per_month=per_month,
