@@ -16,12 +16,7 @@ from sheettool.core.charts.variables import within_sigma
 from sheettool.core.data import Characteristic, Counts, Measurements
 from sheettool.core.limits import fit_limits
 from sheettool.core.rules import Rule, find_hits, parse_rules
-from sheettool.core.runlength.shewhart import (
-    either_signals,
-    geometric_arl,
-    mean_beyond_probability,
-    range_beyond_probability,
-)
+from sheettool.core.runlength.scheme import performance_of
 from sheettool.problems import Problem
 from sheettool.settings import Setting
 from sheettool.workbook.limits_block import carried_parameters
@@ -43,11 +38,19 @@ class Signal:
 
 @dataclass(frozen=True)
 class ShiftArl:
-    """ARL after a mean shift of `shift` process standard deviations; ATS where the interval is known."""
+    """ARL after a mean shift of `shift` process standard deviations; ATS where the interval is known.
+
+    For attribute charts `shift` is in standard errors of the plotted rate and `rate` is the rate itself.
+    """
 
     shift: float
     arl: float
     ats_hours: float | None = None
+    sdrl: float | None = None
+    percentiles: dict[int, float] | None = None  # 5th, 50th and 95th percentile of the run length
+    steady_state_arl: float | None = None  # conditional steady state (see core/runlength/markov.py)
+    ci: tuple[float, float] | None = None  # 95% interval of the ARL where it is simulated
+    rate: float | None = None
 
 
 @dataclass
@@ -61,6 +64,9 @@ class Performance:
     interval_hours: float | None = None
     false_alarms_per_month: float | None = None
     curve: list[ShiftArl] = field(default_factory=list)  # ARL over a fine grid, for the performance tab
+    shift_unit: str = "process standard deviations"
+    sdrl_in_control: float | None = None
+    steady_state_arl_in_control: float | None = None
 
 
 @dataclass
@@ -202,7 +208,7 @@ def evaluate(characteristic: Characteristic, sheet: str,
         fit=fit,
         rules=rules,
         signals=signals,
-        performance=scheme_performance(fit, options.shifts) if fit.chart == "xbar-r" else interim_performance(fit),
+        performance=performance_of(fit, rules, options),
         capability=capability,
         problems=problems,
     )
@@ -243,32 +249,3 @@ def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Si
             ))
     signals.sort(key=lambda s: (s.subgroup, s.statistic))
     return signals
-
-
-def scheme_performance(fit: ChartFit, shifts: tuple[float, ...]) -> Performance:
-    """ARL of the X-bar chart together with its R chart: the scheme signals when either does."""
-    n = fit.subgroup_size
-    p_range = range_beyond_probability(n)
-    p_mean = mean_beyond_probability(np.asarray(shifts), n)
-    arl = geometric_arl(either_signals(p_mean, p_range))
-    return Performance(
-        method="geometric run length of Shewhart limits (mean and range charts together)",
-        arl_in_control=float(geometric_arl(either_signals(mean_beyond_probability(0.0, n),
-                                                          p_range))),
-        shifts=[ShiftArl(float(s), float(a)) for s, a in zip(shifts, arl, strict=True)],
-        components={
-            "mean": float(geometric_arl(mean_beyond_probability(0.0, n))),
-            "range": float(geometric_arl(p_range)),
-        },
-    )
-
-
-def interim_performance(fit: ChartFit) -> Performance:
-    """In-control ARL for kinds the run-length engine does not know yet: each plotted statistic of
-    a Shewhart chart beyond 3 sigma with p = 0.0027, independently (normal approximation)."""
-    if CHART_KINDS[fit.chart].time_weighted:
-        return Performance(method="not computed for this chart kind yet", arl_in_control=float("nan"), shifts=[])
-    p = mean_beyond_probability(0.0)
-    return Performance(method="approximate: each plotted statistic signals beyond 3 sigma with p = 0.0027, "
-                              "independently (geometric run length)",
-                       arl_in_control=float(geometric_arl(either_signals(*[p] * len(fit.statistics)))), shifts=[])

@@ -12,7 +12,7 @@ import numpy as np
 from sheettool import TOOL_NAME, __version__
 from sheettool.core.capability import AttributeRate, Capability
 from sheettool.core.charts import PlottedStatistic
-from sheettool.evaluation import CharacteristicResult
+from sheettool.evaluation import CharacteristicResult, Performance
 from sheettool.problems import Problem
 
 
@@ -68,6 +68,36 @@ def capability_json(cap: Capability | AttributeRate | None) -> dict[str, Any] | 
         "notes": list(cap.notes),
     })
     return out
+def run_length_json(arl: float, sdrl: float | None, percentiles: dict[int, float] | None,
+                    steady_state_arl: float | None, ci: tuple[float, float] | None) -> dict[str, Any]:
+    """The run-length figures of one condition; null where a method does not give one."""
+    return {
+        "arl": _number(arl),
+        "sdrl": _optional(sdrl),
+        "percentiles": {str(k): _optional(v) for k, v in percentiles.items()} if percentiles else None,
+        "steady_state_arl": _optional(steady_state_arl),
+        "arl_ci95": [_number(ci[0]), _number(ci[1])] if ci else None,
+    }
+
+
+def performance_json(perf: Performance) -> dict[str, Any]:
+    """The scheme's performance: method, in-control ARL, false alarms and the ARL at each shift."""
+    shifts = []
+    for s in perf.shifts:
+        item: dict[str, Any] = {"shift": s.shift}
+        item.update(run_length_json(s.arl, s.sdrl, s.percentiles, s.steady_state_arl, s.ci))
+        item["ats_hours"] = _optional(s.ats_hours)
+        if s.rate is not None:
+            item["rate"] = s.rate
+        shifts.append(item)
+    return {
+        "method": perf.method,
+        "arl_in_control": _number(perf.arl_in_control),
+        "shift_unit": perf.shift_unit,
+        "interval_hours": perf.interval_hours,
+        "false_alarms_per_month": _optional(perf.false_alarms_per_month),
+        "shifts": shifts,
+    }
 
 
 def characteristic_json(result: CharacteristicResult) -> dict[str, Any]:
@@ -86,11 +116,7 @@ def characteristic_json(result: CharacteristicResult) -> dict[str, Any]:
         "base_subgroups": [int(i) + 1 for i in np.flatnonzero(fit.base)],
         "removed": list(fit.removed),
         "capability": capability_json(result.capability),
-        "performance": {
-            "method": perf.method,
-            "arl_in_control": _number(perf.arl_in_control),
-            "shifts": [{"shift": s.shift, "arl": _number(s.arl)} for s in perf.shifts],
-        },
+        "performance": performance_json(perf),
     }
 
 
