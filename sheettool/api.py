@@ -6,9 +6,11 @@ import hashlib
 from pathlib import Path
 
 from sheettool.errors import InputError
-from sheettool.evaluation import EvaluationOptions, evaluate
+from sheettool.evaluation import evaluate
+from sheettool.options import options_for
 from sheettool.problems import Problem
 from sheettool.report import EvaluationReport
+from sheettool.settings import Setting
 from sheettool.workbook.reader import read_workbook
 from sheettool.workbook.writer import write_evaluated_workbook
 
@@ -30,10 +32,16 @@ def file_digest(path: Path) -> tuple[str, int]:
 
 
 def evaluate_file(input_path: Path, output: Path | None = None,
-                  options: EvaluationOptions | None = None, write: bool = True) -> EvaluationReport:
-    """Read a workbook, evaluate every characteristic in it and write the evaluated workbook."""
+                  settings: dict[str, Setting] | None = None, write: bool = True) -> EvaluationReport:
+    """Read a workbook, evaluate every characteristic in it and write the evaluated workbook.
+
+    `settings` (e.g. from the command line) override the workbook's own; each sheet gets its own
+    options from its settings sheet section and labelled cells. A sheet whose settings or data
+    cannot be evaluated is a problem; the others go on.
+    """
     input_path = Path(input_path)
-    read = read_workbook(input_path)
+    settings = settings or {}
+    read = read_workbook(input_path, settings)
     try:
         sha, size = file_digest(input_path)
     except OSError as exc:
@@ -41,7 +49,10 @@ def evaluate_file(input_path: Path, output: Path | None = None,
     results, reads, problems = [], [], list(read.problems)
     for sheet in read.sheets:
         try:
-            results.append(evaluate(sheet.characteristic, sheet.sheet, options))
+            options, used = options_for(sheet, read.settings, settings)
+            result = evaluate(sheet.characteristic, sheet.sheet, options)
+            result.settings = used
+            results.append(result)
             reads.append(sheet)
         except ValueError as exc:
             problems.append(Problem("error", f"{input_path.name}, sheet '{sheet.sheet}'", str(exc)))
@@ -50,7 +61,8 @@ def evaluate_file(input_path: Path, output: Path | None = None,
         raise InputError(f"{input_path}: nothing could be evaluated ({detail})")
     out = Path(output) if output else default_output(input_path)
     report = EvaluationReport(input=input_path, input_sha256=sha, input_size=size,
-                              output=out if write else None, characteristics=results, problems=problems)
+                              output=out if write else None, characteristics=results, problems=problems,
+                              reads=reads)
     if write:
         write_evaluated_workbook(report, reads, out)
     return report

@@ -1,0 +1,397 @@
+"""Find a sheet's header, its data rows and the meaning of each column; build the Characteristic.
+
+Header: among the rows holding text and no number, the one with the most numbers below it under
+its text cells (ties go to the lower row, nearest the data); a row of units ("mm", "(µm)") right
+under the header is recognised as such. Column meaning comes from the cells (numbers, dates, text)
+and the header words; the layout from the columns: a count column and an inspected column make
+attribute counts, two or more measurement columns subgroups across, one measurement column with a
+repeating key (lot, sample, date) readings down, otherwise individuals.
+"""
+
+from __future__ import annotations
+
+import itertools
+import re
+
+import numpy as np
+from openpyxl.utils import get_column_letter
+
+from sheettool.core.data import Characteristic, Counts, Measurements
+from sheettool.errors import InputError
+from sheettool.options import merge
+from sheettool.problems import Problem
+from sheettool.settings import Setting
+from sheettool.workbook.reader.cells import (
+    BLANK,
+    DATE,
+    NUMBER,
+    TEXT,
+    address,
+    date_of,
+    kind_of,
+    number_of,
+    text_of,
+    time_of,
+)
+from sheettool.workbook.reader.labels import labelled_settings
+from sheettool.workbook.reader.model import SheetRead
+from sheettool.workbook.reader.opening import RawSheet
+
+MIN_READINGS = 2  # a subgroup with fewer readings (where subgroups are larger) stays out of the limits
+MIN_SUBGROUPS = 2  # fewer subgroups cannot set limits; 20 or more are common practice
+EXCLUDE_WORDS = re.compile(r"\b(exclude[ds]?|excluding|ignore[ds]?|omit(?:s|ted)?|discard(?:s|ed)?|"
+                           r"do not use|don'?t use)\b", re.IGNORECASE)
+_NOTE = re.compile(r"\b(notes?|comments?|remarks?|observations?)\b", re.IGNORECASE)
+_DEFECTS = re.compile(r"\b(defects?|defect count|nonconformit(?:y|ies)|faults?|flaws?|blemish(?:es)?)\b", re.I)
+_DEFECTIVES = re.compile(r"\b(defectives?|rejects?|rejected|fail(?:s|ed|ures?)?|nonconforming|non-conforming|"
+                         r"scrap(?:ped)?|bad|nok)\b", re.IGNORECASE)
+_INSPECTED = re.compile(r"\b(inspected|tested|checked|examined|sample size|units|quantity|qty|lot size|"
+                        r"produced|n)\b", re.IGNORECASE)
+_KEY = re.compile(r"(\b(subgroup|sample|lot|batch|point|shift|serial|id|no|nr|number|index|group|order)\b|#)",
+                  re.IGNORECASE)
+_OPERATOR = re.compile(r"\b(operator|inspector|setter|checked by|by|initials|name)\b", re.IGNORECASE)
+_TIME = re.compile(r"\b(time|hour|clock)\b", re.IGNORECASE)
+_UNIT = re.compile(r"^[(\[]?\s*(mm|µm|μm|um|cm|m|in|inch|inches|thou|mil|g|kg|mg|n|kn|nm|n·m|°c|°f|c|f|%|"
+                   r"bar|mbar|psi|pa|kpa|mpa|s|ms|min|h|v|mv|a|ma|ohm|ω|ra|rz|deg|°|mm/s|l|ml|units?)\s*[)\]]?$",
+                   re.IGNORECASE)
+_UNIT_IN_HEADER = re.compile(r"[(\[]\s*([^()\[\]]{1,8}?)\s*[)\]]\s*$")
+_MAX_MERGE_CELLS = 100_000
+
+
+def _fill_merged(raw: RawSheet) -> None:
+    """Give every cell of a merged range the value of its top-left cell (headers spanning columns)."""
+    rows = raw.rows
+    for r1, c1, r2, c2 in raw.merged:
+        if r1 > len(rows) or (r2 - r1 + 1) * (c2 - c1 + 1) > _MAX_MERGE_CELLS:
+            continue
+        first = rows[r1 - 1]
+        value = first[c1 - 1] if c1 - 1 < len(first) else None
+        if value is None:
+            continue
+        for r in range(r1 - 1, min(r2, len(rows))):
+            row = rows[r]
+            if len(row) < c2:
+                row.extend([None] * (c2 - len(row)))
+            for c in range(c1 - 1, c2):
+                if row[c] is None:
+                    row[c] = value
+
+
+def _kinds(rows: list[list[object]], width: int) -> np.ndarray:
+    matrix = np.zeros((len(rows), width), dtype=np.int8)
+    for i, row in enumerate(rows):
+        if row:
+            matrix[i, :len(row)] = [kind_of(v) for v in row]
+    return matrix
+
+
+def _header(kinds: np.ndarray, rows: list[list[object]]) -> tuple[int | None, int | None]:
+    """(header index, units-row index) 0-based, by the rule in the module docstring."""
+    text, number = kinds == TEXT, kinds == NUMBER
+    below = np.cumsum(number[::-1], axis=0)[::-1]  # numbers at or below each cell
+    below = np.vstack([below[1:], np.zeros((1, kinds.shape[1]), dtype=below.dtype)])
+    score = np.where(text.any(axis=1) & ~number.any(axis=1), (text * below).sum(axis=1), 0)
+    if score.size == 0 or score.max() == 0:
+        return None, None
+    best = int(np.flatnonzero(score == score.max())[-1])
+    cells = [str(v).strip() for v in rows[best] if isinstance(v, str) and v.strip()]
+    above = best - 1
+    while above >= 0 and not kinds[above].any():
+        above -= 1
+    if cells and all(_UNIT.match(c) for c in cells) and above >= 0 and score[above] > 0:
+        return above, best
+    return best, None
+
+
+def _names(rows: list[list[object]], header: int | None, width: int) -> list[str]:
+    if header is None:
+        return [""] * width
+    row = rows[header]
+    return [text_of(row[c]) if c < len(row) else "" for c in range(width)]
+
+
+def _role(name: str, counts: np.ndarray, values: list[object]) -> str:
+    """The meaning of one column from its header words and cell kinds (counts by kind)."""
+    _blank, num, date, text = (int(x) for x in counts)
+    filled = num + date + text
+    if filled == 0:
+        return "empty"
+    if _NOTE.search(name):
+        return "note"
+    if date > 0 and date >= num and date >= text:
+        return "time" if _TIME.search(name) and not re.search(r"date|day", name, re.I) else "date"
+    if num > 0 and num >= text:
+        whole = all(float(x).is_integer() for x in (number_of(v) for v in values) if x is not None)
+        if _DEFECTS.search(name):
+            return "defects"
+        if _DEFECTIVES.search(name):
+            return "defectives"
+        if _INSPECTED.search(name) and whole:
+            return "inspected"
+        if _KEY.search(name) and whole and not re.search(r"\d\s*$", name):
+            return "key"
+        return "measurement"
+    if _OPERATOR.search(name):
+        return "operator"
+    if _KEY.search(name):
+        return "key"
+    return "text"
+
+
+def _unit(names: list[str], rows: list[list[object]], units_row: int | None, columns: list[int]) -> str:
+    if units_row is not None:
+        row = rows[units_row]
+        for c in columns:
+            if c < len(row) and isinstance(row[c], str) and row[c].strip():
+                return row[c].strip().strip("()[]").strip()
+    for c in columns:
+        if m := _UNIT_IN_HEADER.search(names[c]):
+            return m.group(1)
+    return ""
+
+
+def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dict[str, Setting]) -> SheetRead:
+    """Read one sheet. The settings sheet's and the command line's settings are given for the two
+    the reader itself needs (unit, subgroup size), beside the sheet's labelled cells found here."""
+    _fill_merged(raw)
+    rows, title = raw.rows, raw.title
+    width = max((len(r) for r in rows), default=0)
+    if width == 0:
+        raise InputError("the sheet is empty")
+    kinds = _kinds(rows, width)
+    header, units_row = _header(kinds, rows)
+    start = (units_row if units_row is not None else header if header is not None else -1) + 1
+    labelled = labelled_settings(title, rows, header if header is not None else 0)
+    try:
+        resolved = merge(*[{k: s for k, s in layer.items() if k in ("unit", "subgroup_size")}
+                           for layer in (workbook_layer, labelled, cli_layer)])
+    except ValueError as exc:
+        raise InputError(str(exc)) from None
+    region = kinds[start:]
+    has_number = (region == NUMBER).any(axis=1)
+    if not has_number.any():
+        raise InputError("no numeric data on this sheet")
+    end = start + int(np.flatnonzero(has_number)[-1]) + 1
+    region = kinds[start:end]
+    filled = region.any(axis=1)
+    data_idx = [start + int(i) for i in np.flatnonzero(filled)]
+    names = _names(rows, header, width)
+    counts = np.stack([(region[filled] == k).sum(axis=0) for k in (BLANK, NUMBER, DATE, TEXT)], axis=1)
+    roles = [_role(names[c], counts[c], [rows[i][c] if c < len(rows[i]) else None for i in data_idx[:200]])
+             for c in range(width)]
+    if not any(r in ("defectives", "defects") for r in roles):  # "n", "units" alone are no count layout
+        roles = ["measurement" if r == "inspected" else r for r in roles]
+    return _build(raw, rows, kinds, names, roles, header, units_row, data_idx, int(len(region) - filled.sum()),
+                  labelled, resolved)
+
+
+def _column(rows: list[list[object]], idx: list[int], c: int) -> list[object]:
+    return [rows[i][c] if c < len(rows[i]) else None for i in idx]
+
+
+def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, names: list[str], roles: list[str],
+           header: int | None, units_row: int | None, data_idx: list[int], blank_rows: int,
+           labelled: dict[str, Setting], resolved: dict[str, Setting]) -> SheetRead:
+    title = raw.title
+    width = len(roles)
+    measure = [c for c in range(width) if roles[c] == "measurement"]
+    count_col = next((c for c in range(width) if roles[c] in ("defectives", "defects")), None)
+    inspected_col = next((c for c in range(width) if roles[c] == "inspected"), None)
+    note_col = next((c for c in range(width) if roles[c] == "note"), None)
+    key_col = next((c for c in range(width) if roles[c] == "key"), None)
+    date_col = next((c for c in range(width) if roles[c] == "date"), None)
+    time_col = next((c for c in range(width) if roles[c] == "time"), None)
+    problems: list[Problem] = []
+    where = f"sheet '{title}'"
+
+    # Measurement (or count) cells: numbers, blanks and cells that are not numbers.
+    value_cols = [count_col] + ([inspected_col] if inspected_col is not None else []) if count_col is not None \
+        else measure
+    if not value_cols:
+        raise InputError("no column of measurements found under the header")
+    sub = kinds[data_idx][:, value_cols] if data_idx else np.zeros((0, len(value_cols)), dtype=np.int8)
+    values = np.full(sub.shape, np.nan)
+    for j, c in enumerate(value_cols):
+        col = _column(rows, data_idx, c)
+        numbers = [number_of(v) for v in col]
+        values[:, j] = [np.nan if x is None else x for x in numbers]
+    junk = np.argwhere((sub == TEXT) | (sub == DATE))
+    not_numbers = [address(title, data_idx[i] + 1, value_cols[j] + 1) for i, j in junk]
+    has_reading = ~np.all(np.isnan(values), axis=1)
+    keep = [i for i, k in zip(data_idx, has_reading, strict=True) if k]
+    values = values[has_reading]
+    blanks = int(((sub == BLANK) & has_reading[:, None]).sum())
+    if not_numbers:
+        shown = ", ".join(not_numbers[:10]) + (f" and {len(not_numbers) - 10} more" if len(not_numbers) > 10 else "")
+        problems.append(Problem("warning", where, f"{len(not_numbers)} cell(s) are not numbers and were treated "
+                                f"as missing: {shown}"))
+    if not keep:
+        raise InputError("no readings found in the measurement columns")
+
+    notes = [text_of(v) for v in _column(rows, keep, note_col)] if note_col is not None else [""] * len(keep)
+    dates = _dates(rows, keep, date_col, time_col)
+    keys = [text_of(v) for v in _column(rows, keep, key_col)] if key_col is not None else None
+    subgroup_size = resolved.get("subgroup_size")
+    layout = ("attribute counts" if count_col is not None else "subgroups across" if len(measure) > 1
+              else "readings down" if _repeats(keys) or _repeats_dates(dates) or subgroup_size is not None
+              else "individuals")
+    sheet_rows = [tuple(_clean(rows[i], width, value_cols)) for i in keep]
+    header_out = names[:]
+    if layout == "attribute counts":
+        counts_kind = roles[count_col]
+        inspected = values[:, 1] if inspected_col is not None else np.ones(len(keep))
+        if inspected_col is None and counts_kind == "defectives":
+            raise InputError(f"column {get_column_letter(count_col + 1)} counts defectives but no column gives "
+                             "the number inspected; add one headed 'inspected'")
+        if inspected_col is None:
+            problems.append(Problem("note", where, "no column of units inspected: each row counts as one unit"))
+        data: Measurements | Counts = Counts(values[:, 0], inspected, kind=counts_kind)
+        readings = len(keep)
+        labels = _labels(keys, dates)
+    elif layout == "readings down":
+        groups = _groups(keys, dates, subgroup_size, len(keep))
+        size = max(len(g) for g in groups)
+        matrix = np.full((len(groups), size), np.nan)
+        for g, members in enumerate(groups):
+            matrix[g, :len(members)] = values[members, 0]
+        data = Measurements(matrix)
+        readings = int(np.sum(~np.isnan(matrix)))
+        first_labels = keys or _date_labels(dates, len(keep))
+        labels = [first_labels[g[0]] if keys or any(dates) else str(n + 1) for n, g in enumerate(groups)]
+        notes = ["; ".join(dict.fromkeys(notes[i] for i in g if notes[i])) for g in groups]
+        dates = [dates[g[0]] for g in groups]
+        sheet_rows = [(labels[n], *matrix[n], notes[n]) for n in range(len(groups))]
+        lead = names[key_col] if key_col is not None else names[date_col] if date_col is not None else "Subgroup"
+        header_out = [lead or "Subgroup", *[f"{names[measure[0]] or 'Reading'} {j + 1}" for j in range(size)], "Note"]
+        keep = [g[0] for g in groups]  # rows where each subgroup starts
+    else:
+        data = Measurements(values)
+        readings = int(np.sum(~np.isnan(values)))
+        labels = _labels(keys, dates)
+    if data.subgroups < MIN_SUBGROUPS:
+        raise InputError(f"only one subgroup (row {keep[0] + 1}); control limits need at least {MIN_SUBGROUPS} "
+                         "subgroups, and 20 or more are usual for trustworthy limits")
+    excluded = np.array([bool(EXCLUDE_WORDS.search(n)) for n in notes])
+    short = 0
+    if isinstance(data, Measurements) and data.values.shape[1] >= MIN_READINGS:
+        sizes = data.sizes
+        short = int(np.sum(sizes < data.values.shape[1]))
+        few = sizes < MIN_READINGS
+        for i in np.flatnonzero(few & ~excluded):
+            notes[i] = "; ".join(x for x in (notes[i], f"only {sizes[i]} reading: kept out of the limits") if x)
+        excluded |= few
+        if short:
+            problems.append(Problem("note", where, f"{short} subgroup(s) have fewer than {data.values.shape[1]} "
+                                    f"readings: plotted with their real size; those with fewer than {MIN_READINGS} "
+                                    "readings are kept out of the limits"))
+    if excluded.any():
+        shown = ", ".join(labels[i] for i in np.flatnonzero(excluded)[:10])
+        problems.append(Problem("note", where, f"{int(excluded.sum())} subgroup(s) kept out of the limits by their "
+                                f"note or size (still plotted): {shown}"))
+    if data.subgroups < 20:
+        problems.append(Problem("note", where, f"only {data.subgroups} subgroups: 20 or more are usual before "
+                                "limits are trusted"))
+    columns = _columns_meaning(names, roles, layout)
+    used = sorted({c for c, r in enumerate(roles) if r not in ("empty", "text")})
+    hidden_columns = [get_column_letter(c + 1) for c in used if c + 1 in raw.hidden_columns]
+    first, last = data_idx[0] + 1, data_idx[-1] + 1
+    hidden_rows = sorted(r for r in raw.hidden_rows if first <= r <= last)
+    if hidden_rows or hidden_columns:
+        problems.append(Problem("note", where, "hidden cells were read like the others: "
+                                + "; ".join(x for x in (f"rows {_ranges(hidden_rows)}" if hidden_rows else "",
+                                                        f"columns {', '.join(hidden_columns)}" if hidden_columns
+                                                        else "") if x)))
+    if raw.uncached:
+        shown = ", ".join(raw.uncached[:10]) + (f" and {len(raw.uncached) - 10} more" if len(raw.uncached) > 10 else "")
+        problems.append(Problem("warning", where, f"{len(raw.uncached)} formula cell(s) have no saved value (the file "
+                                f"was written by a program that does not calculate): {shown}; open and save the "
+                                "file in a spreadsheet application to store the values"))
+    unit = resolved["unit"].value if "unit" in resolved else _unit(names, rows, units_row,
+                                                                     value_cols if count_col is None else [])
+    characteristic = Characteristic(name=title, data=data, labels=labels, unit=str(unit), excluded=excluded,
+                                    notes=notes, dates=dates)
+    return SheetRead(
+        sheet=title, characteristic=characteristic, header_row=header + 1 if header is not None else 0,
+        first_row=first, last_row=last, columns=columns, header=header_out, rows=sheet_rows, layout=layout,
+        settings=labelled, readings=readings, blanks=blanks, blank_rows=blank_rows, not_numbers=not_numbers,
+        hidden_rows=hidden_rows, hidden_columns=hidden_columns, short_subgroups=short,
+        units_row=units_row + 1 if units_row is not None else 0, formulas_without_value=list(raw.uncached),
+        problems=problems,
+    )
+
+
+def _clean(row: list[object], width: int, value_cols: list[int]) -> list[object]:
+    """A data row padded to the width, numbers typed as text turned into numbers."""
+    out = list(row) + [None] * (width - len(row))
+    for c in value_cols:
+        number = number_of(out[c])
+        if number is not None:
+            out[c] = number
+    return out
+
+
+def _repeats(keys: list[str] | None) -> bool:
+    return bool(keys) and any(a == b and a for a, b in itertools.pairwise(keys))
+
+
+def _repeats_dates(dates: list) -> bool:
+    return any(a is not None and a == b for a, b in itertools.pairwise(dates))
+
+
+def _groups(keys: list[str] | None, dates: list, size: Setting | None, m: int) -> list[list[int]]:
+    """Consecutive rows with the same key (or date) form a subgroup; else blocks of the subgroup size."""
+    if _repeats(keys) or _repeats_dates(dates):
+        marks = keys if _repeats(keys) else dates
+        groups: list[list[int]] = []
+        for i in range(m):
+            if groups and marks[i] == marks[groups[-1][0]]:
+                groups[-1].append(i)
+            else:
+                groups.append([i])
+        return groups
+    n = int(size.value) if size is not None else 1
+    return [list(range(i, min(i + n, m))) for i in range(0, m, n)]
+
+
+def _dates(rows: list[list[object]], idx: list[int], date_col: int | None, time_col: int | None) -> list:
+    if date_col is None:
+        return [None] * len(idx)
+    dates = [date_of(v) for v in _column(rows, idx, date_col)]
+    if time_col is not None:
+        for n, t in enumerate(time_of(v) for v in _column(rows, idx, time_col)):
+            if dates[n] is not None and t is not None:
+                dates[n] = dates[n].replace(hour=t.hour, minute=t.minute)
+    return dates
+
+
+def _labels(keys: list[str] | None, dates: list) -> list[str]:
+    """Subgroup labels: the key column where its values tell subgroups apart, else dates, else 1, 2, ..."""
+    if keys and len(set(keys)) == len(keys):
+        return keys
+    return _date_labels(dates, len(dates))
+
+
+def _date_labels(dates: list, m: int) -> list[str]:
+    if any(d is not None for d in dates):
+        return [text_of(d) if d is not None else str(i + 1) for i, d in enumerate(dates)]
+    return [str(i + 1) for i in range(m)]
+
+
+def _columns_meaning(names: list[str], roles: list[str], layout: str) -> dict[str, str]:
+    words = {"measurement": "measurement", "note": "note", "key": "subgroup key", "date": "date",
+             "time": "time of day", "defectives": "defectives counted", "defects": "defects counted",
+             "inspected": "units inspected", "operator": "operator, shown as read", "text": "text, not used"}
+    if layout == "readings down":
+        words["measurement"] = "reading"
+    return {get_column_letter(c + 1): f"{words[r]} ({names[c] or 'no header'})"
+            for c, r in enumerate(roles) if r != "empty"}
+
+
+def _ranges(numbers: list[int]) -> str:
+    parts: list[tuple[int, int]] = []
+    for n in numbers:
+        if parts and parts[-1][1] == n - 1:
+            parts[-1] = (parts[-1][0], n)
+        else:
+            parts.append((n, n))
+    return ", ".join(str(a) if a == b else f"{a}-{b}" for a, b in parts)

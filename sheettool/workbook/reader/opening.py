@@ -1,0 +1,163 @@
+"""Open an input file safely and hand back its sheets as plain grids of cell values.
+
+File-level trouble becomes one InputError naming the file and what to do. An .xlsx or .xlsm is
+read with openpyxl's streaming sheet parser (the one its read-only mode uses), cached formula
+values only: macros are never run and never copied. openpyxl parses through defusedxml (a
+dependency), so a package with entity declarations (an expansion bomb) is refused before any
+expansion. A .csv is read with the standard library; an old binary .xls, an encrypted file
+(both OLE compound files) or an .ods gets a one-line message saying how to convert it.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import zipfile
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import openpyxl
+from openpyxl.utils.cell import coordinate_to_tuple
+from openpyxl.worksheet._reader import FORMULA_TAG, WorkSheetParser
+
+from sheettool.errors import InputError
+
+OLE_MAGIC = b"\xd0\xcf\x11\xe0"  # compound file: binary .xls, or any encrypted (password) workbook
+ZIP_MAGIC = b"PK\x03\x04"
+_SAVE_AS = "save it from the spreadsheet application as .xlsx and try again"
+
+
+@dataclass
+class RawSheet:
+    """One sheet as a grid: rows[i] holds the values of sheet row i + 1 (short rows are not padded)."""
+
+    title: str
+    rows: list[list[object]]
+    hidden_rows: set[int] = field(default_factory=set)  # 1-based row numbers
+    hidden_columns: set[int] = field(default_factory=set)  # 1-based column numbers
+    merged: list[tuple[int, int, int, int]] = field(default_factory=list)  # min_row, min_col, max_row, max_col
+    uncached: list[str] = field(default_factory=list)  # cells with a formula and no cached value
+    hidden: bool = False  # the sheet itself is hidden
+
+
+class _Parser(WorkSheetParser):
+    """openpyxl's sheet parser, also noting formula cells that carry no cached value."""
+
+    def __init__(self, *args: object, **kwargs: object) -> None:
+        super().__init__(*args, **kwargs)
+        self.uncached: list[str] = []
+
+    def parse_cell(self, element):  # type: ignore[no-untyped-def]
+        cell = super().parse_cell(element)
+        if cell["value"] is None and element.find(FORMULA_TAG) is not None:
+            self.uncached.append(element.get("r") or "")
+        return cell
+
+
+def open_sheets(path: Path) -> list[RawSheet]:
+    """Every sheet of the file at `path` as a RawSheet; InputError for anything that stops reading."""
+    path = Path(path)
+    if not path.exists():
+        raise InputError(f"{path}: file not found; check the name and folder")
+    if path.is_dir():
+        raise InputError(f"{path}: is a folder, not a workbook")
+    try:
+        with open(path, "rb") as handle:
+            head = handle.read(8)
+    except OSError as exc:
+        raise InputError(f"{path}: cannot be read ({exc.strerror or exc}); check the file's permissions "
+                         "or copy it to a folder you can read") from None
+    suffix = path.suffix.lower()
+    if head.startswith(OLE_MAGIC):
+        raise InputError(f"{path}: encrypted or old .xls; save as .xlsx without a password and try again")
+    if suffix == ".csv":
+        return [_csv_sheet(path)]
+    if suffix == ".ods":
+        raise InputError(f"{path}: an OpenDocument spreadsheet; {_SAVE_AS}")
+    if not head.startswith(ZIP_MAGIC):
+        raise InputError(f"{path}: not a readable .xlsx workbook (not a zip package); {_SAVE_AS}")
+    return _xlsx_sheets(path)
+
+
+def _xlsx_sheets(path: Path) -> list[RawSheet]:
+    try:
+        with zipfile.ZipFile(path) as package:
+            names = set(package.namelist())
+            if "mimetype" in names and b"opendocument" in package.read("mimetype"):
+                raise InputError(f"{path}: an OpenDocument spreadsheet; {_SAVE_AS}")
+            if "EncryptedPackage" in names:
+                raise InputError(f"{path}: encrypted; save as .xlsx without a password and try again")
+        book = openpyxl.load_workbook(path, read_only=True, data_only=True, keep_vba=False, keep_links=False)
+        try:
+            return [_parse_sheet(book, ws) for ws in book.worksheets]
+        finally:
+            book.close()
+    except InputError:
+        raise
+    except PermissionError as exc:
+        raise InputError(f"{path}: cannot be read ({exc.strerror}); check the file's permissions") from None
+    except Exception as exc:  # a damaged package fails in many ways inside zipfile and openpyxl
+        raise InputError(f"{path}: not a readable .xlsx workbook ({_why(exc)}); {_SAVE_AS}") from None
+
+
+def _why(exc: Exception) -> str:
+    name = type(exc).__name__
+    if name in ("EntitiesForbidden", "DTDForbidden", "ExternalReferenceForbidden"):
+        return "it holds XML entity declarations, refused as unsafe"
+    if isinstance(exc, zipfile.BadZipFile | EOFError) or name == "error":
+        return "damaged or truncated package"
+    return name
+
+
+def _parse_sheet(book: object, ws: object) -> RawSheet:
+    """Stream one sheet's XML into a grid (private openpyxl parts: its read-only mode does the same)."""
+    with ws._get_source() as source:  # type: ignore[attr-defined]
+        parser = _Parser(source, ws._shared_strings, data_only=True, epoch=book.epoch,  # type: ignore[attr-defined]
+                         date_formats=book._date_formats,  # type: ignore[attr-defined]
+                         timedelta_formats=book._timedelta_formats)  # type: ignore[attr-defined]
+        rows: list[list[object]] = []
+        for index, cells in parser.parse():
+            while len(rows) < index - 1:
+                rows.append([])
+            row: list[object] = []
+            for cell in cells:
+                col = cell["column"]
+                if col > len(row) + 1:
+                    row.extend([None] * (col - 1 - len(row)))
+                if col == len(row) + 1:
+                    row.append(cell["value"])
+            rows.append(row)
+    hidden_rows = {int(r) for r, attrs in parser.row_dimensions.items() if attrs.get("hidden") in ("1", "true")}
+    hidden_columns = {c for attrs in parser.column_dimensions.values() if attrs.get("hidden") in ("1", "true")
+                      for c in range(int(attrs["min"]), int(attrs.get("max", attrs["min"])) + 1)}
+    merged = []
+    if parser.merged_cells is not None:
+        for item in parser.merged_cells.mergeCell:
+            lo, hi = ([*item.ref.split(":"), item.ref])[:2]
+            (r1, c1), (r2, c2) = _rc(lo), _rc(hi)
+            merged.append((r1, c1, r2, c2))
+    return RawSheet(title=ws.title, rows=rows, hidden_rows=hidden_rows, hidden_columns=hidden_columns,  # type: ignore[attr-defined]
+                    merged=merged, uncached=parser.uncached,
+                    hidden=getattr(ws, "sheet_state", "visible") != "visible")
+
+
+def _rc(ref: str) -> tuple[int, int]:
+    return coordinate_to_tuple(ref.replace("$", ""))
+
+
+def _csv_sheet(path: Path) -> RawSheet:
+    """A .csv as one sheet named after the file; separator , ; or tab, found from the text."""
+    raw = path.read_bytes()
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        text = raw.decode("cp1252", errors="replace")
+    sample = text[:20000]
+    try:
+        dialect = csv.Sniffer().sniff(sample, delimiters=",;\t")
+        delimiter = dialect.delimiter
+    except csv.Error:
+        delimiter = ";" if sample.count(";") > sample.count(",") else ","
+    rows = [[cell if cell.strip() else None for cell in row] for row in csv.reader(io.StringIO(text),
+                                                                                    delimiter=delimiter)]
+    return RawSheet(title=path.stem, rows=rows)
