@@ -58,11 +58,12 @@ _UNIT_IN_HEADER = re.compile(r"[(\[]\s*([^()\[\]]{1,8}?)\s*[)\]]\s*$")
 _MAX_MERGE_CELLS = 100_000
 
 
-def _fill_merged(raw: RawSheet) -> None:
-    """Give every cell of a merged range the value of its top-left cell (headers spanning columns)."""
+def _fill_merged(raw: RawSheet, last_row: int) -> None:
+    """Give every cell of a merged range that starts at or above `last_row` (1-based: the header) the
+    value of its top-left cell, so a header cell spanning columns names each of them."""
     rows = raw.rows
     for r1, c1, r2, c2 in raw.merged:
-        if r1 > len(rows) or (r2 - r1 + 1) * (c2 - c1 + 1) > _MAX_MERGE_CELLS:
+        if r1 > min(len(rows), last_row) or (r2 - r1 + 1) * (c2 - c1 + 1) > _MAX_MERGE_CELLS:
             continue
         first = rows[r1 - 1]
         value = first[c1 - 1] if c1 - 1 < len(first) else None
@@ -153,13 +154,14 @@ def _unit(names: list[str], rows: list[list[object]], units_row: int | None, col
 def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dict[str, Setting]) -> SheetRead:
     """Read one sheet. The settings sheet's and the command line's settings are given for the two
     the reader itself needs (unit, subgroup size), beside the sheet's labelled cells found here."""
-    _fill_merged(raw)
     rows, title = raw.rows, raw.title
     width = max((len(r) for r in rows), default=0)
     if width == 0:
         raise InputError("the sheet is empty")
     kinds = _kinds(rows, width)
-    header, units_row = _header(kinds, rows)
+    header, units_row = _header(kinds, rows)  # before merged cells are filled: a wide title must not win
+    if header is not None:
+        _fill_merged(raw, header + 1)
     start = (units_row if units_row is not None else header if header is not None else -1) + 1
     labelled = labelled_settings(title, rows, header if header is not None else 0)
     try:
