@@ -14,6 +14,7 @@ from openpyxl.utils import get_column_letter
 from sheettool.typed_text import date_text, number_text
 
 BLANK, NUMBER, DATE, TEXT = 0, 1, 2, 3
+_TIME_TEXT = re.compile(r"^\s*(\d{1,2}):(\d{2})(?::\d{2})?\s*$")
 
 def kind_of(value: object) -> int:
     """BLANK, NUMBER, DATE or TEXT for a raw cell value (numbers and dates typed as text count)."""
@@ -27,7 +28,7 @@ def kind_of(value: object) -> int:
             return BLANK
         if number_text(value) is not None:
             return NUMBER
-        return DATE if date_text(value) is not None else TEXT
+        return DATE if date_text(value) is not None or _TIME_TEXT.match(value) else TEXT
     if isinstance(value, dt.datetime | dt.date | dt.time | dt.timedelta):
         return DATE
     return TEXT  # booleans and anything else
@@ -63,7 +64,7 @@ def time_of(value: object) -> dt.time | None:
     if isinstance(value, dt.timedelta):
         seconds = int(value.total_seconds()) % 86400
         return dt.time(seconds // 3600, seconds // 60 % 60)
-    if isinstance(value, str) and (m := re.match(r"^\s*(\d{1,2}):(\d{2})(?::\d{2})?\s*$", value)):
+    if isinstance(value, str) and (m := _TIME_TEXT.match(value)):
         hour, minute = int(m.group(1)), int(m.group(2))
         return dt.time(hour, minute) if hour < 24 and minute < 60 else None
     return None

@@ -49,17 +49,20 @@ def labelled_settings(title: str, rows: list[list[object]], above: int) -> dict[
         for c, value in enumerate(row):
             if not isinstance(value, str) or len(value) > 60:
                 continue
+            inline = _INLINE.match(value)
+            if inline and (name := setting_name(inline.group(1))) is not None:
+                found.setdefault(name, Setting(name, inline.group(2), address(title, r + 1, c + 1)))
+                continue
             name = setting_name(value)
-            if name is not None:
-                right = row[c + 1] if c + 1 < len(row) else None
-                below_row = rows[r + 1] if r + 1 < above else []
-                below = below_row[c] if c < len(below_row) else None
-                if not _blank(right) and not (isinstance(right, str) and setting_name(right) is not None):
-                    found.setdefault(name, Setting(name, right, address(title, r + 1, c + 2)))
-                elif not _blank(below) and setting_name(str(below)) is None:
-                    found.setdefault(name, Setting(name, below, address(title, r + 2, c + 1)))
-            elif (m := _INLINE.match(value)) and (name := setting_name(m.group(1))) is not None:
-                found.setdefault(name, Setting(name, m.group(2), address(title, r + 1, c + 1)))
+            if name is None:
+                continue
+            right = row[c + 1] if c + 1 < len(row) else None
+            below_row = rows[r + 1] if r + 1 < above else []
+            below = below_row[c] if c < len(below_row) else None
+            if not _blank(right) and not (isinstance(right, str) and setting_name(right) is not None):
+                found.setdefault(name, Setting(name, right, address(title, r + 1, c + 2)))
+            elif not _blank(below) and setting_name(str(below)) is None:
+                found.setdefault(name, Setting(name, below, address(title, r + 2, c + 1)))
     return found
 
 

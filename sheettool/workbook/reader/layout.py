@@ -108,7 +108,14 @@ def _names(rows: list[list[object]], header: int | None, width: int) -> list[str
     if header is None:
         return [""] * width
     row = rows[header]
-    return [text_of(row[c]) if c < len(row) else "" for c in range(width)]
+    names = [text_of(row[c]) if c < len(row) else "" for c in range(width)]
+    seen: dict[str, int] = {}
+    repeated = {name for name in names if name and names.count(name) > 1}
+    for c, name in enumerate(names):  # a header merged over several columns: "Readings 1", "Readings 2"...
+        if name in repeated:
+            seen[name] = seen.get(name, 0) + 1
+            names[c] = f"{name} {seen[name]}"
+    return names
 
 
 def _role(name: str, counts: np.ndarray, values: list[object]) -> str:
@@ -303,9 +310,10 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, names: li
                                 + "; ".join(x for x in (f"rows {_ranges(hidden_rows)}" if hidden_rows else "",
                                                         f"columns {', '.join(hidden_columns)}" if hidden_columns
                                                         else "") if x)))
-    if raw.uncached:
-        shown = ", ".join(raw.uncached[:10]) + (f" and {len(raw.uncached) - 10} more" if len(raw.uncached) > 10 else "")
-        problems.append(Problem("warning", where, f"{len(raw.uncached)} formula cell(s) have no saved value (the file "
+    uncached = [f"{address(title, 1, 1).rsplit('!', 1)[0]}!{ref}" for ref in raw.uncached]
+    if uncached:
+        shown = ", ".join(uncached[:10]) + (f" and {len(uncached) - 10} more" if len(uncached) > 10 else "")
+        problems.append(Problem("warning", where, f"{len(uncached)} formula cell(s) have no saved value (the file "
                                 f"was written by a program that does not calculate): {shown}; open and save the "
                                 "file in a spreadsheet application to store the values"))
     unit = resolved["unit"].value if "unit" in resolved else _unit(names, rows, units_row,
@@ -317,7 +325,7 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, names: li
         first_row=first, last_row=last, columns=columns, header=header_out, rows=sheet_rows, layout=layout,
         settings=labelled, readings=readings, blanks=blanks, blank_rows=blank_rows, not_numbers=not_numbers,
         hidden_rows=hidden_rows, hidden_columns=hidden_columns, short_subgroups=short,
-        units_row=units_row + 1 if units_row is not None else 0, formulas_without_value=list(raw.uncached),
+        units_row=units_row + 1 if units_row is not None else 0, formulas_without_value=uncached,
         problems=problems,
     )
 

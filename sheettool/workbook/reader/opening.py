@@ -146,18 +146,15 @@ def _rc(ref: str) -> tuple[int, int]:
 
 
 def _csv_sheet(path: Path) -> RawSheet:
-    """A .csv as one sheet named after the file; separator , ; or tab, found from the text."""
+    """A .csv as one sheet named after the file (UTF-8, or Windows-1252 where it is not UTF-8)."""
     raw = path.read_bytes()
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:
         text = raw.decode("cp1252", errors="replace")
-    sample = text[:20000]
-    try:
-        dialect = csv.Sniffer().sniff(sample, delimiters=",;\t")
-        delimiter = dialect.delimiter
-    except csv.Error:
-        delimiter = ";" if sample.count(";") > sample.count(",") else ","
+    # Separator: tab if the text has tabs, else ";" if it has any (exports with decimal commas use
+    # it), else ",".
+    delimiter = "\t" if "\t" in text else ";" if ";" in text else ","
     rows = [[cell if cell.strip() else None for cell in row] for row in csv.reader(io.StringIO(text),
                                                                                     delimiter=delimiter)]
     return RawSheet(title=path.stem, rows=rows)
