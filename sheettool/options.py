@@ -19,7 +19,7 @@ from sheettool.typed_text import number_text
 _NUMBERS = {"lsl", "usl", "target", "interval_hours", "hours_per_month", "mean", "sigma", "p0", "c0",
             "lambda", "L", "k", "h", "confidence"}
 _TEXTS = {"unit", "part", "limits_from"}
-_WITH_UNIT = re.compile(r"^\s*([+-]?[\d.,]+(?:[eE][+-]?\d+)?)\s*([^\d\s]{0,8})\s*$")
+_WITH_UNIT = re.compile(r"^\s*([+-]?[\d.,]+(?:[eE][+-]?\d+)?)\s*([A-Za-zµμ°%/]{0,8})\s*$")
 _MINUTES = {"min", "mins", "minute", "minutes", "m"}
 _HOURS = {"", "h", "hr", "hrs", "hour", "hours"}
 _YES = {"yes", "y", "true", "1", "on", "x"}

@@ -100,13 +100,20 @@ def _xlsx_sheets(path: Path) -> list[RawSheet]:
         raise InputError(f"{path}: not a readable .xlsx workbook ({_why(exc)}); {_SAVE_AS}") from None
 
 
-def _why(exc: Exception) -> str:
-    name = type(exc).__name__
-    if name in ("EntitiesForbidden", "DTDForbidden", "ExternalReferenceForbidden"):
+def _why(exc: BaseException) -> str:
+    """The reason in words, looking through openpyxl's wrapping ValueError to the first cause."""
+    chain: list[BaseException] = []
+    while exc is not None and len(chain) < 10:
+        chain.append(exc)
+        exc = exc.__cause__ or exc.__context__  # type: ignore[assignment]
+    names = [type(e).__name__ for e in chain]
+    if {"EntitiesForbidden", "DTDForbidden", "ExternalReferenceForbidden"} & set(names):
         return "it holds XML entity declarations, refused as unsafe"
-    if isinstance(exc, zipfile.BadZipFile | EOFError) or name == "error":
+    if any(isinstance(e, zipfile.BadZipFile | EOFError) or type(e).__name__ == "error" for e in chain):
         return "damaged or truncated package"
-    return name
+    if "ParseError" in names:
+        return "damaged XML inside the package"
+    return names[-1]
 
 
 def _parse_sheet(book: object, ws: object) -> RawSheet:
