@@ -42,7 +42,7 @@ def test_messy_subgroups_across(tmp_path):
     # Labelled cells above the header: right, below, and "label: value" in one cell.
     s = sheet.settings
     assert (s["lsl"].value, s["lsl"].origin) == (24.95, "'Shaft Ø'!B3")
-    assert (s["usl"].value, s["usl"].origin) == ("25,05", "'Shaft Ø'!E3")
+    assert (s["usl"].value, s["usl"].origin) == (25.05, "'Shaft Ø'!E3")
     assert s["target"].origin == "'Shaft Ø'!A5" and s["part"].value == "SH-17"
     assert (s["interval_minutes"].value, s["interval_minutes"].origin) == ("30", "'Shaft Ø'!D4")
 

@@ -10,6 +10,7 @@ repeating key (lot, sample, date) readings down, otherwise individuals.
 
 from __future__ import annotations
 
+import datetime as dt
 import itertools
 import re
 
@@ -78,12 +79,28 @@ def _fill_merged(raw: RawSheet, last_row: int) -> None:
                     row[c] = value
 
 
-def _kinds(rows: list[list[object]], width: int) -> np.ndarray:
-    matrix = np.zeros((len(rows), width), dtype=np.int8)
+_FAST_KIND = {float: NUMBER, int: NUMBER, type(None): BLANK, dt.datetime: DATE, dt.date: DATE, dt.time: DATE}
+
+
+def _grid(rows: list[list[object]], width: int) -> tuple[np.ndarray, np.ndarray]:
+    """Cell kinds and numbers (NaN elsewhere) as matrices; numbers typed as text become numbers in
+    `rows` too. Typed cells take a dictionary look-up, only text takes a closer look."""
+    kinds = np.zeros((len(rows), width), dtype=np.int8)
+    numbers = np.full((len(rows), width), np.nan)
     for i, row in enumerate(rows):
-        if row:
-            matrix[i, :len(row)] = [kind_of(v) for v in row]
-    return matrix
+        if not row:
+            continue
+        ks = [_FAST_KIND.get(type(v), -1) for v in row]
+        if -1 in ks:
+            for c, k in enumerate(ks):
+                if k == -1:
+                    ks[c] = kind_of(row[c])
+                    if ks[c] == NUMBER:
+                        row[c] = number_of(row[c])
+        kinds[i, :len(row)] = ks
+        if NUMBER in ks:
+            numbers[i, :len(row)] = [v if k == NUMBER else np.nan for v, k in zip(row, ks, strict=True)]
+    return kinds, numbers
 
 
 def _header(kinds: np.ndarray, rows: list[list[object]]) -> tuple[int | None, int | None]:
@@ -165,7 +182,7 @@ def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dic
     width = max((len(r) for r in rows), default=0)
     if width == 0:
         raise InputError("the sheet is empty")
-    kinds = _kinds(rows, width)
+    kinds, numbers = _grid(rows, width)
     header, units_row = _header(kinds, rows)  # before merged cells are filled: a wide title must not win
     if header is not None:
         _fill_merged(raw, header + 1)
@@ -190,7 +207,7 @@ def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dic
              for c in range(width)]
     if not any(r in ("defectives", "defects") for r in roles):  # "n", "units" alone are no count layout
         roles = ["measurement" if r == "inspected" else r for r in roles]
-    return _build(raw, rows, kinds, names, roles, header, units_row, data_idx, int(len(region) - filled.sum()),
+    return _build(raw, rows, kinds, numbers, names, roles, header, units_row, data_idx, int(len(region) - filled.sum()),
                   labelled, resolved)
 
 
@@ -198,8 +215,8 @@ def _column(rows: list[list[object]], idx: list[int], c: int) -> list[object]:
     return [rows[i][c] if c < len(rows[i]) else None for i in idx]
 
 
-def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, names: list[str], roles: list[str],
-           header: int | None, units_row: int | None, data_idx: list[int], blank_rows: int,
+def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: np.ndarray, names: list[str],
+           roles: list[str], header: int | None, units_row: int | None, data_idx: list[int], blank_rows: int,
            labelled: dict[str, Setting], resolved: dict[str, Setting]) -> SheetRead:
     title = raw.title
     width = len(roles)
@@ -219,11 +236,7 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, names: li
     if not value_cols:
         raise InputError("no column of measurements found under the header")
     sub = kinds[data_idx][:, value_cols] if data_idx else np.zeros((0, len(value_cols)), dtype=np.int8)
-    values = np.full(sub.shape, np.nan)
-    for j, c in enumerate(value_cols):
-        col = _column(rows, data_idx, c)
-        numbers = [number_of(v) for v in col]
-        values[:, j] = [np.nan if x is None else x for x in numbers]
+    values = numbers[data_idx][:, value_cols]
     junk = np.argwhere((sub == TEXT) | (sub == DATE))
     not_numbers = [address(title, data_idx[i] + 1, value_cols[j] + 1) for i, j in junk]
     has_reading = ~np.all(np.isnan(values), axis=1)
@@ -244,7 +257,7 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, names: li
     layout = ("attribute counts" if count_col is not None else "subgroups across" if len(measure) > 1
               else "readings down" if _repeats(keys) or _repeats_dates(dates) or subgroup_size is not None
               else "individuals")
-    sheet_rows = [tuple(_clean(rows[i], width, value_cols)) for i in keep]
+    sheet_rows = [(*rows[i], *(None,) * (width - len(rows[i]))) for i in keep]
     header_out = names[:]
     if layout == "attribute counts":
         counts_kind = roles[count_col]
@@ -328,16 +341,6 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, names: li
         units_row=units_row + 1 if units_row is not None else 0, formulas_without_value=uncached,
         problems=problems,
     )
-
-
-def _clean(row: list[object], width: int, value_cols: list[int]) -> list[object]:
-    """A data row padded to the width, numbers typed as text turned into numbers."""
-    out = list(row) + [None] * (width - len(row))
-    for c in value_cols:
-        number = number_of(out[c])
-        if number is not None:
-            out[c] = number
-    return out
 
 
 def _repeats(keys: list[str] | None) -> bool:

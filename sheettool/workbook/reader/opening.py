@@ -12,18 +12,21 @@ from __future__ import annotations
 
 import csv
 import io
+import re
 import zipfile
 from dataclasses import dataclass, field
 from pathlib import Path
 
 import openpyxl
+from openpyxl.utils import get_column_letter
 from openpyxl.utils.cell import coordinate_to_tuple
-from openpyxl.worksheet._reader import FORMULA_TAG, WorkSheetParser
+from openpyxl.worksheet._reader import WorkSheetParser
 
 from sheettool.errors import InputError
 
 OLE_MAGIC = b"\xd0\xcf\x11\xe0"  # compound file: binary .xls, or any encrypted (password) workbook
 ZIP_MAGIC = b"PK\x03\x04"
+_FORMULA_CELL = re.compile(rb'<c\b[^>]*?\br="([A-Z]{1,3}[0-9]+)"[^>]*>\s*<f\b')
 _SAVE_AS = "save it from the spreadsheet application as .xlsx and try again"
 
 
@@ -38,20 +41,6 @@ class RawSheet:
     merged: list[tuple[int, int, int, int]] = field(default_factory=list)  # min_row, min_col, max_row, max_col
     uncached: list[str] = field(default_factory=list)  # cells with a formula and no cached value
     hidden: bool = False  # the sheet itself is hidden
-
-
-class _Parser(WorkSheetParser):
-    """openpyxl's sheet parser, also noting formula cells that carry no cached value."""
-
-    def __init__(self, *args: object, **kwargs: object) -> None:
-        super().__init__(*args, **kwargs)
-        self.uncached: list[str] = []
-
-    def parse_cell(self, element):  # type: ignore[no-untyped-def]
-        cell = super().parse_cell(element)
-        if cell["value"] is None and element.find(FORMULA_TAG) is not None:
-            self.uncached.append(element.get("r") or "")
-        return cell
 
 
 def open_sheets(path: Path) -> list[RawSheet]:
@@ -119,21 +108,28 @@ def _why(exc: BaseException) -> str:
 def _parse_sheet(book: object, ws: object) -> RawSheet:
     """Stream one sheet's XML into a grid (private openpyxl parts: its read-only mode does the same)."""
     with ws._get_source() as source:  # type: ignore[attr-defined]
-        parser = _Parser(source, ws._shared_strings, data_only=True, epoch=book.epoch,  # type: ignore[attr-defined]
-                         date_formats=book._date_formats,  # type: ignore[attr-defined]
-                         timedelta_formats=book._timedelta_formats)  # type: ignore[attr-defined]
+        parser = WorkSheetParser(source, ws._shared_strings, data_only=True, epoch=book.epoch,  # type: ignore[attr-defined]
+                                 date_formats=book._date_formats,  # type: ignore[attr-defined]
+                                 timedelta_formats=book._timedelta_formats)  # type: ignore[attr-defined]
         rows: list[list[object]] = []
+        empty: set[str] = set()  # cells present in the XML without a value: formulas without cache among them
         for index, cells in parser.parse():
             while len(rows) < index - 1:
                 rows.append([])
-            row: list[object] = []
-            for cell in cells:
-                col = cell["column"]
-                if col > len(row) + 1:
-                    row.extend([None] * (col - 1 - len(row)))
-                if col == len(row) + 1:
-                    row.append(cell["value"])
+            if cells and cells[-1]["column"] == len(cells):
+                row = [cell["value"] for cell in cells]
+            else:
+                row = []
+                for cell in cells:
+                    col = cell["column"]
+                    if col > len(row) + 1:
+                        row.extend([None] * (col - 1 - len(row)))
+                    if col == len(row) + 1:
+                        row.append(cell["value"])
+            if None in row:
+                empty.update(f"{get_column_letter(c + 1)}{index}" for c, v in enumerate(row) if v is None)
             rows.append(row)
+    uncached = _formulas_without_value(ws, empty) if empty else []
     hidden_rows = {int(r) for r, attrs in parser.row_dimensions.items() if attrs.get("hidden") in ("1", "true")}
     hidden_columns = {c for attrs in parser.column_dimensions.values() if attrs.get("hidden") in ("1", "true")
                       for c in range(int(attrs["min"]), int(attrs.get("max", attrs["min"])) + 1)}
@@ -144,8 +140,20 @@ def _parse_sheet(book: object, ws: object) -> RawSheet:
             (r1, c1), (r2, c2) = _rc(lo), _rc(hi)
             merged.append((r1, c1, r2, c2))
     return RawSheet(title=ws.title, rows=rows, hidden_rows=hidden_rows, hidden_columns=hidden_columns,  # type: ignore[attr-defined]
-                    merged=merged, uncached=parser.uncached,
+                    merged=merged, uncached=uncached,
                     hidden=getattr(ws, "sheet_state", "visible") != "visible")
+
+
+def _formulas_without_value(ws: object, empty: set[str]) -> list[str]:
+    """Cells among `empty` that hold a formula: one streaming pass over the sheet's XML."""
+    found: set[str] = set()
+    tail = b""
+    with ws._get_source() as source:  # type: ignore[attr-defined]
+        while chunk := source.read(1 << 22):
+            buffer = tail + chunk
+            found.update(m.group(1).decode() for m in _FORMULA_CELL.finditer(buffer))
+            tail = buffer[-512:]
+    return sorted(found & empty, key=lambda ref: coordinate_to_tuple(ref))
 
 
 def _rc(ref: str) -> tuple[int, int]:
