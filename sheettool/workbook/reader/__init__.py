@@ -15,7 +15,7 @@ from sheettool.settings import Setting
 from sheettool.workbook.reader.labels import SETTINGS_SHEET, SettingsSheet, read_settings_sheet
 from sheettool.workbook.reader.layout import EXCLUDE_WORDS, MIN_READINGS, MIN_SUBGROUPS, read_sheet
 from sheettool.workbook.reader.model import LAYOUTS, SheetRead, WorkbookRead
-from sheettool.workbook.reader.opening import open_sheets
+from sheettool.workbook.reader.opening import open_sheets, paused_collection
 
 __all__ = ["EXCLUDE_WORDS", "LAYOUTS", "MIN_READINGS", "MIN_SUBGROUPS", "SettingsSheet", "SheetRead",
            "WorkbookRead", "describe", "read_workbook"]
@@ -26,7 +26,11 @@ def read_workbook(path: Path, cli_settings: dict[str, Setting] | None = None) ->
 
     Raises InputError when the file cannot be opened or no sheet holds data.
     """
-    path = Path(path)
+    with paused_collection():
+        return _read(Path(path), cli_settings)
+
+
+def _read(path: Path, cli_settings: dict[str, Setting] | None) -> WorkbookRead:
     raws = open_sheets(path)
     problems: list[Problem] = []
     settings = SettingsSheet()
