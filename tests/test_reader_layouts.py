@@ -235,3 +235,36 @@ def test_csv_with_semicolons_and_decimal_commas(tmp_path, run_cli):
     (sheet,) = read_workbook(path).sheets
     np.testing.assert_allclose(sheet.characteristic.data.values, values, atol=1e-12)
     assert run_cli("evaluate", path).code == 0
+
+
+def test_impossible_counts_are_kept_out_of_the_limits(tmp_path):
+    path = tmp_path / "leaks.xlsx"
+    book = openpyxl.Workbook()
+    ws = book.active
+    ws.append(["Shift", "Units tested", "Leak failures"])
+    for i in range(20):
+        ws.append([f"S{i + 1}", 50, 60 if i == 4 else i % 3])  # more failures than units: a typing slip
+    book.save(path)
+    read = read_workbook(path)
+    (sheet,) = read.sheets
+    assert np.flatnonzero(sheet.characteristic.excluded).tolist() == [4]
+    assert any("rows 6" in p.message for p in read.problems)
+
+
+def test_readings_down_by_numeric_sample_key_through_the_command(tmp_path, run_cli):
+    path = tmp_path / "down.xlsx"
+    book = openpyxl.Workbook()
+    ws = book.active
+    ws.append(["Sample", "Force (N)"])
+    values = readings(20, 3, mean=410.0, sd=2.0)
+    for i, group in enumerate(values, start=1):
+        for v in group[: 2 if i == 7 else 3]:  # sample 7 lost a reading
+            ws.append([i, float(v)])
+    book.save(path)
+    result = run_cli("evaluate", path, "--json")
+    assert result.code == 0, result.err
+    (char,) = result.json["characteristics"]
+    assert char["read"]["layout"] == "readings down" and char["read"]["readings"] == 59
+    assert char["read"]["short_subgroups"] == 1 and char["subgroups"] == 20
+    data_tab = next(w for w in openpyxl.load_workbook(result.json["output"]).worksheets if w.title.endswith("data"))
+    assert data_tab["A2"].value == 1 and data_tab["B2"].value == "1"  # point number, then the subgroup key

@@ -153,6 +153,8 @@ def _role(name: str, counts: np.ndarray, values: list[object]) -> str:
             return "defectives"
         if _INSPECTED.search(name) and whole:
             return "inspected"
+        if re.search(r"\b(date|day|time)\b", name, re.IGNORECASE):  # dates kept as plain serial numbers
+            return "key"
         if _KEY.search(name) and whole and not re.search(r"\d\s*$", name):
             return "key"
         return "measurement"
@@ -267,6 +269,16 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
                              "the number inspected; add one headed 'inspected'")
         if inspected_col is None:
             problems.append(Problem("note", where, "no column of units inspected: each row counts as one unit"))
+        impossible = (values[:, 0] < 0) | (np.isnan(inspected)) | (inspected <= 0)
+        if counts_kind == "defectives":
+            impossible |= values[:, 0] > inspected
+        if impossible.any():
+            shown = ", ".join(str(keep[i] + 1) for i in np.flatnonzero(impossible)[:10])
+            problems.append(Problem("warning", where, f"rows {shown}: the count is negative, exceeds the units "
+                                    "inspected, or no units inspected are given; those rows are kept out of the "
+                                    "limits"))
+            for i in np.flatnonzero(impossible):
+                notes[i] = "; ".join(x for x in (notes[i], "count impossible: excluded") if x)
         data: Measurements | Counts = Counts(values[:, 0], inspected, kind=counts_kind)
         readings = len(keep)
         labels = _labels(keys, dates)
@@ -282,7 +294,8 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
         labels = [first_labels[g[0]] if keys or any(dates) else str(n + 1) for n, g in enumerate(groups)]
         notes = ["; ".join(dict.fromkeys(notes[i] for i in g if notes[i])) for g in groups]
         dates = [dates[g[0]] for g in groups]
-        sheet_rows = [(labels[n], *matrix[n], notes[n]) for n in range(len(groups))]
+        sheet_rows = [(labels[n], *(None if np.isnan(v) else float(v) for v in matrix[n]), notes[n])
+                      for n in range(len(groups))]
         lead = names[key_col] if key_col is not None else names[date_col] if date_col is not None else "Subgroup"
         header_out = [lead or "Subgroup", *[f"{names[measure[0]] or 'Reading'} {j + 1}" for j in range(size)], "Note"]
         keep = [g[0] for g in groups]  # rows where each subgroup starts

@@ -30,6 +30,7 @@ from sheettool.errors import InputError
 OLE_MAGIC = b"\xd0\xcf\x11\xe0"  # compound file: binary .xls, or any encrypted (password) workbook
 ZIP_MAGIC = b"PK\x03\x04"
 _FORMULA_CELL = re.compile(rb'<c\b[^>]*?\br="([A-Z]{1,3}[0-9]+)"[^>]*>\s*<f\b')
+MAX_CELLS = 20_000_000  # larger sheets are refused before memory runs short (about 1 GB read)
 _SAVE_AS = "save it from the spreadsheet application as .xlsx and try again"
 
 
@@ -94,7 +95,7 @@ def _xlsx_sheets(path: Path) -> list[RawSheet]:
                 raise InputError(f"{path}: encrypted; save as .xlsx without a password and try again")
         book = openpyxl.load_workbook(path, read_only=True, data_only=True, keep_vba=False, keep_links=False)
         try:
-            return [_parse_sheet(book, ws) for ws in book.worksheets]
+            return [_parse_sheet(path, book, ws) for ws in book.worksheets]
         finally:
             book.close()
     except InputError:
@@ -121,13 +122,14 @@ def _why(exc: BaseException) -> str:
     return names[-1]
 
 
-def _parse_sheet(book: object, ws: object) -> RawSheet:
+def _parse_sheet(path: Path, book: object, ws: object) -> RawSheet:
     """Stream one sheet's XML into a grid (private openpyxl parts: its read-only mode does the same)."""
     with ws._get_source() as source:  # type: ignore[attr-defined]
         parser = WorkSheetParser(source, ws._shared_strings, data_only=True, epoch=book.epoch,  # type: ignore[attr-defined]
                                  date_formats=book._date_formats,  # type: ignore[attr-defined]
                                  timedelta_formats=book._timedelta_formats)  # type: ignore[attr-defined]
         rows: list[list[object]] = []
+        cells_read = 0
         empty: set[str] = set()  # cells present in the XML without a value: formulas without cache among them
         for index, cells in parser.parse():
             while len(rows) < index - 1:
@@ -145,6 +147,10 @@ def _parse_sheet(book: object, ws: object) -> RawSheet:
             if None in row:
                 empty.update(f"{get_column_letter(c + 1)}{index}" for c, v in enumerate(row) if v is None)
             rows.append(row)
+            cells_read += len(row)
+            if cells_read > MAX_CELLS:
+                raise InputError(f"{path}: sheet '{ws.title}' holds more than {MAX_CELLS:,} cells; "  # type: ignore[attr-defined]
+                                 "split it into smaller workbooks")
     uncached = _formulas_without_value(ws, empty) if empty else []
     hidden_rows = {int(r) for r, attrs in parser.row_dimensions.items() if attrs.get("hidden") in ("1", "true")}
     hidden_columns = {c for attrs in parser.column_dimensions.values() if attrs.get("hidden") in ("1", "true")
