@@ -268,3 +268,17 @@ def test_readings_down_by_numeric_sample_key_through_the_command(tmp_path, run_c
     assert char["read"]["short_subgroups"] == 1 and char["subgroups"] == 20
     data_tab = next(w for w in openpyxl.load_workbook(result.json["output"]).worksheets if w.title.endswith("data"))
     assert data_tab["A2"].value == 1 and data_tab["B2"].value == "1"  # point number, then the subgroup key
+
+
+def test_column_headings_typed_as_numbers(tmp_path):
+    path = tmp_path / "numbered.xlsx"
+    values = readings(20, 5)
+    book = openpyxl.Workbook()
+    ws = book.active
+    ws.append(["Date", 1, 2, 3, 4, 5])
+    for i, row in enumerate(values):
+        ws.append([dt.datetime(2026, 5, 1) + dt.timedelta(hours=i), *map(float, row)])
+    book.save(path)
+    (sheet,) = read_workbook(path).sheets
+    assert sheet.header_row == 1 and sheet.header == ["Date", "1", "2", "3", "4", "5"]
+    np.testing.assert_allclose(sheet.characteristic.data.values, values, atol=1e-12)

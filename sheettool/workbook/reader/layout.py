@@ -57,6 +57,7 @@ _UNIT = re.compile(r"^[(\[]?\s*(mm|µm|μm|um|cm|m|in|inch|inches|thou|mil|g|kg|
                    re.IGNORECASE)
 _UNIT_IN_HEADER = re.compile(r"[(\[]\s*([^()\[\]]{1,8}?)\s*[)\]]\s*$")
 _MAX_MERGE_CELLS = 100_000
+_HEADER_ROWS = 100  # rows searched for headings typed as numbers
 
 
 def _fill_merged(raw: RawSheet, last_row: int) -> None:
@@ -103,9 +104,15 @@ def _grid(rows: list[list[object]], width: int) -> tuple[np.ndarray, np.ndarray]
     return kinds, numbers
 
 
-def _header(kinds: np.ndarray, rows: list[list[object]]) -> tuple[int | None, int | None]:
-    """(header index, units-row index) 0-based, by the rule in the module docstring."""
-    text, number = kinds == TEXT, kinds == NUMBER
+def _header(kinds: np.ndarray, numbers: np.ndarray, rows: list[list[object]]) -> tuple[int | None, int | None]:
+    """(header index, units-row index) 0-based, by the rule in the module docstring. Column headings
+    typed as the numbers 1, 2, 3, ... beside a text heading count as text."""
+    text, number = kinds == TEXT, (kinds == NUMBER).copy()
+    for i in np.flatnonzero(text[:_HEADER_ROWS].any(axis=1) & number[:_HEADER_ROWS].any(axis=1)):
+        found = numbers[i][number[i]]
+        if found.size >= 2 and np.array_equal(found, np.arange(1, found.size + 1)):
+            text[i] |= number[i]
+            number[i] = False
     below = np.cumsum(number[::-1], axis=0)[::-1]  # numbers at or below each cell
     below = np.vstack([below[1:], np.zeros((1, kinds.shape[1]), dtype=below.dtype)])
     score = np.where(text.any(axis=1) & ~number.any(axis=1), (text * below).sum(axis=1), 0)
@@ -185,7 +192,7 @@ def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dic
     if width == 0:
         raise InputError("the sheet is empty")
     kinds, numbers = _grid(rows, width)
-    header, units_row = _header(kinds, rows)  # before merged cells are filled: a wide title must not win
+    header, units_row = _header(kinds, numbers, rows)  # before merged cells are filled: a wide title must not win
     if header is not None:
         _fill_merged(raw, header + 1)
     start = (units_row if units_row is not None else header if header is not None else -1) + 1
