@@ -258,6 +258,10 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
                                 f"as missing: {shown}"))
     if not keep:
         raise InputError("no readings found in the measurement columns")
+    if len(keep) < len(data_idx):
+        passed = sorted(set(data_idx) - set(keep))
+        problems.append(Problem("note", where, f"{len(passed)} row(s) without readings were passed over: rows "
+                                f"{_ranges([i + 1 for i in passed][:50])}"))
 
     notes = [text_of(v) for v in _column(rows, keep, note_col)] if note_col is not None else [""] * len(keep)
     dates = _dates(rows, keep, date_col, time_col)

@@ -15,6 +15,7 @@ import csv
 import gc
 import io
 import re
+import warnings
 import zipfile
 from collections.abc import Iterator
 from dataclasses import dataclass, field
@@ -80,6 +81,8 @@ def open_sheets(path: Path) -> list[RawSheet]:
         return [_csv_sheet(path)]
     if suffix == ".ods":
         raise InputError(f"{path}: an OpenDocument spreadsheet; {_SAVE_AS}")
+    if suffix == ".xlsb":
+        raise InputError(f"{path}: a binary workbook (.xlsb); {_SAVE_AS}")
     if not head.startswith(ZIP_MAGIC):
         raise InputError(f"{path}: not a readable .xlsx workbook (not a zip package); {_SAVE_AS}")
     return _xlsx_sheets(path)
@@ -93,11 +96,13 @@ def _xlsx_sheets(path: Path) -> list[RawSheet]:
                 raise InputError(f"{path}: an OpenDocument spreadsheet; {_SAVE_AS}")
             if "EncryptedPackage" in names:
                 raise InputError(f"{path}: encrypted; save as .xlsx without a password and try again")
-        book = openpyxl.load_workbook(path, read_only=True, data_only=True, keep_vba=False, keep_links=False)
-        try:
-            return [_parse_sheet(path, book, ws) for ws in book.worksheets]
-        finally:
-            book.close()
+        with warnings.catch_warnings():  # openpyxl warns of parts it skips (extensions, validations): not ours
+            warnings.simplefilter("ignore")
+            book = openpyxl.load_workbook(path, read_only=True, data_only=True, keep_vba=False, keep_links=False)
+            try:
+                return [_parse_sheet(path, book, ws) for ws in book.worksheets]
+            finally:
+                book.close()
     except InputError:
         raise
     except PermissionError as exc:
