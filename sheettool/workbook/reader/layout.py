@@ -85,22 +85,27 @@ _FAST_KIND = {float: NUMBER, int: NUMBER, type(None): BLANK, dt.datetime: DATE, 
 
 def _grid(rows: list[list[object]], width: int) -> tuple[np.ndarray, np.ndarray]:
     """Cell kinds and numbers (NaN elsewhere) as matrices; numbers typed as text become numbers in
-    `rows` too. Typed cells take a dictionary look-up, only text takes a closer look."""
+    `rows` too. Typed cells take one dictionary look-up in a flat pass, only text a closer look."""
+    lengths = np.fromiter((len(r) for r in rows), dtype=np.int64, count=len(rows))
+    flat = [_FAST_KIND.get(type(v), -1) for row in rows for v in row]
+    kinds_flat = np.array(flat, dtype=np.int8)
+    starts = np.concatenate([[0], np.cumsum(lengths)[:-1]]) if len(rows) else np.zeros(0, dtype=np.int64)
+    row_of = np.repeat(np.arange(len(rows)), lengths)
+    col_of = np.arange(kinds_flat.size) - np.repeat(starts, lengths)
+    for at in np.flatnonzero(kinds_flat == -1):  # text and other types: look closer
+        r, c = int(row_of[at]), int(col_of[at])
+        kinds_flat[at] = kind_of(rows[r][c])
+        if kinds_flat[at] == NUMBER:
+            rows[r][c] = number_of(rows[r][c])
+    numbers_flat = np.full(kinds_flat.size, np.nan)
+    where = np.flatnonzero(kinds_flat == NUMBER)
+    if where.size:
+        values = [v for row in rows for v in row]
+        numbers_flat[where] = [values[i] for i in where.tolist()]
     kinds = np.zeros((len(rows), width), dtype=np.int8)
     numbers = np.full((len(rows), width), np.nan)
-    for i, row in enumerate(rows):
-        if not row:
-            continue
-        ks = [_FAST_KIND.get(type(v), -1) for v in row]
-        if -1 in ks:
-            for c, k in enumerate(ks):
-                if k == -1:
-                    ks[c] = kind_of(row[c])
-                    if ks[c] == NUMBER:
-                        row[c] = number_of(row[c])
-        kinds[i, :len(row)] = ks
-        if NUMBER in ks:
-            numbers[i, :len(row)] = [v if k == NUMBER else np.nan for v, k in zip(row, ks, strict=True)]
+    kinds[row_of, col_of] = kinds_flat
+    numbers[row_of, col_of] = numbers_flat
     return kinds, numbers
 
 
@@ -280,13 +285,13 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
                              "the number inspected; add one headed 'inspected'")
         if inspected_col is None:
             problems.append(Problem("note", where, "no column of units inspected: each row counts as one unit"))
-        impossible = (values[:, 0] < 0) | (np.isnan(inspected)) | (inspected <= 0)
+        impossible = np.isnan(values[:, 0]) | (values[:, 0] < 0) | np.isnan(inspected) | (inspected <= 0)
         if counts_kind == "defectives":
             impossible |= values[:, 0] > inspected
         if impossible.any():
             shown = ", ".join(str(keep[i] + 1) for i in np.flatnonzero(impossible)[:10])
-            problems.append(Problem("warning", where, f"rows {shown}: the count is negative, exceeds the units "
-                                    "inspected, or no units inspected are given; those rows are kept out of the "
+            problems.append(Problem("warning", where, f"rows {shown}: the count is missing or negative, exceeds the "
+                                    "units inspected, or no units inspected are given; those rows are kept out of the "
                                     "limits"))
             for i in np.flatnonzero(impossible):
                 notes[i] = "; ".join(x for x in (notes[i], "count impossible: excluded") if x)
