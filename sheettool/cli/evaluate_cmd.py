@@ -66,8 +66,9 @@ def run(args: argparse.Namespace) -> int:
     """Evaluate and report; 0 whenever the evaluation was written, signals or not."""
     report = evaluate_file(args.input, args.output, cli_settings(args))
     if args.verbose:
-        for read in report.reads:
-            sys.stderr.write(describe(read) + "\n")
+        for read, result in zip(report.reads, report.characteristics, strict=True):
+            given = [f"{s.name} {s.value} ({s.origin})" for s in result.settings.values() if s.origin != "default"]
+            sys.stderr.write(describe(read) + (f"; settings: {', '.join(given)}" if given else "") + "\n")
     if args.json:
         json.dump(report_json(report), sys.stdout, indent=2)
         sys.stdout.write("\n")
