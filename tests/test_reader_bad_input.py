@@ -127,13 +127,15 @@ def test_corrupt_member(run_cli, tmp_path):
     _refused(run_cli, path, 3, "corrupt.xlsx", "not a readable .xlsx workbook")
 
 
-def test_entity_expansion_bomb_is_refused_quickly_in_bounded_memory(run_cli, tmp_path):
+@pytest.mark.parametrize("member", ["xl/worksheets/sheet1.xml", "xl/workbook.xml", "xl/styles.xml"])
+def test_entity_expansion_bomb_is_refused_quickly_in_bounded_memory(run_cli, tmp_path, member):
     assert openpyxl.DEFUSEDXML  # openpyxl parses through defusedxml (a dependency)
     good = _good(tmp_path)
     path = tmp_path / "bomb.xlsx"
     with zipfile.ZipFile(good) as src, zipfile.ZipFile(path, "w", zipfile.ZIP_DEFLATED) as dst:
+        assert member in src.namelist()
         for item in src.infolist():
-            dst.writestr(item, BOMB if item.filename == "xl/worksheets/sheet1.xml" else src.read(item))
+            dst.writestr(item, BOMB if item.filename == member else src.read(item))
     tracemalloc.start()
     started = time.process_time()
     result = _refused(run_cli, path, 3, "bomb.xlsx", "entity declarations, refused as unsafe")
