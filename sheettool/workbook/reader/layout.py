@@ -34,6 +34,7 @@ from sheettool.workbook.reader.cells import (
     text_of,
     time_of,
 )
+from sheettool.workbook.reader.columns import UNIT_WORD, column_names, column_role, columns_meaning, unit_of
 from sheettool.workbook.reader.labels import labelled_settings
 from sheettool.workbook.reader.model import SheetRead
 from sheettool.workbook.reader.opening import RawSheet
@@ -42,20 +43,6 @@ MIN_READINGS = 2  # a subgroup with fewer readings (where subgroups are larger) 
 MIN_SUBGROUPS = 2  # fewer subgroups cannot set limits; 20 or more are common practice
 EXCLUDE_WORDS = re.compile(r"\b(exclude[ds]?|excluding|ignore[ds]?|omit(?:s|ted)?|discard(?:s|ed)?|"
                            r"do not use|don'?t use)\b", re.IGNORECASE)
-_NOTE = re.compile(r"\b(notes?|comments?|remarks?|observations?)\b", re.IGNORECASE)
-_DEFECTS = re.compile(r"\b(defects?|defect count|nonconformit(?:y|ies)|faults?|flaws?|blemish(?:es)?)\b", re.I)
-_DEFECTIVES = re.compile(r"\b(defectives?|rejects?|rejected|fail(?:s|ed|ures?)?|nonconforming|non-conforming|"
-                         r"scrap(?:ped)?|bad|nok)\b", re.IGNORECASE)
-_INSPECTED = re.compile(r"\b(inspected|tested|checked|examined|sample size|units|quantity|qty|lot size|"
-                        r"produced|n)\b", re.IGNORECASE)
-_KEY = re.compile(r"(\b(subgroup|sample|lot|batch|point|shift|serial|id|no|nr|number|index|group|order)\b|#)",
-                  re.IGNORECASE)
-_OPERATOR = re.compile(r"\b(operator|inspector|setter|checked by|by|initials|name)\b", re.IGNORECASE)
-_TIME = re.compile(r"\b(time|hour|clock)\b", re.IGNORECASE)
-_UNIT = re.compile(r"^[(\[]?\s*(mm|µm|μm|um|cm|m|in|inch|inches|thou|mil|g|kg|mg|n|kn|nm|n·m|°c|°f|c|f|%|"
-                   r"bar|mbar|psi|pa|kpa|mpa|s|ms|min|h|v|mv|a|ma|ohm|ω|ra|rz|deg|°|mm/s|l|ml|units?)\s*[)\]]?$",
-                   re.IGNORECASE)
-_UNIT_IN_HEADER = re.compile(r"[(\[]\s*([^()\[\]]{1,8}?)\s*[)\]]\s*$")
 _MAX_MERGE_CELLS = 100_000
 _HEADER_ROWS = 100  # rows searched for headings typed as numbers
 
@@ -128,65 +115,9 @@ def _header(kinds: np.ndarray, numbers: np.ndarray, rows: list[list[object]]) ->
     above = best - 1
     while above >= 0 and not kinds[above].any():
         above -= 1
-    if cells and all(_UNIT.match(c) for c in cells) and above >= 0 and score[above] > 0:
+    if cells and all(UNIT_WORD.match(c) for c in cells) and above >= 0 and score[above] > 0:
         return above, best
     return best, None
-
-
-def _names(rows: list[list[object]], header: int | None, width: int) -> list[str]:
-    if header is None:
-        return [""] * width
-    row = rows[header]
-    names = [text_of(row[c]) if c < len(row) else "" for c in range(width)]
-    seen: dict[str, int] = {}
-    repeated = {name for name in names if name and names.count(name) > 1}
-    for c, name in enumerate(names):  # a header merged over several columns: "Readings 1", "Readings 2"...
-        if name in repeated:
-            seen[name] = seen.get(name, 0) + 1
-            names[c] = f"{name} {seen[name]}"
-    return names
-
-
-def _role(name: str, counts: np.ndarray, values: list[object]) -> str:
-    """The meaning of one column from its header words and cell kinds (counts by kind)."""
-    _blank, num, date, text = (int(x) for x in counts)
-    filled = num + date + text
-    if filled == 0:
-        return "empty"
-    if _NOTE.search(name):
-        return "note"
-    if date > 0 and date >= num and date >= text:
-        return "time" if _TIME.search(name) and not re.search(r"date|day", name, re.I) else "date"
-    if num > 0 and num >= text:
-        whole = all(float(x).is_integer() for x in (number_of(v) for v in values) if x is not None)
-        if _DEFECTS.search(name):
-            return "defects"
-        if _DEFECTIVES.search(name):
-            return "defectives"
-        if _INSPECTED.search(name) and whole:
-            return "inspected"
-        if re.search(r"\b(date|day|time)\b", name, re.IGNORECASE):  # dates kept as plain serial numbers
-            return "key"
-        if _KEY.search(name) and whole and not re.search(r"\d\s*$", name):
-            return "key"
-        return "measurement"
-    if _OPERATOR.search(name):
-        return "operator"
-    if _KEY.search(name):
-        return "key"
-    return "text"
-
-
-def _unit(names: list[str], rows: list[list[object]], units_row: int | None, columns: list[int]) -> str:
-    if units_row is not None:
-        row = rows[units_row]
-        for c in columns:
-            if c < len(row) and isinstance(row[c], str) and row[c].strip():
-                return row[c].strip().strip("()[]").strip()
-    for c in columns:
-        if m := _UNIT_IN_HEADER.search(names[c]):
-            return m.group(1)
-    return ""
 
 
 def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dict[str, Setting]) -> SheetRead:
@@ -215,9 +146,9 @@ def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dic
     region = kinds[start:end]
     filled = region.any(axis=1)
     data_idx = [start + int(i) for i in np.flatnonzero(filled)]
-    names = _names(rows, header, width)
+    names = column_names(rows, header, width)
     counts = np.stack([(region[filled] == k).sum(axis=0) for k in (BLANK, NUMBER, DATE, TEXT)], axis=1)
-    roles = [_role(names[c], counts[c], [rows[i][c] if c < len(rows[i]) else None for i in data_idx[:200]])
+    roles = [column_role(names[c], counts[c], [rows[i][c] if c < len(rows[i]) else None for i in data_idx[:200]])
              for c in range(width)]
     if not any(r in ("defectives", "defects") for r in roles):  # "n", "units" alone are no count layout
         roles = ["measurement" if r == "inspected" else r for r in roles]
@@ -342,7 +273,7 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
     if data.subgroups < 20:
         problems.append(Problem("note", where, f"only {data.subgroups} subgroups: 20 or more are usual before "
                                 "limits are trusted"))
-    columns = _columns_meaning(names, roles, layout)
+    columns = columns_meaning(names, roles, layout)
     used = sorted({c for c, r in enumerate(roles) if r not in ("empty", "text")})
     hidden_columns = [get_column_letter(c + 1) for c in used if c + 1 in raw.hidden_columns]
     first, last = data_idx[0] + 1, data_idx[-1] + 1
@@ -358,7 +289,7 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
         problems.append(Problem("warning", where, f"{len(uncached)} formula cell(s) have no saved value (the file "
                                 f"was written by a program that does not calculate): {shown}; open and save the "
                                 "file in a spreadsheet application to store the values"))
-    unit = resolved["unit"].value if "unit" in resolved else _unit(names, rows, units_row,
+    unit = resolved["unit"].value if "unit" in resolved else unit_of(names, rows, units_row,
                                                                      value_cols if count_col is None else [])
     characteristic = Characteristic(name=title, data=data, labels=labels, unit=str(unit), excluded=excluded,
                                     notes=notes, dates=dates)
@@ -417,16 +348,6 @@ def _date_labels(dates: list, m: int) -> list[str]:
     if any(d is not None for d in dates):
         return [text_of(d) if d is not None else str(i + 1) for i, d in enumerate(dates)]
     return [str(i + 1) for i in range(m)]
-
-
-def _columns_meaning(names: list[str], roles: list[str], layout: str) -> dict[str, str]:
-    words = {"measurement": "measurement", "note": "note", "key": "subgroup key", "date": "date",
-             "time": "time of day", "defectives": "defectives counted", "defects": "defects counted",
-             "inspected": "units inspected", "operator": "operator, shown as read", "text": "text, not used"}
-    if layout == "readings down":
-        words["measurement"] = "reading"
-    return {get_column_letter(c + 1): f"{words[r]} ({names[c] or 'no header'})"
-            for c, r in enumerate(roles) if r != "empty"}
 
 
 def _ranges(numbers: list[int]) -> str:
