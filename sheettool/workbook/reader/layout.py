@@ -13,6 +13,7 @@ from __future__ import annotations
 import datetime as dt
 import itertools
 import re
+from dataclasses import dataclass, replace
 
 import numpy as np
 from openpyxl.utils import get_column_letter
@@ -206,50 +207,18 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
     layout = ("attribute counts" if count_col is not None else "subgroups across" if len(measure) > 1
               else "readings down" if _repeats(keys) or _repeats_dates(dates) or subgroup_size is not None
               else "individuals")
-    sheet_rows = [(*rows[i], *(None,) * (width - len(rows[i]))) for i in keep]
-    header_out = names[:]
+    across = _Shape(data=Measurements(values), readings=int(np.sum(~np.isnan(values))), labels=_labels(keys, dates),
+                    notes=notes, dates=dates, rows=[(*rows[i], *(None,) * (width - len(rows[i]))) for i in keep],
+                    header=names[:], starts=keep)
     if layout == "attribute counts":
-        counts_kind = roles[count_col]
-        inspected = values[:, 1] if inspected_col is not None else np.ones(len(keep))
-        if inspected_col is None and counts_kind == "defectives":
-            raise InputError(f"column {get_column_letter(count_col + 1)} counts defectives but no column gives "
-                             "the number inspected; add one headed 'inspected'")
-        if inspected_col is None:
-            problems.append(Problem("note", where, "no column of units inspected: each row counts as one unit"))
-        impossible = np.isnan(values[:, 0]) | (values[:, 0] < 0) | np.isnan(inspected) | (inspected <= 0)
-        if counts_kind == "defectives":
-            impossible |= values[:, 0] > inspected
-        if impossible.any():
-            shown = ", ".join(str(keep[i] + 1) for i in np.flatnonzero(impossible)[:10])
-            problems.append(Problem("warning", where, f"rows {shown}: the count is missing or negative, exceeds the "
-                                    "units inspected, or no units inspected are given; those rows are kept out of the "
-                                    "limits"))
-            for i in np.flatnonzero(impossible):
-                notes[i] = "; ".join(x for x in (notes[i], "count impossible: excluded") if x)
-        data: Measurements | Counts = Counts(values[:, 0], inspected, kind=counts_kind)
-        readings = len(keep)
-        labels = _labels(keys, dates)
+        shape = _counts(across, values, roles[count_col], count_col, inspected_col is not None, problems, where)
     elif layout == "readings down":
-        groups = _groups(keys, dates, subgroup_size, len(keep))
-        size = max(len(g) for g in groups)
-        matrix = np.full((len(groups), size), np.nan)
-        for g, members in enumerate(groups):
-            matrix[g, :len(members)] = values[members, 0]
-        data = Measurements(matrix)
-        readings = int(np.sum(~np.isnan(matrix)))
-        first_labels = keys or _date_labels(dates, len(keep))
-        labels = [first_labels[g[0]] if keys or any(dates) else str(n + 1) for n, g in enumerate(groups)]
-        notes = ["; ".join(dict.fromkeys(notes[i] for i in g if notes[i])) for g in groups]
-        dates = [dates[g[0]] for g in groups]
-        sheet_rows = [(labels[n], *(None if np.isnan(v) else float(v) for v in matrix[n]), notes[n])
-                      for n in range(len(groups))]
         lead = names[key_col] if key_col is not None else names[date_col] if date_col is not None else "Subgroup"
-        header_out = [lead or "Subgroup", *[f"{names[measure[0]] or 'Reading'} {j + 1}" for j in range(size)], "Note"]
-        keep = [g[0] for g in groups]  # rows where each subgroup starts
+        shape = _down(across, values[:, 0], keys, subgroup_size, lead or "Subgroup", names[measure[0]] or "Reading")
     else:
-        data = Measurements(values)
-        readings = int(np.sum(~np.isnan(values)))
-        labels = _labels(keys, dates)
+        shape = across
+    data, readings, labels, notes, dates = shape.data, shape.readings, shape.labels, shape.notes, shape.dates
+    sheet_rows, header_out, keep = shape.rows, shape.header, shape.starts
     if data.subgroups < MIN_SUBGROUPS:
         raise InputError(f"only one subgroup (row {keep[0] + 1}); control limits need at least {MIN_SUBGROUPS} "
                          "subgroups, and 20 or more are usual for trustworthy limits")
@@ -301,6 +270,63 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
         units_row=units_row + 1 if units_row is not None else 0, formulas_without_value=uncached,
         problems=problems,
     )
+
+
+@dataclass
+class _Shape:
+    """A sheet's data in its layout's form, one entry per subgroup (starts: sheet row index of each)."""
+
+    data: Measurements | Counts
+    readings: int
+    labels: list[str]
+    notes: list[str]
+    dates: list
+    rows: list[tuple]
+    header: list[str]
+    starts: list[int]
+
+
+def _counts(across: _Shape, values: np.ndarray, kind: str, count_col: int, has_inspected: bool,
+            problems: list[Problem], where: str) -> _Shape:
+    """Attribute counts: the count column, the units inspected (one unit a row for defects without it)."""
+    inspected = values[:, 1] if has_inspected else np.ones(len(values))
+    if not has_inspected and kind == "defectives":
+        raise InputError(f"column {get_column_letter(count_col + 1)} counts defectives but no column gives "
+                         "the number inspected; add one headed 'inspected'")
+    if not has_inspected:
+        problems.append(Problem("note", where, "no column of units inspected: each row counts as one unit"))
+    counts = values[:, 0]
+    impossible = np.isnan(counts) | (counts < 0) | np.isnan(inspected) | (inspected <= 0)
+    if kind == "defectives":
+        impossible |= counts > inspected
+    notes = list(across.notes)
+    if impossible.any():
+        shown = ", ".join(str(across.starts[i] + 1) for i in np.flatnonzero(impossible)[:10])
+        problems.append(Problem("warning", where, f"rows {shown}: the count is missing or negative, exceeds the "
+                                "units inspected, or no units inspected are given; those rows are kept out of the "
+                                "limits"))
+        for i in np.flatnonzero(impossible):
+            notes[i] = "; ".join(x for x in (notes[i], "count impossible: excluded") if x)
+    return replace(across, data=Counts(counts, inspected, kind=kind), readings=len(values), notes=notes)
+
+
+def _down(across: _Shape, readings: np.ndarray, keys: list[str] | None, size: Setting | None, lead: str,
+          measured: str) -> _Shape:
+    """Readings down: consecutive rows with the same key (or date), or blocks of the subgroup size."""
+    dates = across.dates
+    groups = _groups(keys, dates, size, len(readings))
+    width = max(len(g) for g in groups)
+    matrix = np.full((len(groups), width), np.nan)
+    for g, members in enumerate(groups):
+        matrix[g, :len(members)] = readings[members]
+    first_labels = keys or _date_labels(dates, len(readings))
+    labels = [first_labels[g[0]] if keys or any(dates) else str(n + 1) for n, g in enumerate(groups)]
+    notes = ["; ".join(dict.fromkeys(across.notes[i] for i in g if across.notes[i])) for g in groups]
+    rows = [(labels[n], *(None if np.isnan(v) else float(v) for v in matrix[n]), notes[n]) for n in range(len(groups))]
+    return _Shape(data=Measurements(matrix), readings=int(np.sum(~np.isnan(matrix))), labels=labels, notes=notes,
+                  dates=[dates[g[0]] for g in groups], rows=rows,
+                  header=[lead, *[f"{measured} {j + 1}" for j in range(width)], "Note"],
+                  starts=[across.starts[g[0]] for g in groups])
 
 
 def _repeats(keys: list[str] | None) -> bool:
