@@ -62,3 +62,13 @@ def test_lsl_above_usl_names_both_cells():
     cells = {"lsl": Setting("lsl", 12.1, "'Bore'!B3"), "usl": Setting("usl", 12.0, "'Bore'!B4")}
     with pytest.raises(ValueError, match="'Bore'!B3 and 'Bore'!B4"):
         options_for(_Read(cells), SettingsSheet(), {})
+
+
+def test_inline_label_with_an_invalid_value_is_no_setting():
+    from sheettool.workbook.reader.labels import labelled_settings
+
+    rows = [["Target: monthly review"], ["USL = 12,05"], ["LSL", "11.95"]]
+    found = labelled_settings("Bore", rows, 3)
+    assert "target" not in found
+    assert (found["usl"].value, found["usl"].origin) == ("12,05", "'Bore'!A2")
+    assert found["lsl"].origin == "'Bore'!B3"

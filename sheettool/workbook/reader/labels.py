@@ -2,7 +2,8 @@
 
 Labelled cell: a text cell naming a setting (see sheettool.settings.SYNONYMS, matched without
 regard to case or punctuation), its value in the next cell to the right, or else in the cell
-below; "LSL: 11.95" or "LSL = 11.95" in one cell works too.
+below; "LSL: 11.95" or "LSL = 11.95" in one cell works too (taken only where the value is valid,
+so a title like "Target: monthly review" is not a setting).
 
 Settings sheet (a sheet named "settings", any case): one setting per row, name in column A, value
 in column B. Rows above the first section apply to the whole workbook. A row whose first cell is
@@ -16,6 +17,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass, field
 
+from sheettool.options import convert
 from sheettool.problems import Problem
 from sheettool.settings import Setting, setting_name
 from sheettool.workbook.reader.cells import address
@@ -51,7 +53,9 @@ def labelled_settings(title: str, rows: list[list[object]], above: int) -> dict[
                 continue
             inline = _INLINE.match(value)
             if inline and (name := setting_name(inline.group(1))) is not None:
-                found.setdefault(name, Setting(name, inline.group(2), address(title, r + 1, c + 1)))
+                setting = Setting(name, inline.group(2), address(title, r + 1, c + 1))
+                if _converts(setting):  # a title such as "Target: monthly review" is no setting
+                    found.setdefault(name, setting)
                 continue
             name = setting_name(value)
             if name is None:
@@ -64,6 +68,14 @@ def labelled_settings(title: str, rows: list[list[object]], above: int) -> dict[
             elif not _blank(below) and setting_name(str(below)) is None:
                 found.setdefault(name, Setting(name, below, address(title, r + 2, c + 1)))
     return found
+
+
+def _converts(setting: Setting) -> bool:
+    try:
+        convert(setting)
+    except ValueError:
+        return False
+    return True
 
 
 def read_settings_sheet(rows: list[list[object]], where: str) -> tuple[SettingsSheet, list[Problem]]:
