@@ -48,12 +48,12 @@ KNOWN_SETTINGS["part"] = "part number or name, as written above the header"
 # only). The canonical names map to themselves, so "LSL", "lsl" and "L.S.L." all find "lsl".
 SYNONYMS: dict[str, str] = {
     **{name.lower(): name for name in KNOWN_SETTINGS},
+    # Not "min"/"max", "upper limit" or "tolerance": above a header those are often observed
+    # extremes, control limits or deviations from nominal, not specification limits.
     "lowerspec": "lsl", "lowerspeclimit": "lsl", "lowerspecification": "lsl",
-    "lowerspecificationlimit": "lsl", "lowerlimit": "lsl", "lowertolerance": "lsl", "min": "lsl",
-    "minimum": "lsl",
+    "lowerspecificationlimit": "lsl", "lowerspecificationlimitlsl": "lsl",
     "upperspec": "usl", "upperspeclimit": "usl", "upperspecification": "usl",
-    "upperspecificationlimit": "usl", "upperlimit": "usl", "uppertolerance": "usl", "max": "usl",
-    "maximum": "usl",
+    "upperspecificationlimit": "usl", "upperspecificationlimitusl": "usl",
     "nominal": "target", "nominalvalue": "target", "nom": "target", "targetvalue": "target",
     "units": "unit", "uom": "unit", "unitofmeasure": "unit", "unitofmeasurement": "unit",
     "samplesize": "subgroup_size", "subgroupsize": "subgroup_size", "n": "subgroup_size",
