@@ -72,3 +72,11 @@ def test_inline_label_with_an_invalid_value_is_no_setting():
     assert "target" not in found
     assert (found["usl"].value, found["usl"].origin) == ("12,05", "'Bore'!A2")
     assert found["lsl"].origin == "'Bore'!B3"
+
+
+def test_observed_statistics_above_the_header_are_no_settings():
+    from sheettool.workbook.reader.labels import labelled_settings
+
+    rows = [["Mean", 12.003, "Sigma", 0.01], ["Standard mean", 12.0], ["Min", 11.97, "Max", 12.04]]
+    found = labelled_settings("Bore", rows, 3)
+    assert set(found) == {"mean"} and found["mean"].origin == "'Bore'!B2"

@@ -19,10 +19,13 @@ from dataclasses import dataclass, field
 
 from sheettool.options import convert
 from sheettool.problems import Problem
-from sheettool.settings import Setting, setting_name
+from sheettool.settings import Setting, label_key, setting_name
 from sheettool.workbook.reader.cells import address
 
 SETTINGS_SHEET = "settings"
+# Above a header a plain "Mean" or "Sigma" is usually the observed statistic, "k" or "h" a stray
+# letter: there they must be written "standard mean", "standard sigma", "CUSUM k" and so on.
+_NOT_IN_CELLS = {"mean", "sigma", "k", "h", "l", "lambda"}
 _INLINE = re.compile(r"^\s*([^:=]{1,40}?)\s*[:=]\s*(\S.*?)\s*$")
 _SECTION = re.compile(r"^\s*(?:\[(.+)\]|sheet\s*:\s*(.+?))\s*$", re.IGNORECASE)
 
@@ -58,7 +61,7 @@ def labelled_settings(title: str, rows: list[list[object]], above: int) -> dict[
                     found.setdefault(name, setting)
                 continue
             name = setting_name(value)
-            if name is None:
+            if name is None or label_key(value) in _NOT_IN_CELLS:
                 continue
             right = row[c + 1] if c + 1 < len(row) else None
             below_row = rows[r + 1] if r + 1 < above else []
