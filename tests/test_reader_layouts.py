@@ -282,3 +282,21 @@ def test_column_headings_typed_as_numbers(tmp_path):
     (sheet,) = read_workbook(path).sheets
     assert sheet.header_row == 1 and sheet.header == ["Date", "1", "2", "3", "4", "5"]
     np.testing.assert_allclose(sheet.characteristic.data.values, values, atol=1e-12)
+
+
+def test_readings_down_keyed_by_merged_lot_cells(tmp_path):
+    path = tmp_path / "merged lots.xlsx"
+    values = readings(20, 4, mean=3.2, sd=0.05)
+    book = openpyxl.Workbook()
+    ws = book.active
+    ws.append(["Lot", "Hardness (HRC)"])
+    for g, group in enumerate(values):
+        top = ws.max_row + 1
+        for v in group:
+            ws.append([f"K{g + 1}" if ws.max_row + 1 == top else None, float(v)])
+        ws.merge_cells(start_row=top, start_column=1, end_row=top + 3, end_column=1)  # lot written once
+    book.save(path)
+    (sheet,) = read_workbook(path).sheets
+    assert sheet.layout == "readings down" and sheet.characteristic.data.values.shape == (20, 4)
+    np.testing.assert_allclose(sheet.characteristic.data.values, values, atol=1e-12)
+    assert sheet.characteristic.labels[:2] == ["K1", "K2"]

@@ -48,12 +48,13 @@ _MAX_MERGE_CELLS = 100_000
 _HEADER_ROWS = 100  # rows searched for headings typed as numbers
 
 
-def _fill_merged(raw: RawSheet, last_row: int) -> None:
-    """Give every cell of a merged range that starts at or above `last_row` (1-based: the header) the
-    value of its top-left cell, so a header cell spanning columns names each of them."""
+def _fill_merged(raw: RawSheet, last_row: int, kinds: np.ndarray, numbers: np.ndarray) -> None:
+    """Give the cells of a merged range the value of its top-left cell: every range that starts at or
+    above `last_row` (1-based: the header), so a header cell spanning columns names each of them,
+    and below it ranges within one column, such as a lot number merged down its subgroup's rows."""
     rows = raw.rows
     for r1, c1, r2, c2 in raw.merged:
-        if r1 > min(len(rows), last_row) or (r2 - r1 + 1) * (c2 - c1 + 1) > _MAX_MERGE_CELLS:
+        if r1 > len(rows) or (r1 > last_row and c1 != c2) or (r2 - r1 + 1) * (c2 - c1 + 1) > _MAX_MERGE_CELLS:
             continue
         first = rows[r1 - 1]
         value = first[c1 - 1] if c1 - 1 < len(first) else None
@@ -63,9 +64,10 @@ def _fill_merged(raw: RawSheet, last_row: int) -> None:
             row = rows[r]
             if len(row) < c2:
                 row.extend([None] * (c2 - len(row)))
-            for c in range(c1 - 1, c2):
+            for c in range(c1 - 1, min(c2, kinds.shape[1])):
                 if row[c] is None:
                     row[c] = value
+                    kinds[r, c], numbers[r, c] = kinds[r1 - 1, c1 - 1], numbers[r1 - 1, c1 - 1]
 
 
 _FAST_KIND = {float: NUMBER, int: NUMBER, type(None): BLANK, dt.datetime: DATE, dt.date: DATE, dt.time: DATE}
@@ -131,7 +133,7 @@ def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dic
     kinds, numbers = _grid(rows, width)
     header, units_row = _header(kinds, numbers, rows)  # before merged cells are filled: a wide title must not win
     if header is not None:
-        _fill_merged(raw, header + 1)
+        _fill_merged(raw, header + 1, kinds, numbers)
     start = (units_row if units_row is not None else header if header is not None else -1) + 1
     labelled = labelled_settings(title, rows, header if header is not None else 0)
     try:
