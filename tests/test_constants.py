@@ -19,6 +19,9 @@ ASTM_E2587 = {
     8: (2.847, 0.820, 0.9650, 0.373, 1.099, 0.185, 1.815, 0.136, 1.864),
     9: (2.970, 0.808, 0.9693, 0.337, 1.032, 0.239, 1.761, 0.184, 1.816),
     10: (3.078, 0.797, 0.9727, 0.308, 0.975, 0.284, 1.716, 0.223, 1.777),
+    15: (3.472, 0.756, 0.9823, 0.223, 0.789, 0.428, 1.572, 0.347, 1.653),
+    20: (3.735, 0.729, 0.9869, 0.180, 0.680, 0.510, 1.490, 0.415, 1.585),
+    25: (3.931, 0.708, 0.9896, 0.153, 0.606, 0.565, 1.435, 0.459, 1.541),
 }
 
 
@@ -57,3 +60,12 @@ def test_individuals_factor():
 def test_bad_subgroup_size(bad):
     with pytest.raises(ValueError):
         d2(bad)
+
+
+def test_c4_beyond_the_table_for_the_pooled_sd():
+    # c4(n) = sqrt(2/(n-1)) Gamma(n/2) / Gamma((n-1)/2) tends to 1 - 1/(4n) (common practice:
+    # the series c4 ~ 1 - 1/(4n) - 7/(32 n^2)); the pooled sd needs c4 of hundreds of readings.
+    for n in (150, 500, 2000):
+        assert c4(n) == pytest.approx(1 - 1 / (4 * n) - 7 / (32 * n * n), abs=1e-7)
+    with pytest.raises(ValueError):
+        c4(1)

@@ -1,8 +1,17 @@
-"""Process capability: Cp, Cpk, Pp, Ppk, Cpm with intervals; attribute rates with intervals."""
+"""Process capability: Cp, Cpk, Pp, Ppk, Cpm with intervals; attribute rates with intervals.
+
+Indices (Montgomery 2009, ch. 8; Kane 1986): Cp = (USL - LSL) / 6 sigma_within,
+Cpk = min(USL - mean, mean - LSL) / 3 sigma_within; Pp and Ppk the same with the overall
+standard deviation; Cpm = (USL - LSL) / 6 sqrt(sigma_overall^2 + (mean - T)^2) (Chan, Cheng and
+Spiring 1988). With one specification limit only the one-sided index (Cpk, Ppk) is defined.
+"""
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+
+import numpy as np
+from scipy import stats
 
 
 @dataclass(frozen=True)
@@ -32,12 +41,17 @@ class Capability:
     pp: float | None
     ppk: float | None
     cpm: float | None
-    ppm_out: float | None
+    ppm_out: float | None  # expected parts per million out of spec, normal model with the overall sigma
     ci: dict[str, Interval]
     confidence: float
-    normality_p: float | None
+    normality_p: float | None  # approximate Anderson-Darling p-value (D'Agostino and Stephens 1986)
     stable: bool = True
     notes: list[str] = field(default_factory=list)
+    ppm_within: float | None = None  # the same with the within sigma
+    normality_statistic: float | None = None  # Anderson-Darling A^2
+    normality_doubtful: bool = False  # A^2 above the 5% critical value
+    readings: int = 0
+    sigma_method: str = ""
 
 
 @dataclass
@@ -48,3 +62,152 @@ class AttributeRate:
     estimate: float
     ci: Interval
     confidence: float
+    count: float = 0.0
+    units: float = 0.0
+    method: str = ""
+
+
+def check_specs(lsl: float | None, usl: float | None) -> None:
+    """ValueError when the specification limits are reversed or equal."""
+    if lsl is not None and usl is not None and not lsl < usl:
+        raise ValueError(f"the lower specification limit (lsl = {lsl:g}) must be below the upper one "
+                         f"(usl = {usl:g}); check the two settings")
+
+
+def _check_confidence(confidence: float) -> float:
+    if not 0.0 < confidence < 1.0:
+        raise ValueError(f"the confidence level must be between 0 and 1 (e.g. 0.95), got {confidence:g}")
+    return float(confidence)
+
+
+def anderson_darling(x: np.ndarray) -> tuple[float, float]:
+    """Anderson-Darling A^2 for normality (mean and sd estimated) and its approximate p-value.
+
+    A^2 as in Stephens (1974); p from the modified A* = A^2 (1 + 0.75/n + 2.25/n^2) by the
+    formulas of D'Agostino and Stephens (1986, table 4.9).
+    """
+    x = np.sort(np.asarray(x, dtype=float))
+    n = x.size
+    z = (x - x.mean()) / x.std(ddof=1)
+    i = np.arange(1, n + 1)
+    a2 = float(-n - np.sum((2 * i - 1) * (stats.norm.logcdf(z) + stats.norm.logsf(z[::-1]))) / n)
+    a = a2 * (1 + 0.75 / n + 2.25 / n**2)
+    if a >= 0.6:
+        p = np.exp(1.2937 - 5.709 * a + 0.0186 * a * a)
+    elif a >= 0.34:
+        p = np.exp(0.9177 - 4.279 * a - 1.38 * a * a)
+    elif a >= 0.2:
+        p = 1 - np.exp(-8.318 + 42.796 * a - 59.938 * a * a)
+    else:
+        p = 1 - np.exp(-13.436 + 101.14 * a - 223.73 * a * a)
+    return a2, float(min(max(p, 0.0), 1.0))
+
+
+def ad_critical_5pct(n: int) -> float:
+    """The 5% critical value of A^2 for normality with estimated parameters (Stephens 1974)."""
+    return 0.752 / (1 + 0.75 / n + 2.25 / n**2)
+
+
+def _indices(mean: float, sigma: float, lsl: float | None, usl: float | None) -> tuple[float | None, float | None]:
+    """(Cp-like, Cpk-like) for one sigma; None where undefined."""
+    if not sigma > 0:
+        return None, None
+    sides = [(usl - mean) / (3 * sigma)] if usl is not None else []
+    sides += [(mean - lsl) / (3 * sigma)] if lsl is not None else []
+    both = (usl - lsl) / (6 * sigma) if lsl is not None and usl is not None else None
+    return both, (min(sides) if sides else None)
+
+
+def _ppm(mean: float, sigma: float, lsl: float | None, usl: float | None) -> float | None:
+    if not sigma > 0:
+        return None
+    low = stats.norm.cdf((lsl - mean) / sigma) if lsl is not None else 0.0
+    high = stats.norm.sf((usl - mean) / sigma) if usl is not None else 0.0
+    return float(1e6 * (low + high))
+
+
+def cp_interval(cp: float, nu: int, confidence: float) -> Interval:
+    """Chi-square interval for Cp with nu degrees of freedom (Kane 1986; Montgomery 2009, eq. 8.19)."""
+    alpha = 1 - confidence
+    return Interval(cp * float(np.sqrt(stats.chi2.ppf(alpha / 2, nu) / nu)),
+                    cp * float(np.sqrt(stats.chi2.ppf(1 - alpha / 2, nu) / nu)))
+
+
+def cpk_interval(cpk: float, n: int, confidence: float) -> Interval:
+    """Normal-approximation interval for Cpk from n readings (Bissell 1990)."""
+    z = float(stats.norm.ppf(1 - (1 - confidence) / 2))
+    half = z * float(np.sqrt(1 / (9 * n) + cpk * cpk / (2 * (n - 1))))
+    return Interval(cpk - half, cpk + half)
+
+
+def process_capability(readings: np.ndarray, sigma_within: float, lsl: float | None, usl: float | None,
+                       target: float | None = None, confidence: float = 0.95, stable: bool = True,
+                       sigma_method: str = "") -> Capability:
+    """Capability indices, intervals, expected ppm and a normality check for individual readings."""
+    check_specs(lsl, usl)
+    if lsl is None and usl is None:
+        raise ValueError("capability needs at least one specification limit (lsl or usl)")
+    confidence = _check_confidence(confidence)
+    x = np.asarray(readings, dtype=float).ravel()
+    x = x[~np.isnan(x)]
+    n = x.size
+    if n < 2:
+        raise ValueError("capability needs at least two readings")
+    mean, overall = float(np.mean(x)), float(np.std(x, ddof=1))
+    cp, cpk = _indices(mean, sigma_within, lsl, usl)
+    pp, ppk = _indices(mean, overall, lsl, usl)
+    cpm = None
+    if lsl is not None and usl is not None and target is not None and overall > 0:
+        cpm = (usl - lsl) / (6 * float(np.sqrt(overall**2 + (mean - target) ** 2)))
+    # intervals with nu = n - 1 for every index (common practice; exact for Pp, approximate for Cp
+    # whose within sigma comes from ranges or subgroup deviations)
+    ci = {}
+    for name, value, form in (("cp", cp, "chi2"), ("pp", pp, "chi2"), ("cpk", cpk, "bissell"),
+                              ("ppk", ppk, "bissell")):
+        if value is not None:
+            ci[name] = cp_interval(value, n - 1, confidence) if form == "chi2" else cpk_interval(value, n, confidence)
+    notes = [f"from {n} readings; within sigma {sigma_method or 'as the chart'}, overall sigma the "
+             "sample standard deviation; expected ppm out of spec under a normal model with the overall sigma"]
+    if not sigma_within > 0 or not overall > 0:
+        notes.append("the readings have no spread: the indices are undefined; check the gauge resolution")
+    cap = Capability(lsl=lsl, usl=usl, target=target, mean=mean, sigma_within=float(sigma_within),
+                     sigma_overall=overall, cp=cp, cpk=cpk, pp=pp, ppk=ppk, cpm=cpm,
+                     ppm_out=_ppm(mean, overall, lsl, usl), ci=ci, confidence=confidence, normality_p=None,
+                     stable=stable, notes=notes, ppm_within=_ppm(mean, sigma_within, lsl, usl), readings=n,
+                     sigma_method=sigma_method)
+    if n >= 8 and overall > 0:
+        a2, p = anderson_darling(x)
+        cap.normality_statistic, cap.normality_p = a2, p
+        cap.normality_doubtful = a2 > ad_critical_5pct(n)
+        if cap.normality_doubtful:
+            cap.notes.append(f"normality is doubtful (Anderson-Darling A2 = {a2:.3f} above the 5% critical value "
+                             f"{ad_critical_5pct(n):.3f}, approximate p = {p:.3g}): the indices and the expected "
+                             "ppm assume a normal distribution")
+    else:
+        cap.notes.append("fewer than 8 readings: normality was not checked")
+    if not stable:
+        cap.notes.append("the chart signals: the indices do not reflect a stable process")
+    return cap
+
+
+def attribute_rate(count: float, units: float, kind: str, confidence: float = 0.95) -> AttributeRate:
+    """Average proportion (Clopper-Pearson exact interval) or rate per unit (exact Poisson interval).
+
+    Clopper and Pearson (1934): beta quantiles; Garwood (1936): chi2(alpha/2, 2x)/2 to chi2(1 - alpha/2, 2x + 2)/2.
+    """
+    confidence = _check_confidence(confidence)
+    alpha = 1 - confidence
+    if units <= 0:
+        raise ValueError("no units inspected: the rate is undefined")
+    if kind == "proportion":
+        low = float(stats.beta.ppf(alpha / 2, count, units - count + 1)) if count > 0 else 0.0
+        high = float(stats.beta.ppf(1 - alpha / 2, count + 1, units - count)) if count < units else 1.0
+        method = "Clopper-Pearson exact binomial interval"
+    elif kind == "rate":
+        low = float(stats.chi2.ppf(alpha / 2, 2 * count)) / (2 * units) if count > 0 else 0.0
+        high = float(stats.chi2.ppf(1 - alpha / 2, 2 * count + 2)) / (2 * units)
+        method = "exact Poisson interval (Garwood)"
+    else:
+        raise ValueError(f"kind must be 'proportion' or 'rate', got {kind!r}")
+    return AttributeRate(kind=kind, estimate=float(count / units), ci=Interval(low, high), confidence=confidence,
+                         count=float(count), units=float(units), method=method)

@@ -16,7 +16,6 @@ from scipy import special, stats
 MAX_SUBGROUP_SIZE = 100
 
 
-
 def _gauss_legendre(low: float, high: float, panels: int, nodes: int) -> tuple[np.ndarray, np.ndarray]:
     """Composite Gauss-Legendre nodes and weights on [low, high]."""
     t, wt = np.polynomial.legendre.leggauss(nodes)
@@ -69,8 +68,10 @@ def d3(n: int) -> float:
 
 
 def c4(n: int) -> float:
-    """Mean of the sample standard deviation of n standard normal values."""
-    _check_n(n)
+    """Mean of the sample standard deviation of n standard normal values (any n >= 2: the gamma
+    formula is exact, which the pooled standard deviation needs for its 1 + sum(n - 1) readings)."""
+    if not isinstance(n, int | np.integer) or n < 2:
+        raise ValueError(f"c4 needs a whole number of readings of at least 2, got {n}")
     return float(np.sqrt(2.0 / (n - 1)) * np.exp(special.gammaln(n / 2) - special.gammaln((n - 1) / 2)))
 
 

@@ -42,7 +42,7 @@ class Rule:
         if self.kind == "trend" or self.kind == "alternate":
             return f"{self.kind} {self.m}"
         op = {"same_side": ">", "within": "<", "either_side": ">>"}[self.kind]
-        return f"{self.k}/{self.m}{op}{self.z:g}"
+        return f"{self.k}/{self.m}{op}{_decimal(self.z)}"
 
     @property
     def words(self) -> str:
@@ -51,7 +51,7 @@ class Rule:
             return f"{self.m} points in a row each higher than the one before, or each lower"
         if self.kind == "alternate":
             return f"{self.m} points in a row alternating up and down"
-        z = f"{self.z:g} standard error{'s' if self.z != 1 else ''}"
+        z = f"{_decimal(self.z)} standard error{'s' if self.z != 1 else ''}"
         if self.k == self.m == 1 and self.kind == "same_side":
             return f"a point more than {z} from the center line"
         lead = f"{self.k} of the last {self.m} points" if self.k < self.m else f"{self.m} points in a row"
@@ -67,6 +67,11 @@ class Rule:
     def is_zone(self) -> bool:
         """True for the K/M forms, whose run length has an exact Markov chain."""
         return self.kind in ("same_side", "within", "either_side")
+
+
+def _decimal(value: float) -> str:
+    """A number as plain decimals (never exponent notation), so the spelling parses back."""
+    return np.format_float_positional(value, trim="-")
 
 
 def parse_rules(text: str) -> list[Rule]:
@@ -131,17 +136,27 @@ def find_hits(z: np.ndarray, rules: list[Rule]) -> list[Hit]:
     return hits
 
 
+def zone_flags(rule: Rule, z: np.ndarray) -> list[np.ndarray]:
+    """Which points count toward a K/M rule: one flag array per side that is counted separately.
+
+    A same-side rule counts the upper and the lower side apart; the others have one flag.
+    Comparisons are strict, so a point exactly on Z is neither beyond nor within.
+    """
+    z = np.asarray(z, dtype=float)
+    if rule.kind == "same_side":
+        return [z > rule.z, z < -rule.z]
+    if rule.kind == "within":
+        return [np.abs(z) < rule.z]
+    if rule.kind == "either_side":
+        return [np.abs(z) > rule.z]
+    raise ValueError(f"rule '{rule.text}' is not a K/M rule")
+
+
 def _rule_hits(z: np.ndarray, rule: Rule) -> list[tuple[int, np.ndarray]]:
     if rule.kind == "trend" or rule.kind == "alternate":
         return _run_hits(z, rule)
-    if rule.kind == "same_side":
-        flags = [z > rule.z, z < -rule.z]
-    elif rule.kind == "within":
-        flags = [np.abs(z) < rule.z]
-    else:
-        flags = [np.abs(z) > rule.z]
     out: list[tuple[int, np.ndarray]] = []
-    for flag in flags:
+    for flag in zone_flags(rule, z):
         csum = np.concatenate([[0], np.cumsum(flag)])
         idx = np.arange(len(z))
         start = np.maximum(idx - rule.m + 1, 0)

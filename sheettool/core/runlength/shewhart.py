@@ -23,10 +23,25 @@ def mean_beyond_probability(shift: np.ndarray | float, n: int = 1, k: float = 3.
 
 
 def range_beyond_probability(n: int, sigma_ratio: float = 1.0, k: float = 3.0) -> float:
-    """P(a subgroup range falls beyond the R chart's limits when sigma is multiplied by sigma_ratio."""
+    """P(a subgroup range falls beyond the R chart's limits when sigma is multiplied by sigma_ratio.
+
+    From the normal range distribution (Tippett 1925) at D3 d2 sigma and D4 d2 sigma.
+    """
     c = constants(n, k)
     upper = 1.0 - float(range_cdf(c.D4 * c.d2 / sigma_ratio, n)[0])
     lower = float(range_cdf(c.D3 * c.d2 / sigma_ratio, n)[0]) if c.D3 > 0 else 0.0
+    return upper + lower
+
+
+def sd_beyond_probability(n: int, sigma_ratio: float = 1.0, k: float = 3.0) -> float:
+    """P(a subgroup standard deviation falls beyond the S chart's limits B3 c4 sigma, B4 c4 sigma).
+
+    (n - 1) S^2 / sigma^2 is chi-square with n - 1 degrees of freedom (normal data; common practice).
+    """
+    c = constants(n, k)
+    dof = n - 1
+    upper = float(stats.chi2.sf(dof * (c.B4 * c.c4 / sigma_ratio) ** 2, dof))
+    lower = float(stats.chi2.cdf(dof * (c.B3 * c.c4 / sigma_ratio) ** 2, dof)) if c.B3 > 0 else 0.0
     return upper + lower
 
 

@@ -1,0 +1,180 @@
+"""`sheettool runlength`: how a monitoring scheme behaves, without a workbook."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import os
+import sys
+from typing import Any
+
+from sheettool.core.rules import parse_rules
+from sheettool.core.runlength.scheme import ATTRIBUTES, Scheme, SchemeResult, scheme_run_lengths
+from sheettool.errors import UsageError
+from sheettool.report import run_length_json
+
+_CHARTS = {"xbar": "xbar", "xbar-r": "xbar-r", "xbar-s": "xbar-s", "individuals": "individuals",
+           "ewma": "ewma", "cusum": "cusum", "p": "p", "np": "np", "c": "c", "u": "u"}
+_VARIABLE_SHIFTS = "0,0.5,1,1.5,2,3"
+
+
+def add_parser(subs: argparse._SubParsersAction) -> None:
+    """Register the sub-command."""
+    p = subs.add_parser("runlength", help="ARL, SDRL and percentiles of a chart and its rules, without a workbook",
+                        description="Run-length behaviour of a monitoring scheme: average run length (ARL), its "
+                        "standard deviation and percentiles, steady-state ARL and time to signal.")
+    p.add_argument("--chart", default="xbar", choices=list(_CHARTS),
+                   help="chart kind (default xbar: the X-bar chart alone; xbar-r / xbar-s add the R or S chart)")
+    p.add_argument("--n", help="readings per subgroup (variables) or units inspected per subgroup (p, np, u)")
+    p.add_argument("--rules", default="limits", help="pattern rules or preset for Shewhart and attribute charts")
+    p.add_argument("--lam", default="0.2", help="EWMA weight lambda, in (0, 1] (default 0.2)")
+    p.add_argument("--L", default="3", help="EWMA limit width in standard errors (default 3)")
+    p.add_argument("--k", default="0.5", help="CUSUM reference value in standard errors (default 0.5)")
+    p.add_argument("--h", default="5", help="CUSUM decision interval in standard errors (default 5)")
+    p.add_argument("--p0", help="in-control proportion defective (p, np)")
+    p.add_argument("--c0", help="in-control defects per subgroup (c) or per unit (u)")
+    p.add_argument("--shift", help="comma-separated list: mean shifts in process sigmas (default "
+                   f"{_VARIABLE_SHIFTS}); for p, np, c and u the shifted proportion or rate itself "
+                   "(default: the in-control rate and 1, 2 and 3 standard errors above it)")
+    p.add_argument("--sigma-ratio", default="1", help="process sigma as a multiple of the in-control sigma")
+    p.add_argument("--interval", help="hours between subgroups: gives the average time to signal (ATS)")
+    p.add_argument("--hours-per-month", help="production hours per month: gives expected false alarms per month")
+    p.add_argument("--json", action="store_true", help="print the results as one JSON object on stdout")
+    p.set_defaults(run=run)
+
+
+def _number(option: str, text: str | None, positive: bool = False) -> float | None:
+    if text is None:
+        return None
+    try:
+        value = float(text)
+    except ValueError:
+        raise UsageError(f"{option}: '{text}' is not a number") from None
+    if not math.isfinite(value):
+        raise UsageError(f"{option}: must be a finite number, got '{text}'")
+    if positive and value <= 0:
+        raise UsageError(f"{option}: must be a positive number, got '{text}'")
+    return value
+
+
+def _shifts(text: str) -> list[float]:
+    parts = [part.strip() for part in text.split(",")]
+    if not all(parts):
+        raise UsageError(f"--shift: '{text}' has an empty entry; write numbers separated by commas")
+    return [_number("--shift", part) for part in parts]
+
+
+def _scheme(args: argparse.Namespace) -> Scheme:
+    chart = _CHARTS[args.chart]
+    try:
+        rules = tuple(parse_rules(args.rules))
+    except ValueError as exc:
+        raise UsageError(f"--rules: {exc}") from None
+    n = _number("--n", args.n, positive=True)
+    if chart == "individuals" and n not in (None, 1.0):
+        raise UsageError("--n: an individuals chart plots single readings; leave --n out or use --chart xbar")
+    if n is None:
+        if chart in ("xbar", "xbar-r", "xbar-s", "p", "np", "u"):
+            raise UsageError(f"--n: needed for the {args.chart} chart (readings or units per subgroup)")
+        n = 1.0
+    return Scheme(chart="xbar" if chart == "individuals" else chart, rules=rules, n=n,
+                  p0=_number("--p0", args.p0), c0=_number("--c0", args.c0), lam=_number("--lam", args.lam),
+                  L=_number("--L", args.L), k=_number("--k", args.k), h=_number("--h", args.h))
+
+
+def run(args: argparse.Namespace) -> int:
+    """Compute the run lengths and print them as JSON or a table."""
+    ratio = _number("--sigma-ratio", args.sigma_ratio, positive=True)
+    interval = _number("--interval", args.interval, positive=True)
+    per_month = _number("--hours-per-month", args.hours_per_month, positive=True)
+    given = _shifts(args.shift) if args.shift is not None else None
+    try:
+        scheme = _scheme(args)
+        attribute = scheme.chart in ATTRIBUTES
+        if given is not None:
+            shifts = given
+        elif attribute:
+            shifts = [scheme.count_model.rate_at(s) for s in (0.0, 1.0, 2.0, 3.0)]
+        else:
+            shifts = _shifts(_VARIABLE_SHIFTS)
+        conditions = [(s, 1.0 if attribute else ratio) for s in shifts]
+        in_control = (scheme.count_model.rate0 if attribute else 0.0, 1.0)
+        extra = [] if in_control in conditions else [in_control]  # the in-control ARL, for false alarms
+        result = scheme_run_lengths(scheme, conditions + extra)
+    except ValueError as exc:
+        raise UsageError(str(exc)) from None
+    arl0 = result.results[(conditions + extra).index(in_control)].arl
+    del result.conditions[len(conditions):], result.results[len(conditions):]
+    doc = _document(args, scheme, result, arl0, interval, per_month)
+    try:
+        if args.json:
+            json.dump(doc, sys.stdout, indent=2)
+            sys.stdout.write("\n")
+        else:
+            sys.stdout.write(_table(doc))
+        sys.stdout.flush()
+    except BrokenPipeError:  # the reader went away (e.g. `| head`): stop quietly
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+    return 0
+
+
+def _document(args: argparse.Namespace, scheme: Scheme, result: SchemeResult, arl0: float,
+              interval: float | None, per_month: float | None) -> dict[str, Any]:
+    attribute = scheme.chart in ATTRIBUTES
+    info: dict[str, Any] = {"chart": args.chart, "n": scheme.n}
+    if scheme.chart == "ewma":
+        info.update({"lambda": scheme.lam, "L": scheme.L})
+    elif scheme.chart == "cusum":
+        info.update({"k": scheme.k, "h": scheme.h})
+    else:
+        info["rules"] = [r.text for r in scheme.rules]
+    if scheme.chart in ("p", "np"):
+        info["p0"] = scheme.p0
+    if scheme.chart in ("c", "u"):
+        info["c0"] = scheme.c0
+    info.update({"interval_hours": interval, "hours_per_month": per_month})
+    rows = []
+    for (shift, ratio), rl in zip(result.conditions, result.results, strict=True):
+        row: dict[str, Any] = {"shift": shift, "sigma_ratio": None if attribute else ratio}
+        row.update(run_length_json(rl.arl, rl.sdrl, rl.percentiles, rl.steady_state_arl, rl.ci))
+        row["ats_hours"] = rl.arl * interval if interval and math.isfinite(rl.arl) else None
+        rows.append(row)
+    return {
+        "scheme": info,
+        "method": result.method,
+        "arl_in_control": arl0 if math.isfinite(arl0) else None,
+        "false_alarms_per_month": per_month / (interval * arl0) if interval and per_month else None,
+        "results": rows,
+    }
+
+
+def _fmt(value: float | None, digits: int = 4) -> str:
+    return "-" if value is None else f"{value:.{digits}g}"
+
+
+def _table(doc: dict[str, Any]) -> str:
+    scheme = doc["scheme"]
+    shown = ", ".join(f"{k}={v if not isinstance(v, list) else ','.join(v)}" for k, v in scheme.items()
+                      if v is not None)
+    attribute = scheme["chart"] in ATTRIBUTES
+    lines = [f"Scheme: {shown}", f"Method: {doc['method']}", f"In-control ARL: {_fmt(doc['arl_in_control'])}"]
+    if doc["false_alarms_per_month"] is not None:
+        lines.append(f"Expected false alarms per month: {doc['false_alarms_per_month']:.3g}")
+    head = ["rate" if attribute else "shift", "sigma x", "ARL", "SDRL", "5%", "50%", "95%", "steady ARL", "ATS h"]
+    body = []
+    for r in doc["results"]:
+        pct = r["percentiles"] or {}
+        arl = _fmt(r["arl"])
+        if r["arl_ci95"]:
+            arl += f" ({_fmt(r['arl_ci95'][0], 3)}-{_fmt(r['arl_ci95'][1], 3)})"
+        body.append([f"{r['shift']:g}", _fmt(r["sigma_ratio"], 3), arl, _fmt(r["sdrl"]), _fmt(pct.get("5")),
+                     _fmt(pct.get("50")), _fmt(pct.get("95")), _fmt(r["steady_state_arl"]), _fmt(r["ats_hours"])])
+    widths = [max(len(h), *(len(row[i]) for row in body)) if body else len(h) for i, h in enumerate(head)]
+    lines.append("")
+    lines.append("  ".join(h.rjust(w) for h, w in zip(head, widths, strict=True)))
+    lines.extend("  ".join(c.rjust(w) for c, w in zip(row, widths, strict=True)) for row in body)
+    lines.append("")
+    lines.append("ARL: average number of points until the scheme signals; percentiles of the run length in "
+                 "points; steady state: after a long in-control run without a false alarm.")
+    return "\n".join(lines) + "\n"

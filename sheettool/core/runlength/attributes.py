@@ -1,0 +1,99 @@
+"""p, np, c and u charts: exact cell probabilities from the binomial and Poisson distributions.
+
+Every attribute chart plots a count X (or X / n) standardized with its in-control mean and standard
+error: z = (X - mean0) / se0, with mean0 = n p0, se0 = sqrt(n p0 (1 - p0)) for p and np (binomial,
+X ~ Bin(n, p1)) and mean0 = n u0, se0 = sqrt(n u0) for c (n = 1) and u (Poisson, X ~ Poisson(n u1)).
+The p and np charts (and the c and u charts) therefore share their run length. The discrete
+values fall into the cells of the zone chain of Champ and Woodall (1987), points exactly on a
+threshold included, so zone rules and limits alike are exact. A lower limit below zero (as drawn,
+floored at zero) can never be crossed, which the standardized support shows by itself.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import stats
+
+from sheettool.core.rules import Rule
+from sheettool.core.runlength.zones import ZoneChain, discrete_cell_probabilities
+
+_TAIL = 1e-15
+
+
+@dataclass(frozen=True)
+class CountModel:
+    """The count behind an attribute chart: binomial (n, rate) or Poisson (n * rate)."""
+
+    family: str  # "binomial" or "poisson"
+    n: float
+    rate0: float
+
+    def __post_init__(self) -> None:
+        if self.family == "binomial":
+            if not 0.0 < self.rate0 < 1.0:
+                raise ValueError(f"p0 must be a proportion between 0 and 1, got {self.rate0}")
+            if self.n < 1 or self.n != int(self.n):
+                raise ValueError(f"n (units inspected per subgroup) must be a whole number >= 1, got {self.n}")
+        elif self.family == "poisson":
+            if not self.rate0 > 0.0:
+                raise ValueError(f"the in-control defect rate must be positive, got {self.rate0}")
+            if not self.n > 0:
+                raise ValueError(f"n (units per subgroup) must be positive, got {self.n}")
+        else:
+            raise ValueError(f"unknown count family '{self.family}'")
+
+    @property
+    def mean0(self) -> float:
+        return self.n * self.rate0
+
+    @property
+    def se0(self) -> float:
+        """In-control standard error of the count."""
+        if self.family == "binomial":
+            return float(np.sqrt(self.n * self.rate0 * (1.0 - self.rate0)))
+        return float(np.sqrt(self.n * self.rate0))
+
+    def rate_at(self, shift: float) -> float:
+        """The rate moved by `shift` standard errors of the plotted statistic (kept within its range)."""
+        rate = self.rate0 + shift * self.se0 / self.n
+        return float(np.clip(rate, 0.0, 1.0) if self.family == "binomial" else max(rate, 0.0))
+
+    def check_rate(self, rate: float) -> None:
+        """Raise ValueError when a rate is outside the family's range."""
+        if not np.isfinite(rate) or rate < 0 or (self.family == "binomial" and rate > 1):
+            what = "a proportion from 0 to 1" if self.family == "binomial" else "zero or positive"
+            raise ValueError(f"the shifted rate must be {what}, got {rate}")
+
+    def support(self, rate: float, top_z: float) -> tuple[np.ndarray, np.ndarray]:
+        """Standardized support and probabilities at `rate`; the far upper tail is lumped at the top."""
+        self.check_rate(rate)
+        if self.family == "binomial":
+            x = np.arange(int(self.n) + 1)
+            pmf = stats.binom.pmf(x, int(self.n), rate)
+        else:
+            mu = self.n * rate
+            top = int(max(stats.poisson.isf(_TAIL, mu) if mu > 0 else 0, self.mean0 + top_z * self.se0 + 1)) + 1
+            x = np.arange(top + 1)
+            pmf = stats.poisson.pmf(x, mu)
+            pmf[-1] += stats.poisson.sf(top, mu)
+        return (x - self.mean0) / self.se0, pmf
+
+    def sample(self, rng: np.random.Generator, rate: float, shape: tuple[int, int]) -> np.ndarray:
+        """Standardized counts drawn at `rate`, for simulation."""
+        if self.family == "binomial":
+            counts = rng.binomial(int(self.n), rate, shape)
+        else:
+            counts = rng.poisson(self.n * rate, shape)
+        return (counts - self.mean0) / self.se0
+
+
+def attribute_chain(model: CountModel, rules: list[Rule]) -> ZoneChain:
+    """The zone chain of an attribute chart; its `shift` argument is the rate itself (p1, u1 or c1)."""
+
+    def cells(cuts: np.ndarray, rate: float, _sigma_ratio: float) -> np.ndarray:
+        z, pmf = model.support(rate, float(np.max(np.abs(cuts))))
+        return discrete_cell_probabilities(cuts, z, pmf)
+
+    return ZoneChain(rules, cells, in_control=(model.rate0, 1.0))
