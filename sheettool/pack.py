@@ -9,11 +9,17 @@ from __future__ import annotations
 import datetime as dt
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
+from sheettool.api import evaluate_file
+from sheettool.batch import Progress, collect_inputs, run_parallel
 from sheettool.core.capability import Capability
+from sheettool.errors import SheettoolError
 from sheettool.evaluation import CharacteristicResult
+from sheettool.report import EvaluationReport
+from sheettool.settings import Setting
 
 MIN_BASE_SUBGROUPS = 20  # fewer subgroups than this set the limits: "too little data" (common practice: 20-25)
 CAPABILITY_TARGET = 1.33  # Cpk below this: "below capability target" (common practice minimum)
@@ -138,3 +144,90 @@ def source_label(path: Path, roots: list[Path]) -> str:
         except ValueError:
             continue
     return path.name
+
+
+@dataclass
+class PackJob:
+    """One input of the pack: the file, its label, the settings and carried limits it gets."""
+
+    path: Path
+    source: str
+    settings: dict[str, Setting]
+    carried: dict[str, dict[str, Any]] | None = None
+
+
+@dataclass
+class FileOutcome:
+    """What became of one input: its report, or the reason it could not be evaluated."""
+
+    job: PackJob
+    report: EvaluationReport | None = None
+    error: str = ""
+
+
+def evaluate_for_pack(job: PackJob) -> FileOutcome:
+    """Evaluate one input without writing; any failure becomes the outcome's error, never an exception."""
+    try:
+        report = evaluate_file(job.path, settings=job.settings, write=False, carried=job.carried,
+                               carried_from="the previous pack")
+    except SheettoolError as exc:
+        return FileOutcome(job, error=str(exc))
+    except Exception as exc:  # the pack boundary: one bad file must not stop the others
+        return FileOutcome(job, error=f"{job.path}: could not be evaluated ({type(exc).__name__}: {exc})")
+    return FileOutcome(job, report=report)
+
+
+def pack_key(source: str, sheet: str) -> str:
+    """How a characteristic is named in the pack's limits block: source file and sheet."""
+    return f"{source} :: {sheet}"
+
+
+@dataclass
+class Pack:
+    """The evaluated pack: every input's outcome in input order, and the summary rows."""
+
+    outcomes: list[FileOutcome]
+    rows: list[PackRow]
+    period: Period | None
+
+    @property
+    def failed(self) -> bool:
+        """True when an input or a sheet could not be evaluated."""
+        return any("failed" in row.flags for row in self.rows)
+
+
+def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period | None = None,
+               carried: dict[str, dict[str, Any]] | None = None, jobs: int = 1,
+               progress: Progress | None = None, skip: tuple[Path, ...] = ()) -> Pack:
+    """Evaluate every workbook found in `paths` and summarise each characteristic over the period."""
+    roots = [p for p in map(Path, paths) if p.is_dir()]
+    missing = [p for p in map(Path, paths) if not p.exists()]
+    files = collect_inputs([p for p in map(Path, paths) if p.exists()], skip=skip)
+    todo = []
+    for path in files:
+        source = source_label(path, roots)
+        mine = None
+        if carried is not None:
+            prefix = pack_key(source, "")
+            mine = {key[len(prefix):]: entry for key, entry in carried.items() if key.startswith(prefix)}
+        todo.append(PackJob(path, source, settings, mine))
+    progress = progress or Progress(len(todo), quiet=True)
+    outcomes = run_parallel(evaluate_for_pack, todo, jobs, progress)
+    rows = [failed_row(str(p), "", f"{p}: not found") for p in missing]
+    for outcome in outcomes:
+        source = outcome.job.source
+        if outcome.report is None:
+            rows.append(failed_row(source, "", outcome.error))
+            continue
+        for result in outcome.report.characteristics:
+            rows.append(summary_row(source, result, period))
+        for problem in outcome.report.problems:
+            if problem.severity == "error":
+                rows.append(failed_row(source, _sheet_of(problem.where), problem.message))
+    return Pack(outcomes=outcomes, rows=rows, period=period)
+
+
+def _sheet_of(where: str) -> str:
+    """The sheet named in a problem's place ("file, sheet 'X'"), or ""."""
+    marker = "sheet '"
+    return where.split(marker, 1)[1].rstrip("'") if marker in where else ""
