@@ -10,7 +10,7 @@ from sheettool.evaluation import EvaluationOptions, evaluate
 from sheettool.problems import Problem
 from sheettool.report import EvaluationReport
 from sheettool.workbook.reader import read_workbook
-from sheettool.workbook.writer import write_evaluated_workbook
+from sheettool.workbook.writer import WriterOptions, write_evaluated_workbook
 
 
 def default_output(input_path: Path) -> Path:
@@ -30,8 +30,12 @@ def file_digest(path: Path) -> tuple[str, int]:
 
 
 def evaluate_file(input_path: Path, output: Path | None = None,
-                  options: EvaluationOptions | None = None, write: bool = True) -> EvaluationReport:
-    """Read a workbook, evaluate every characteristic in it and write the evaluated workbook."""
+                  options: EvaluationOptions | None = None, write: bool = True,
+                  writer: WriterOptions | None = None) -> EvaluationReport:
+    """Read a workbook, evaluate every characteristic in it and write the evaluated workbook.
+
+    `writer` chooses live formulas and the fixed document date of the output (see WriterOptions).
+    """
     input_path = Path(input_path)
     read = read_workbook(input_path)
     try:
@@ -52,5 +56,5 @@ def evaluate_file(input_path: Path, output: Path | None = None,
     report = EvaluationReport(input=input_path, input_sha256=sha, input_size=size,
                               output=out if write else None, characteristics=results, problems=problems)
     if write:
-        write_evaluated_workbook(report, reads, out)
+        write_evaluated_workbook(report, reads, out, writer)
     return report
