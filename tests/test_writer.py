@@ -144,12 +144,12 @@ def test_without_formulas_only_values(tmp_path):
 def test_reproducible_bytes(tmp_path):
     report, reads = report_for(tmp_path, [varying_sizes_case(), attribute_case()])
     a, b = tmp_path / "a.xlsx", tmp_path / "b.xlsx"
+    when = dt.datetime(2026, 11, 30, 17, 5, tzinfo=dt.UTC).timestamp()
+    os.utime(report.input, (when, when))
     write_evaluated_workbook(report, reads, a, WriterOptions(formulas=True))
-    os.utime(report.input, None)  # a re-run later, same input content and time stamp below
-    write_evaluated_workbook(report, reads, b, WriterOptions(formulas=True))
-    stamp = dt.datetime.fromtimestamp(report.input.stat().st_mtime, tz=dt.UTC)
+    write_evaluated_workbook(report, reads, b, WriterOptions(formulas=True))  # a re-run: same input, same time
     c = tmp_path / "c.xlsx"
-    os.utime(report.input, (stamp.timestamp() + 3600, stamp.timestamp() + 3600))
+    os.utime(report.input, (when + 3600, when + 3600))
     write_evaluated_workbook(report, reads, c, WriterOptions(formulas=True))
     with zipfile.ZipFile(b) as zb, zipfile.ZipFile(c) as zc:
         differ = [n for n in zb.namelist() if zb.read(n) != zc.read(n)]
