@@ -14,6 +14,7 @@ from typing import Any
 
 import numpy as np
 
+from sheettool.core.charts import PlottedStatistic
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells
 from sheettool.workbook.writer.data_tab import DataLayout, StatColumns
@@ -124,7 +125,7 @@ def control_chart(book: Any, layout: DataLayout, sc: StatColumns, lines: LineShe
     legend_off: list[int] = []
     if zones:
         for i, z in enumerate(ZONES):
-            xs, ys = lines.line(layout, f"{stat.label}: {z:+g} standard errors", stat.center + z * stat.sigma)
+            xs, ys = lines.line(layout, f"{stat.label}: {z:+g} standard errors", _zone(stat, z))
             chart.add_series({"name": "zone lines (1 and 2 standard errors)", "categories": xs, "values": ys,
                               **style.series_look("zone", m)})
             if i:
@@ -142,7 +143,7 @@ def control_chart(book: Any, layout: DataLayout, sc: StatColumns, lines: LineShe
                       **style.series_look("signal", m)})
     arrays = [stat.values, stat.lcl, stat.ucl, stat.center]
     if zones:
-        arrays += [stat.center + z * stat.sigma for z in ZONES]
+        arrays += [_zone(stat, z) for z in ZONES]
     y_axis = value_axis(arrays)
     chart.set_title({"name": title, "name_font": {"size": 11, "bold": True, "color": style.SLATE}})
     chart.set_x_axis({**subgroup_axis(layout), "major_gridlines": {"visible": False},
@@ -157,6 +158,11 @@ def control_chart(book: Any, layout: DataLayout, sc: StatColumns, lines: LineShe
     chart.show_blanks_as("gap")
     chart.show_hidden_data()
     return chart
+
+
+def _zone(stat: PlottedStatistic, z: float) -> np.ndarray:
+    """A zone line z standard errors from the center, kept between the limits (a floored LCL stays the floor)."""
+    return np.clip(stat.center + z * stat.sigma, stat.lcl, stat.ucl)
 
 
 def _axis_decimals(step: float) -> int:

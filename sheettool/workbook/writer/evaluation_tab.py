@@ -231,7 +231,9 @@ def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: 
         text = ("varies by point: see data tab; " + ", ".join(notes)) if notes else "the same at every point"
         if stat.lcl_floored:
             text += "; the LCL formula gives a value below zero, shown as 0"
-        ws.write_string(rows.row, 4, text)
+        ws.write_string(rows.row, 4, text, fmt["wrap"])
+        if len(text) > style.EVAL_COLUMNS[4]:
+            ws.set_row(rows.row, 15 * math.ceil(len(text) / (style.EVAL_COLUMNS[4] - 4)))
         rows.row += 1
     if live:
         out.as_values = [f"{sc.stat.label} {word}" for sc in stats for key, word in LIMIT_KEYS
@@ -312,7 +314,7 @@ def _capability(rows: _Rows, result: CharacteristicResult) -> None:
     facts = [("Mean", f"{cap.mean:.6g}"), ("Sigma within", f"{cap.sigma_within:.6g}"),
              ("Sigma overall", f"{cap.sigma_overall:.6g}")]
     if cap.ppm_out is not None:
-        facts.append(("Expected out of specification", f"{cap.ppm_out:,.1f} parts per million (normal model)"))
+        facts.append(("Out of specification", f"{cap.ppm_out:,.1f} parts per million (normal model)"))
     if cap.normality_p is not None:
         facts.append(("Normality test p-value", f"{cap.normality_p:.4f}"))
     for label, value in facts:
