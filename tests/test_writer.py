@@ -48,7 +48,7 @@ def test_evaluation_tab_contents(built):
     joined = "\n".join(text)
     assert "X-bar and S: subgroup means and subgroup standard deviations; subgroups of 6" in joined
     assert "varies by point: see data tab" in joined
-    assert "LCL formula gives a value below zero" in joined
+    assert "LCL below zero by formula, shown as 0" in joined
     assert "Not a stable process" in joined
     assert "2026-11-02 06:00 to 2026-11-05 12:00" in joined  # period from the dates (40 subgroups, 2 h apart)
     assert "LSL 24.95, USL 25.05, target 25" in joined

@@ -92,6 +92,7 @@ def formats(book: xlsxwriter.workbook.Workbook, decimals: int = 4) -> dict[str, 
         "text": book.add_format({"valign": "top"}),
         "wrap": book.add_format({"text_wrap": True, "valign": "top"}),
         "count": book.add_format({"num_format": "0"}),
+        "point": book.add_format({"num_format": "0", "align": "center"}),
         "arl": book.add_format({"num_format": "#,##0.0"}),
         "ratio": book.add_format({"num_format": "0.000"}),
         "hours": book.add_format({"num_format": "#,##0.0"}),
@@ -101,6 +102,6 @@ def formats(book: xlsxwriter.workbook.Workbook, decimals: int = 4) -> dict[str, 
         "link": book.add_format({"font_color": LINK, "underline": 1}),
     }
     for d in range(0, 11):
-        fmt[f"dec{d}"] = book.add_format({"num_format": number_format(d)})
+        fmt[f"dec{d}"] = book.add_format({"num_format": number_format(d), "valign": "top"})
     fmt["number"] = fmt[f"dec{min(10, decimals)}"]
     return fmt

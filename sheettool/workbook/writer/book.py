@@ -102,8 +102,8 @@ def write_evaluated_workbook(report: EvaluationReport, reads: list[SheetRead], p
         for i, (result, read, (eval_tab, data_tab)) in enumerate(zip(results, reads, names, strict=True)):
             layout = plan_data_tab(result, read, data_tab, eval_tab)
             written = write_evaluation_tab(book, eval_ws[i], fmt, result, layout, lines, links, live, defined, i + 1)
-            limit_refs = written.limit_cells if live else {}
-            stats_as_values = write_data_tab(data_ws[i], fmt, layout, result, read, limit_refs, live, f"data_{i + 1}")
+            limit_names = written.limit_names if live else {}
+            stats_as_values = write_data_tab(data_ws[i], fmt, layout, result, read, limit_names, live, f"data_{i + 1}")
             as_values += [f"{result.characteristic.name}: {what}" for what in stats_as_values + written.as_values]
         write_performance_tab(book, perf_ws, fmt, results, [e for e, _ in names])
         write_notes_tab(notes_ws, fmt, report, reads, stamp, live, as_values, PRINT_ROWS)

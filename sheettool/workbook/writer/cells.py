@@ -8,7 +8,7 @@ import re
 from typing import Any
 
 import numpy as np
-from xlsxwriter.utility import xl_rowcol_to_cell
+from xlsxwriter.utility import xl_col_to_name, xl_rowcol_to_cell
 
 EXCEL_EPOCH = dt.datetime(1899, 12, 30)
 
@@ -106,8 +106,6 @@ def width(texts: list[str], least: int = 8, most: int = 48) -> int:
 
 def unique_headers(names: list[str], first_letter: int = 0) -> list[str]:
     """Table headers must be unique and non-empty: fill blanks and number repeats."""
-    from xlsxwriter.utility import xl_col_to_name
-
     out: list[str] = []
     seen: set[str] = set()
     for i, name in enumerate(names):

@@ -172,7 +172,7 @@ def _axis_decimals(step: float) -> int:
     return max(0, extra - power)
 
 
-def arl_chart(book: Any, series: list[tuple[str, str, str]], largest: float) -> Any:
+def arl_chart(book: Any, series: list[tuple[str, str, str]], largest: float, widest: float) -> Any:
     """ARL against mean shift, one line per scheme, logarithmic y axis. series: (name, x ref, y ref)."""
     chart = book.add_chart({"type": "scatter", "subtype": "straight_with_markers"})
     for i, (name, xs, ys) in enumerate(series):
@@ -181,7 +181,8 @@ def arl_chart(book: Any, series: list[tuple[str, str, str]], largest: float) -> 
     chart.set_title({"name": "Average run length against the size of a mean shift",
                      "name_font": {"size": 11, "bold": True, "color": style.SLATE}})
     chart.set_x_axis({"name": "Mean shift (process standard deviations)", "name_font": {"size": 9},
-                      "num_font": {"size": 8}, "min": 0, "major_gridlines": {"visible": False}})
+                      "num_font": {"size": 8}, "min": 0, "max": widest if widest > 0 else None,
+                      "major_gridlines": {"visible": False}})
     chart.set_y_axis({"name": "ARL: points plotted until a signal (log scale)", "log_base": 10, "min": 1,
                       "max": top, "name_font": {"size": 9}, "num_font": {"size": 8}, "num_format": "#,##0",
                       "major_gridlines": {"visible": True, "line": {"color": style.MIST, "width": 0.5}}})

@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
+from xlsxwriter.utility import xl_cell_to_rowcol
 
 from sheettool.core.charts import PlottedStatistic
 from sheettool.evaluation import CharacteristicResult
@@ -113,8 +114,6 @@ def plan_data_tab(result: CharacteristicResult, read: SheetRead, tab: str, eval_
 
 
 def _column_index(letter: str) -> int:
-    from xlsxwriter.utility import xl_cell_to_rowcol
-
     return xl_cell_to_rowcol(f"{letter}1")[1]
 
 
@@ -125,7 +124,7 @@ def _as_float(value: object) -> float:
 
 
 def write_data_tab(ws: Any, fmt: dict[str, Any], layout: DataLayout, result: CharacteristicResult,
-                   read: SheetRead, limit_refs: dict[tuple[str, str], str], live: bool, table: str) -> list[str]:
+                   read: SheetRead, limit_names: dict[tuple[str, str], str], live: bool, table: str) -> list[str]:
     """Write the tab; return the statistics that were written as values although --formulas was asked."""
     ch = result.characteristic
     ws.write_string(0, 0, f"Data of {ch.name}", fmt["title"])
@@ -170,7 +169,7 @@ def write_data_tab(ws: Any, fmt: dict[str, Any], layout: DataLayout, result: Cha
             else:
                 cells.number(ws, r, sc.value, v, stat_fmt)
             for key, col, arr in (("center", sc.center, center), ("lcl", sc.lcl, lcl), ("ucl", sc.ucl, ucl)):
-                ref = limit_refs.get((name, key))
+                ref = limit_names.get((name, key))
                 if ref is not None and arr[i] == arr[i]:
                     ws.write_formula(r, col, "=" + ref, limit_fmt, arr[i])
                 else:

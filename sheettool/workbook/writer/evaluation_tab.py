@@ -32,9 +32,9 @@ class Links:
 
 @dataclass
 class EvaluationWritten:
-    """What the other tabs need back: cells holding constant limits, names defined, formulas not used."""
+    """What the other tabs need back: the workbook names of constant limits, formulas not used."""
 
-    limit_cells: dict[tuple[str, str], str] = field(default_factory=dict)
+    limit_names: dict[tuple[str, str], str] = field(default_factory=dict)
     names: list[str] = field(default_factory=list)
     as_values: list[str] = field(default_factory=list)
 
@@ -205,7 +205,7 @@ def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: 
     limit_fmt = fmt[f"dec{min(10, layout.decimals + 2)}"]
     for sc in stats:
         stat = sc.stat
-        ws.write_string(rows.row, 0, stat.label)
+        ws.write_string(rows.row, 0, stat.label, fmt["text"])
         notes = []
         for c, (key, word) in enumerate(LIMIT_KEYS, start=1):
             arr = getattr(stat, key)
@@ -216,28 +216,27 @@ def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: 
                     ws.write_formula(rows.row, c, "=" + live_cell.formula, limit_fmt, live_cell.value)
                 else:
                     cells.number(ws, rows.row, c, float(arr[0]), limit_fmt)
-                ref = cells.cell(layout.eval_tab, rows.row, c)
-                out.limit_cells[(stat.name, key)] = ref
                 name = cells.defined_name(layout.eval_tab, stat.name, word.replace(" ", "_"))
                 while name.lower() in used_names:
                     name += "_"
                 used_names.add(name.lower())
-                book.define_name(name, "=" + ref)
+                book.define_name(name, "=" + cells.cell(layout.eval_tab, rows.row, c))
+                out.limit_names[(stat.name, key)] = name
                 out.names.append(name)
             else:
-                ws.write_string(rows.row, c, "varies")
+                ws.write_string(rows.row, c, "varies", fmt["text"])
                 lo, hi = (float(finite.min()), float(finite.max())) if finite.size else (math.nan, math.nan)
                 notes.append(f"{word} {lo:.{layout.decimals + 2}f} to {hi:.{layout.decimals + 2}f}")
         text = ("varies by point: see data tab; " + ", ".join(notes)) if notes else "the same at every point"
         if stat.lcl_floored:
-            text += "; the LCL formula gives a value below zero, shown as 0"
+            text += "; LCL below zero by formula, shown as 0"
         ws.write_string(rows.row, 4, text, fmt["wrap"])
         if len(text) > style.EVAL_COLUMNS[4]:
             ws.set_row(rows.row, 15 * math.ceil(len(text) / (style.EVAL_COLUMNS[4] - 4)))
         rows.row += 1
     if live:
         out.as_values = [f"{sc.stat.label} {word}" for sc in stats for key, word in LIMIT_KEYS
-                         if (sc.stat.name, key) in out.limit_cells and (sc.stat.name, key) not in live_cells]
+                         if (sc.stat.name, key) in out.limit_names and (sc.stat.name, key) not in live_cells]
     if const_at:
         rows.row = const_row
         rows.head(["Constant", "Value", "What it is"], (1,))
@@ -259,7 +258,7 @@ def _signals(rows: _Rows, result: CharacteristicResult, table: str) -> None:
     labels = {s.name: s.label for s in result.fit.statistics}
     top = rows.row
     for i, s in enumerate(result.signals, start=1):
-        ws.write_number(top + i, 0, s.subgroup)
+        ws.write_number(top + i, 0, s.subgroup, rows.fmt["point"])
         ws.write_string(top + i, 1, s.label)
         ws.write_string(top + i, 2, labels.get(s.statistic, s.statistic))
         ws.write_string(top + i, 3, s.rule)

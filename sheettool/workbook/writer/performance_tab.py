@@ -19,13 +19,15 @@ def write_performance_tab(book: Any, ws: Any, fmt: dict[str, Any], results: list
                           eval_tabs: list[str]) -> None:
     """Write the tables (one block of three columns per characteristic, side by side) and the chart."""
     ws.write_string(0, 0, "How each monitoring scheme behaves", fmt["title"])
+    ws.merge_range(1, 0, 1, 11, "", fmt["wrap"])
+    ws.set_row(1, 30)
     ws.write_string(1, 0, "ARL: average number of points plotted until the scheme signals. ATS: the same in "
                     "hours, where the sampling interval is known. A shift is measured in process standard "
-                    "deviations; at shift 0 every signal is a false alarm.", fmt["text"])
+                    "deviations; at shift 0 every signal is a false alarm.", fmt["wrap"])
     chart_row = 3
     top = chart_row + style.CHART_ROWS + 3
     series: list[tuple[str, str, str]] = []
-    largest = 10.0
+    largest, widest = 10.0, 0.0
     for i, (result, tab) in enumerate(zip(results, eval_tabs, strict=True)):
         col = i * 4
         perf = result.performance
@@ -44,10 +46,11 @@ def write_performance_tab(book: Any, ws: Any, fmt: dict[str, Any], results: list
             cells.number(ws, r, col + 2, s.ats_hours, fmt["hours"])
             if math.isfinite(s.arl):
                 largest = max(largest, s.arl)
+            widest = max(widest, s.shift)
         last = first + max(0, len(grid) - 1)
         series.append((result.characteristic.name, cells.column_range(PERFORMANCE_TAB, col, first, last),
                        cells.column_range(PERFORMANCE_TAB, col + 1, first, last)))
     ws.set_row(top + 1, 60)
     ws.set_row(top + 2, 30)
-    ws.insert_chart(chart_row, 0, charts.arl_chart(book, series, largest), {"x_offset": 4})
+    ws.insert_chart(chart_row, 0, charts.arl_chart(book, series, largest, widest), {"x_offset": 4})
     print_setup(ws, "scheme performance")
