@@ -100,7 +100,7 @@ def write_evaluated_workbook(report: EvaluationReport, reads: list[SheetRead], p
         defined: set[str] = set()
         as_values: list[str] = []
         for i, (result, read, (eval_tab, data_tab)) in enumerate(zip(results, reads, names, strict=True)):
-            layout = plan_data_tab(result, read, data_tab, eval_tab)
+            layout = plan_data_tab(result, read, data_tab, eval_tab, live)
             written = write_evaluation_tab(book, eval_ws[i], fmt, result, layout, lines, links, live, defined, i + 1)
             limit_names = written.limit_names if live else {}
             stats_as_values = write_data_tab(data_ws[i], fmt, layout, result, read, limit_names, live, f"data_{i + 1}")

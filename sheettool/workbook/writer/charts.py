@@ -15,6 +15,7 @@ from typing import Any
 import numpy as np
 
 from sheettool.core.charts import PlottedStatistic
+from sheettool.evaluation import Signal
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells
 from sheettool.workbook.writer.data_tab import DataLayout, StatColumns
@@ -116,8 +117,8 @@ def subgroup_axis(layout: DataLayout) -> dict[str, Any]:
 
 
 def control_chart(book: Any, layout: DataLayout, sc: StatColumns, lines: LineSheet, zones: bool,
-                  title: str, unit: str) -> Any:
-    """The control chart of one statistic: zones, limits, center, the points and the signals on top."""
+                  title: str, unit: str, signals: list[Signal]) -> Any:
+    """The control chart of one statistic: zones, limits, center, the points and its signals on top."""
     stat = sc.stat
     m = layout.m
     chart = book.add_chart({"type": "scatter", "subtype": "straight"})
@@ -139,8 +140,11 @@ def control_chart(book: Any, layout: DataLayout, sc: StatColumns, lines: LineShe
     chart.add_series({"name": "center line", "categories": xs, "values": ys, **style.series_look("center", m)})
     chart.add_series({"name": stat.label, "categories": x_ref, "values": layout.range(sc.value),
                       **style.series_look("values", m)})
-    chart.add_series({"name": "signal", "categories": x_ref, "values": layout.range(sc.signal),
-                      **style.series_look("signal", m)})
+    hits = sorted({s.subgroup - 1 for s in signals})
+    if hits:  # a compact list of the signalling points, so a long chart carries no column of blanks
+        xs = lines.ref(lines.add(f"{stat.label}: signal x", [float(layout.x[i]) for i in hits]))
+        ys = lines.ref(lines.add(f"{stat.label}: signal", [float(stat.values[i]) for i in hits]))
+        chart.add_series({"name": "signal", "categories": xs, "values": ys, **style.series_look("signal", m)})
     arrays = [stat.values, stat.lcl, stat.ucl, stat.center]
     if zones:
         arrays += [_zone(stat, z) for z in ZONES]

@@ -16,6 +16,7 @@ import numpy as np
 from xlsxwriter.utility import xl_cell_to_rowcol
 
 from sheettool.core.charts import PlottedStatistic
+from sheettool.core.data import Measurements
 from sheettool.evaluation import CharacteristicResult
 from sheettool.workbook.reader import SheetRead
 from sheettool.workbook.writer import cells, formulas
@@ -78,8 +79,9 @@ def _dates(result: CharacteristicResult) -> np.ndarray | None:
     return x if x.size < 2 or np.all(np.diff(x) > 0) else None
 
 
-def plan_data_tab(result: CharacteristicResult, read: SheetRead, tab: str, eval_tab: str) -> DataLayout:
-    """Decide the columns of the data tab."""
+def plan_data_tab(result: CharacteristicResult, read: SheetRead, tab: str, eval_tab: str,
+                  live: bool = False) -> DataLayout:
+    """Decide the columns of the data tab; with `live`, gather the copied readings to check formulas on."""
     m = result.characteristic.data.subgroups
     dates = _dates(result)
     headers = ["Point"] + (["Date"] if dates is not None else [])
@@ -100,10 +102,12 @@ def plan_data_tab(result: CharacteristicResult, read: SheetRead, tab: str, eval_
     flags_col = len(headers)
     headers.append("Signals at this point")
     readings = None
-    if reading_cols and len(read.rows) == m:
+    if live and reading_cols and len(read.rows) == m:
         readings = np.array([[_as_float(row[c - copy_col]) if c - copy_col < len(row) else np.nan
                               for c in reading_cols] for row in read.rows], dtype=float).reshape(m, len(reading_cols))
-    source = readings if readings is not None else np.concatenate([s.values for s in result.fit.statistics])
+    data = result.characteristic.data
+    source = (data.values if isinstance(data, Measurements)
+              else np.concatenate([s.values for s in result.fit.statistics]))
     return DataLayout(
         tab=tab, eval_tab=eval_tab, m=m,
         x=dates if dates is not None else np.arange(1, m + 1, dtype=float),
@@ -145,39 +149,45 @@ def write_data_tab(ws: Any, fmt: dict[str, Any], layout: DataLayout, result: Cha
         if live and builders[name] is None:
             as_values.append(sc.stat.label)
     signalled = {name: {s.subgroup - 1 for s in result.signals if s.statistic == name} for name in layout.stats}
-    columns = {name: (sc.stat.values.tolist(), sc.stat.center.tolist(), sc.stat.lcl.tolist(), sc.stat.ucl.tolist())
-               for name, sc in layout.stats.items()}
+    # One job per computed column: (column, values, format, formula builder or None); the loop below is
+    # the hot path for large files, so it is kept free of lookups.
+    jobs: list[tuple[int, list[float], Any, Callable[[int], str] | None]] = []
+    for name, sc in layout.stats.items():
+        jobs.append((sc.value, sc.stat.values.tolist(), stat_fmt, builders[name]))
+        for key, col in (("center", sc.center), ("lcl", sc.lcl), ("ucl", sc.ucl)):
+            ref = limit_names.get((name, key))
+            jobs.append((col, getattr(sc.stat, key).tolist(), limit_fmt, None if ref is None else _constant(ref)))
+    copy_fmt = [read_fmt if layout.copy_col + c in reading_set else None for c in range(len(layout.headers))]
     rows = read.rows if len(read.rows) == layout.m else [()] * layout.m
+    write_number, write_formula, copy_col = ws.write_number, ws.write_formula, layout.copy_col
+    base_col, flags_col = layout.base_col, layout.flags_col
+    base_list = base.tolist()
     for i in range(layout.m):
         r = layout.first_row + i
-        ws.write_number(r, 0, i + 1)
+        write_number(r, 0, i + 1)
         if layout.x_is_date:
             ws.write_datetime(r, 1, ch.dates[i], fmt["date"])
         for c, value in enumerate(rows[i]):
-            col = layout.copy_col + c
-            if isinstance(value, dt.datetime | dt.date):
-                ws.write_datetime(r, col, value, fmt["date"])
-            else:
-                cells.put(ws, r, col, value, read_fmt if col in reading_set else None)
-        ws.write_number(r, layout.base_col, 1 if base[i] else 0)
-        for name, sc in layout.stats.items():
-            values, center, lcl, ucl = columns[name]
+            kind = type(value)
+            if kind is float or kind is int:
+                if value - value == 0:
+                    write_number(r, copy_col + c, value, copy_fmt[c])
+            elif value is not None:
+                _copy(ws, r, copy_col + c, value, fmt)
+        write_number(r, base_col, 1 if base_list[i] else 0)
+        for col, values, cell_fmt, build in jobs:
             v = values[i]
-            build = builders[name]
-            if build is not None and v == v:
-                ws.write_formula(r, sc.value, "=" + build(r), stat_fmt, v)
-            else:
-                cells.number(ws, r, sc.value, v, stat_fmt)
-            for key, col, arr in (("center", sc.center, center), ("lcl", sc.lcl, lcl), ("ucl", sc.ucl, ucl)):
-                ref = limit_names.get((name, key))
-                if ref is not None and arr[i] == arr[i]:
-                    ws.write_formula(r, col, "=" + ref, limit_fmt, arr[i])
+            if v - v == 0:  # finite: NaN and infinities leave the cell empty
+                if build is None:
+                    write_number(r, col, v, cell_fmt)
                 else:
-                    cells.number(ws, r, col, arr[i], limit_fmt)
-            if i in signalled[name]:
-                cells.number(ws, r, sc.signal, v, stat_fmt)
-        if flags.get(i):
-            ws.write_string(r, layout.flags_col, flags[i])
+                    write_formula(r, col, "=" + build(r), cell_fmt, v)
+        if i in flags:
+            ws.write_string(r, flags_col, flags[i])
+    for name, sc in layout.stats.items():
+        values = sc.stat.values
+        for i in sorted(signalled[name]):
+            cells.number(ws, layout.first_row + i, sc.signal, float(values[i]), stat_fmt)
     last = layout.flags_col
     ws.add_table(HEADER_ROW, 0, layout.last_row, last, {
         "name": table, "style": "Table Style Light 1",
@@ -189,6 +199,18 @@ def write_data_tab(ws: Any, fmt: dict[str, Any], layout: DataLayout, result: Cha
     ws.repeat_rows(HEADER_ROW)
     ws.print_area(0, 0, min(layout.last_row, layout.first_row + PRINT_ROWS - 1), last)
     return as_values
+
+
+def _constant(text: str) -> Callable[[int], str]:
+    return lambda row: text
+
+
+def _copy(ws: Any, row: int, col: int, value: object, fmt: dict[str, Any]) -> None:
+    """The slow path of copying: dates with a date format, everything else through cells.put."""
+    if isinstance(value, dt.datetime | dt.date):
+        ws.write_datetime(row, col, value, fmt["date"])
+    else:
+        cells.put(ws, row, col, value)
 
 
 def _signal_flags(result: CharacteristicResult) -> dict[int, str]:

@@ -156,8 +156,9 @@ def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: Charac
     for i, sc in enumerate(layout.stats.values()):
         if i and i % 2 == 0:
             breaks.append(rows.row)
-        ws.insert_chart(rows.row, 0, charts.control_chart(book, layout, sc, lines, zones, f"{sc.stat.label}: {ch.name}",
-                                                          unit), {"x_offset": 4, "y_offset": 4})
+        chart = charts.control_chart(book, layout, sc, lines, zones, f"{sc.stat.label}: {ch.name}", unit,
+                                     [s for s in result.signals if s.statistic == sc.stat.name])
+        ws.insert_chart(rows.row, 0, chart, {"x_offset": 4, "y_offset": 4})
         rows.row += style.CHART_ROWS
     breaks.append(rows.row)
     ws.set_h_pagebreaks(breaks)
