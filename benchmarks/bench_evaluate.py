@@ -55,29 +55,32 @@ def floor(source: Path, out: Path) -> None:
     data = rows[1:]
     m = len(data)
     book = xlsxwriter.Workbook(str(out))
+    reading, statistic, limit = (book.add_format({"num_format": f}) for f in ("0.000", "0.0000", "0.00000"))
     evaluation = book.add_worksheet("Bore diameter chart")
     tab = book.add_worksheet("Bore diameter data")
     lines = book.add_worksheet("chart-lines")
     for r, row in enumerate(data, start=3):
         tab.write_number(r, 0, r - 2)
-        for c, v in enumerate(row, start=1):
-            tab.write_number(r, c, v)
+        tab.write_number(r, 1, row[0])
+        for c in range(1, 6):
+            tab.write_number(r, c + 1, row[c], reading)
         tab.write_number(r, 7, 1)
-        for c in range(8, 18):  # two statistics x (value, center, LCL, UCL, signal): 8 written, like the output
-            if c % 5 != 2:
-                tab.write_number(r, c, row[1])
+        for c in (8, 13):  # two statistics: value, center, LCL, UCL (the signal column is nearly empty)
+            tab.write_number(r, c, row[1], statistic)
+            for k in (1, 2, 3):
+                tab.write_number(r, c + k, row[1], limit)
     tab.add_table(2, 0, m + 2, 18, {"columns": [{"header": f"h{c}"} for c in range(19)]})
     for c in range(8):
         lines.write_number(1, c, 0.5)
         lines.write_number(2, c, m + 0.5)
     for k in range(2):
         chart = book.add_chart({"type": "scatter", "subtype": "straight"})
-        for line in "BCD":  # UCL, LCL, center line: two points each, as sheettool draws constant limits
+        for line in "BCDE":  # UCL, LCL, center line (two points each) and a short list of signals
             chart.add_series({"categories": "='chart-lines'!$A$2:$A$3",
                               "values": f"='chart-lines'!${line}$2:${line}$3"})
-        for col in ("I", "M") if k == 0 else ("N", "R"):
-            chart.add_series({"categories": f"='Bore diameter data'!$A$4:$A${m + 3}",
-                              "values": f"='Bore diameter data'!${col}$4:${col}${m + 3}"})
+        col = "I" if k == 0 else "N"
+        chart.add_series({"categories": f"='Bore diameter data'!$A$4:$A${m + 3}",
+                          "values": f"='Bore diameter data'!${col}$4:${col}${m + 3}"})
         evaluation.insert_chart(20 * k, 0, chart)
     book.close()
 
