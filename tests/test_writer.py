@@ -258,3 +258,17 @@ def test_demo_with_timestamp_option(run_cli, demo_copy, tmp_path):
     assert "2026-12-01T08:00:00Z" in core and "sheettool" in core
     bad = run_cli("evaluate", demo_copy, "--timestamp", "yesterday")
     assert bad.code == 2 and "--timestamp" in bad.err
+
+
+def test_long_charts_stay_readable(tmp_path):
+    # hundreds of points: small markers, none above a thousand, and whole-number subgroup labels
+    from sheettool.workbook import style
+    from sheettool.workbook.writer.charts import subgroup_axis
+    from sheettool.workbook.writer.data_tab import plan_data_tab
+
+    assert style.series_look("values", 30)["marker"]["size"] > style.series_look("values", 400)["marker"]["size"]
+    assert style.series_look("values", 5000)["marker"] == {"type": "none"}
+    assert style.series_look("signal", 5000)["marker"]["size"] >= 7  # signals stay visible
+    result, read = varying_sizes_case(m=40)
+    axis = subgroup_axis(plan_data_tab(result, read, "t", "e"))
+    assert axis["num_format"] == "mm-dd hh:mm" and axis["major_unit"] <= 1.0

@@ -40,7 +40,7 @@ def marker_size(points: int) -> int:
     if points <= 250:
         return 4
     if points <= 1000:
-        return 3
+        return 2
     return 0
 
 
@@ -58,7 +58,7 @@ def series_look(role: str, points: int) -> dict[str, Any]:
     if role == "zone":
         return {"line": {"color": SAND, "width": 0.75, "dash_type": "round_dot"}, "marker": {"type": "none"}}
     if role == "signal":
-        size = max(6, marker_size(points) + 4)
+        size = 9 if points <= 1000 else 7
         return {"line": {"none": True},
                 "marker": {"type": "diamond", "size": size, "border": {"color": SLATE, "width": 1.75},
                            "fill": {"color": SAFFRON}}}
