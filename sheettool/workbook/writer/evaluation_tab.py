@@ -63,7 +63,8 @@ class _Rows:
 
     def head(self, titles: list[str], numeric: tuple[int, ...] = ()) -> None:
         for c, t in enumerate(titles):
-            self.ws.write_string(self.row, c, t, self.fmt["head_number" if c in numeric else "head"])
+            role = "head_number" if c in numeric else "head_note" if c == 4 else "head"
+            self.ws.write_string(self.row, c, t, self.fmt[role])
         self.row += 1
 
 
@@ -224,14 +225,16 @@ def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: 
                 book.define_name(name, "=" + cells.cell(layout.eval_tab, rows.row, c))
                 out.limit_names[(stat.name, key)] = name
                 out.names.append(name)
+            elif finite.size == 0:
+                ws.write_string(rows.row, c, "none", fmt["text_right"])
             else:
-                ws.write_string(rows.row, c, "varies", fmt["text"])
-                lo, hi = (float(finite.min()), float(finite.max())) if finite.size else (math.nan, math.nan)
-                notes.append(f"{word} {lo:.{layout.decimals + 2}f} to {hi:.{layout.decimals + 2}f}")
+                ws.write_string(rows.row, c, "varies", fmt["text_right"])
+                d = layout.decimals + 2
+                notes.append(f"{word} {float(finite.min()):.{d}f} to {float(finite.max()):.{d}f}")
         text = ("varies by point: see data tab; " + ", ".join(notes)) if notes else "the same at every point"
         if stat.lcl_floored:
             text += "; LCL below zero by formula, shown as 0"
-        ws.write_string(rows.row, 4, text, fmt["wrap"])
+        ws.write_string(rows.row, 4, text, fmt["note"])
         if len(text) > style.EVAL_COLUMNS[4]:
             ws.set_row(rows.row, 15 * math.ceil(len(text) / (style.EVAL_COLUMNS[4] - 4)))
         rows.row += 1
@@ -245,7 +248,7 @@ def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: 
             value, meaning = consts[name]
             ws.write_string(row, 0, name)
             ws.write_number(row, 1, value, fmt["dec6"])
-            ws.write_string(row, 2, meaning)
+            ws.write_string(row, 2, meaning, fmt["note"])
         rows.row = const_row + 1 + len(const_at)
 
 
@@ -309,7 +312,7 @@ def _capability(rows: _Rows, result: CharacteristicResult) -> None:
         if key in cap.ci:
             cells.number(ws, rows.row, 2, cap.ci[key].low, fmt["ratio"])
             cells.number(ws, rows.row, 3, cap.ci[key].high, fmt["ratio"])
-        ws.write_string(rows.row, 4, note)
+        ws.write_string(rows.row, 4, note, fmt["note"])
         rows.row += 1
     facts = [("Mean", f"{cap.mean:.6g}"), ("Sigma within", f"{cap.sigma_within:.6g}"),
              ("Sigma overall", f"{cap.sigma_overall:.6g}")]

@@ -50,7 +50,7 @@ def write_performance_tab(book: Any, ws: Any, fmt: dict[str, Any], results: list
         last = first + max(0, len(grid) - 1)
         series.append((result.characteristic.name, cells.column_range(PERFORMANCE_TAB, col, first, last),
                        cells.column_range(PERFORMANCE_TAB, col + 1, first, last)))
-    ws.set_row(top + 1, 60)
+    ws.set_row(top + 1, 45)
     ws.set_row(top + 2, 30)
     ws.insert_chart(chart_row, 0, charts.arl_chart(book, series, largest, widest), {"x_offset": 4})
     print_setup(ws, "scheme performance")
