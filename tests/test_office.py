@@ -22,7 +22,7 @@ from sheettool.api import evaluate_file
 from sheettool.demo.scenario import BUNDLED
 from sheettool.evaluation import EvaluationOptions
 from sheettool.workbook.writer import WriterOptions, write_evaluated_workbook
-from tests.writer_cases import attribute_case, report_for, varying_sizes_case
+from tests.writer_cases import attribute_case, cusum_ewma_case, report_for, varying_sizes_case
 
 RECALC = """<?xml version="1.0" encoding="UTF-8"?>
 <oor:items xmlns:oor="http://openoffice.org/2001/registry" xmlns:xs="http://www.w3.org/2001/XMLSchema"
@@ -64,7 +64,7 @@ def outputs(tmp_path_factory) -> dict[str, Path]:
              "built-formulas": tmp / "built-formulas.xlsx"}
     evaluate_file(demo, files["demo"])
     evaluate_file(demo, files["demo-formulas"], EvaluationOptions(rules="zones"), writer=WriterOptions(formulas=True))
-    report, reads = report_for(tmp, [varying_sizes_case(), attribute_case()])
+    report, reads = report_for(tmp, [varying_sizes_case(), attribute_case(), cusum_ewma_case()])
     write_evaluated_workbook(report, reads, files["built-formulas"],
                              WriterOptions(formulas=True, timestamp=dt.datetime(2026, 12, 1)))
     probe = tmp / "probe.xlsx"

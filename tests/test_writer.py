@@ -18,7 +18,7 @@ from sheettool.workbook.writer import WriterOptions, write_atomically, write_eva
 from sheettool.workbook.writer.cells import decimals, tab_name
 from sheettool.workbook.writer.charts import nice_step, value_axis
 from tests.conftest import sha256
-from tests.writer_cases import attribute_case, report_for, varying_sizes_case
+from tests.writer_cases import attribute_case, cusum_ewma_case, report_for, varying_sizes_case
 
 
 @pytest.fixture
@@ -272,3 +272,15 @@ def test_long_charts_stay_readable(tmp_path):
     result, read = varying_sizes_case(m=40)
     axis = subgroup_axis(plan_data_tab(result, read, "t", "e"))
     assert axis["num_format"] == "mm-dd hh:mm" and axis["major_unit"] <= 1.0
+
+
+def test_three_statistics_with_missing_and_varying_limits(tmp_path):
+    report, reads = report_for(tmp_path, [cusum_ewma_case()])
+    out = tmp_path / "three.xlsx"
+    write_evaluated_workbook(report, reads, out, WriterOptions(formulas=True))
+    book = openpyxl.load_workbook(out)
+    rows = {r[0]: r[1:5] for r in book["Torque chart"].iter_rows(values_only=True) if r[0]}
+    assert rows["EWMA"][1] == "varies" and rows["EWMA"][0] == pytest.approx(50.0)
+    assert rows["CUSUM above target"][1] == "none" and rows["CUSUM above target"][2] == pytest.approx(2.5)
+    assert len(_xml(out, r"xl/charts/chart\d+\.xml")) == 3 + 1
+    assert "EWMA" in " ".join(str(r[1]) for r in book["Method and audit"].iter_rows(values_only=True) if r[1])

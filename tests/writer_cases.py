@@ -116,3 +116,38 @@ def report_for(tmp: Path, cases: list[tuple[CharacteristicResult, SheetRead]]) -
     report = EvaluationReport(input=source, input_sha256=digest, input_size=source.stat().st_size,
                               output=None, characteristics=[c[0] for c in cases])
     return report, [c[1] for c in cases]
+
+
+def cusum_ewma_case(m: int = 60, seed: int = 13) -> tuple[CharacteristicResult, SheetRead]:
+    """Individual readings with three statistics: an EWMA with widening limits (Lucas and Saccucci 1990 form)
+    and the two one-sided CUSUMs, which have an upper decision interval and no lower limit (Page 1954)."""
+    rng = np.random.default_rng(seed)
+    x = np.round(rng.normal(50.0, 0.5, m) + np.where(np.arange(m) > 40, 0.6, 0.0), 2)
+    mu, sigma, lam, big_l, k, h = 50.0, 0.5, 0.2, 3.0, 0.5, 5.0
+    z = np.empty(m)
+    up, down = np.empty(m), np.empty(m)
+    prev_z, prev_up, prev_down = mu, 0.0, 0.0
+    for i, v in enumerate(x):
+        prev_z = lam * v + (1 - lam) * prev_z
+        prev_up = max(0.0, v - (mu + k * sigma) + prev_up)
+        prev_down = max(0.0, (mu - k * sigma) - v + prev_down)
+        z[i], up[i], down[i] = prev_z, prev_up, prev_down
+    i = np.arange(1, m + 1)
+    se = sigma * np.sqrt(lam / (2 - lam) * (1 - (1 - lam) ** (2 * i)))
+    none = np.full(m, np.nan)
+    stats = [
+        PlottedStatistic("ewma", "EWMA", z, _full(mu, m), mu - big_l * se, mu + big_l * se, se),
+        PlottedStatistic("cusum_upper", "CUSUM above target", up, _full(0.0, m), none, _full(h * sigma, m),
+                         _full(sigma, m)),
+        PlottedStatistic("cusum_lower", "CUSUM below target", down, _full(0.0, m), none, _full(h * sigma, m),
+                         _full(sigma, m)),
+    ]
+    fit = ChartFit("ewma", stats, 1, mu, sigma, "standard value", np.ones(m, dtype=bool),
+                   limits_source="standard values given in the settings")
+    ch = Characteristic("Torque", Measurements(x[:, None]), unit="N m")
+    rules = parse_rules("limits")
+    result = CharacteristicResult(characteristic=ch, sheet="Torque", fit=fit, rules=rules,
+                                  signals=find_signals(fit, rules, ch.labels), performance=_performance(None))
+    read = SheetRead("Torque", ch, 1, 2, m + 1, {"A": "measurement (Torque)"}, ["Torque"],
+                     [(float(v),) for v in x])
+    return result, read
