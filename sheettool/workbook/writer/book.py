@@ -106,7 +106,7 @@ def write_evaluated_workbook(report: EvaluationReport, reads: list[SheetRead], p
             stats_as_values = write_data_tab(data_ws[i], fmt, layout, result, read, limit_names, live, f"data_{i + 1}")
             as_values += [f"{result.characteristic.name}: {what}" for what in stats_as_values + written.as_values]
         write_performance_tab(book, perf_ws, fmt, results, [e for e, _ in names])
-        write_notes_tab(notes_ws, fmt, report, reads, stamp, live, as_values, PRINT_ROWS)
+        write_notes_tab(notes_ws, fmt, report, reads, stamp, live, as_values, PRINT_ROWS, [e for e, _ in names])
         for r, row in enumerate(limits_rows([limits_entry(c) for c in results])):
             for c, value in enumerate(row):
                 if isinstance(value, str):

@@ -116,3 +116,13 @@ def unique_headers(names: list[str], first_letter: int = 0) -> list[str]:
         seen.add(candidate.lower())
         out.append(candidate)
     return out
+
+
+def print_setup(ws: Any, what: str) -> None:
+    """Landscape, one page wide, header with what is shown and the date, footer with the page."""
+    safe = what.replace("&", "&&")[:80]
+    ws.set_landscape()
+    ws.fit_to_pages(1, 0)
+    ws.set_margins(left=0.5, right=0.5, top=0.7, bottom=0.6)
+    ws.set_header(f"&L&8sheettool evaluation: {safe}&R&8&D")
+    ws.set_footer("&L&8" + safe + "&R&8page &P of &N")

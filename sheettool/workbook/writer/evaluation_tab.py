@@ -35,7 +35,6 @@ class EvaluationWritten:
     """What the other tabs need back: the workbook names of constant limits, formulas not used."""
 
     limit_names: dict[tuple[str, str], str] = field(default_factory=dict)
-    names: list[str] = field(default_factory=list)
     as_values: list[str] = field(default_factory=list)
 
 
@@ -123,7 +122,7 @@ def zones_in_use(result: CharacteristicResult) -> bool:
 def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: CharacteristicResult,
                          layout: DataLayout, lines: charts.LineSheet, links: Links, live: bool,
                          used_names: set[str], index: int) -> EvaluationWritten:
-    """Write the evaluation tab; return the limit cells (for the data tab's formulas) and names defined."""
+    """Write the evaluation tab; return the names of its constant limits (for the data tab's formulas)."""
     fit, ch = result.fit, result.characteristic
     about = method(fit.chart)
     for c, w in enumerate(style.EVAL_COLUMNS):
@@ -169,18 +168,8 @@ def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: Charac
     ws.merge_range(rows.row, 0, rows.row, 4, "", fmt["caution"])
     ws.set_row(rows.row, 45)
     ws.write_string(rows.row, 0, CAUTION, fmt["caution"])
-    print_setup(ws, ch.name)
+    cells.print_setup(ws, ch.name)
     return out
-
-
-def print_setup(ws: Any, what: str) -> None:
-    """Landscape, one page wide, header with what is shown and the date, footer with the page."""
-    safe = what.replace("&", "&&")[:80]
-    ws.set_landscape()
-    ws.fit_to_pages(1, 0)
-    ws.set_margins(left=0.5, right=0.5, top=0.7, bottom=0.6)
-    ws.set_header(f"&L&8sheettool evaluation: {safe}&R&8&D")
-    ws.set_footer("&L&8" + safe + "&R&8page &P of &N")
 
 
 def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: DataLayout, live: bool,
@@ -224,7 +213,6 @@ def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: 
                 used_names.add(name.lower())
                 book.define_name(name, "=" + cells.cell(layout.eval_tab, rows.row, c))
                 out.limit_names[(stat.name, key)] = name
-                out.names.append(name)
             elif finite.size == 0:
                 ws.write_string(rows.row, c, "none", fmt["text_right"])
             else:

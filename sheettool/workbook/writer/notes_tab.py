@@ -13,6 +13,7 @@ from sheettool.core.constants import constants
 from sheettool.core.data import Measurements
 from sheettool.report import EvaluationReport
 from sheettool.workbook.reader import SheetRead
+from sheettool.workbook.writer import cells
 from sheettool.workbook.writer.methods import method
 
 NOTES_TAB = "Method and audit"
@@ -39,7 +40,7 @@ class Stamp:
 
 
 def write_notes_tab(ws: Any, fmt: dict[str, Any], report: EvaluationReport, reads: list[SheetRead],
-                    stamp: Stamp, live: bool, as_values: list[str], print_rows: int) -> None:
+                    stamp: Stamp, live: bool, as_values: list[str], print_rows: int, eval_tabs: list[str]) -> None:
     """Write the method and audit notes as label / text rows."""
     ws.set_column(0, 0, 30)
     ws.set_column(1, 1, 100)
@@ -62,6 +63,10 @@ def write_notes_tab(ws: Any, fmt: dict[str, Any], report: EvaluationReport, read
         row += 1
 
     line("Caution", CAUTION, "caution")
+    for result, tab in zip(report.characteristics, eval_tabs, strict=True):
+        ws.write_string(row, 0, "Evaluation", fmt["label"])
+        ws.write_url(row, 1, cells.internal_link(tab), fmt["link"], string=result.characteristic.name)
+        row += 1
     section("Input")
     line("Input file", report.input.name)
     line("Size (bytes)", f"{report.input_size:,}")
@@ -105,10 +110,7 @@ def write_notes_tab(ws: Any, fmt: dict[str, Any], report: EvaluationReport, read
         line("None", "no problems were found while reading and evaluating")
     for p in problems:
         line(p.severity, f"{p.where}: {p.message}")
-    ws.set_landscape()
-    ws.fit_to_pages(1, 0)
-    ws.set_footer("&L&8" + report.input.name.replace("&", "&&") + "&R&8page &P of &N")
-    ws.set_header("&L&8sheettool method and audit&R&8&D")
+    cells.print_setup(ws, f"method and audit of {report.input.name}")
 
 
 def _read_words(read: SheetRead) -> str:

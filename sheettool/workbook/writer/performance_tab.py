@@ -10,7 +10,6 @@ from typing import Any
 from sheettool.evaluation import CharacteristicResult
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells, charts
-from sheettool.workbook.writer.evaluation_tab import print_setup
 
 PERFORMANCE_TAB = "Scheme performance"
 
@@ -53,4 +52,4 @@ def write_performance_tab(book: Any, ws: Any, fmt: dict[str, Any], results: list
     ws.set_row(top + 1, 45)
     ws.set_row(top + 2, 30)
     ws.insert_chart(chart_row, 0, charts.arl_chart(book, series, largest, widest), {"x_offset": 4})
-    print_setup(ws, "scheme performance")
+    cells.print_setup(ws, "scheme performance")
