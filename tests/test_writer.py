@@ -73,6 +73,13 @@ def test_tables_names_and_links(built):
     links = [c.hyperlink.location for row in book["Sleeve length chart"].iter_rows() for c in row if c.hyperlink]
     assert "'Sleeve length data'!A1" in links and "'Method and audit'!A1" in links
     assert book["Sleeve length data"].freeze_panes == "B4"
+    # print set-up: landscape, one page wide, the characteristic in the header, the page in the footer
+    tab = book["Sleeve length chart"]
+    assert tab.page_setup.orientation == "landscape" and tab.sheet_properties.pageSetUpPr.fitToPage
+    assert tab.page_setup.fitToHeight == 0 and tab.page_setup.fitToWidth in (None, 1)  # width 1 is the default
+    assert "Sleeve length" in tab.oddHeader.left.text and "&P" in tab.oddFooter.right.text
+    # 22 columns: point, date, 8 copied, limits flag, 2 statistics x 5, signals; title rows + 40 subgroups
+    assert book["Sleeve length data"].print_area == "'Sleeve length data'!$A$1:$V$43"
 
 
 def test_charts_are_native_scatter_with_stepped_limits(built):

@@ -194,8 +194,7 @@ def write_data_tab(ws: Any, fmt: dict[str, Any], layout: DataLayout, result: Cha
         "columns": [{"header": h, "header_format": fmt["head"]} for h in layout.headers]})
     ws.freeze_panes(layout.first_row, 1)
     _widths(ws, layout, read)
-    ws.set_landscape()
-    ws.fit_to_pages(1, 0)
+    cells.print_setup(ws, f"data of {ch.name}")
     ws.repeat_rows(HEADER_ROW)
     ws.print_area(0, 0, min(layout.last_row, layout.first_row + PRINT_ROWS - 1), last)
     return as_values
