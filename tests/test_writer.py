@@ -210,7 +210,7 @@ HOSTILE = ["=HYPERLINK(\"http://example.invalid\",\"x\")", "+1+1", "-2-3", "@SUM
 def test_input_text_never_becomes_a_formula(run_cli, tmp_path):
     path = tmp_path / "hostile.xlsm"  # a macro-enabled name: the output is still a plain .xlsx
     book = xlsxwriter.Workbook(str(path))
-    ws = book.add_worksheet("Gauge")
+    ws = book.add_worksheet("=Gauge")  # a sheet name may begin with = too
     for c, head in enumerate(["Sample", "@op", "=A1", "+x", "-y"]):
         ws.write_string(0, c, head)
     rng = np.random.default_rng(3)
@@ -229,7 +229,7 @@ def test_input_text_never_becomes_a_formula(run_cli, tmp_path):
     formulas = re.findall(r"<f>(.*?)</f>", "".join(sheets.values()))
     assert formulas  # --formulas wrote some
     assert not any("HYPERLINK" in f or "SUM(A1)" in f or f in ("1+1", "A1") for f in formulas)
-    data = openpyxl.load_workbook(out)["Gauge data"]
+    data = openpyxl.load_workbook(out)["=Gauge data"]
     texts = [c for row in data.iter_rows(min_row=4) for c in row if isinstance(c.value, str)]
     assert {c.value for c in texts} >= set(HOSTILE)
     assert all(c.data_type == "s" for c in texts if c.value in HOSTILE)
@@ -291,3 +291,20 @@ def test_three_statistics_with_missing_and_varying_limits(tmp_path):
     assert rows["CUSUM above target"][1] == "none" and rows["CUSUM above target"][2] == pytest.approx(2.5)
     assert len(_xml(out, r"xl/charts/chart\d+\.xml")) == 3 + 1
     assert "EWMA" in " ".join(str(r[1]) for r in book["Method and audit"].iter_rows(values_only=True) if r[1])
+
+
+def test_chart_names_from_the_input_stay_literal(tmp_path):
+    # xlsxwriter reads a series name like =Sheet1!$A$1 as a cell reference; input names must not be
+    from sheettool.workbook.writer.charts import chart_text
+
+    path = tmp_path / "names.xlsx"
+    book = xlsxwriter.Workbook(str(path))
+    book.add_worksheet("Sheet1")
+    chart = book.add_chart({"type": "scatter"})
+    chart.add_series({"name": chart_text("=Sheet1!$A$1"), "categories": "=Sheet1!$A$2:$A$3",
+                      "values": "=Sheet1!$B$2:$B$3"})
+    book.worksheets()[0].insert_chart(0, 3, chart)
+    book.close()
+    xml = _xml(path, r"xl/charts/chart1\.xml")["xl/charts/chart1.xml"]
+    assert "<c:v>=Sheet1! $A$1</c:v>" in xml and "<c:f>" not in xml.split("<c:xVal>")[0]
+    assert chart_text("Bore") == "Bore" and chart_text("=Bore") == "=Bore"

@@ -10,6 +10,7 @@ way after the previous subgroup to half way before the next).
 from __future__ import annotations
 
 import math
+import re
 from typing import Any
 
 import numpy as np
@@ -71,6 +72,15 @@ def _bounds(x: np.ndarray) -> np.ndarray:
         return np.array([x[0] - 0.5, x[0] + 0.5])
     mids = (x[:-1] + x[1:]) / 2.0
     return np.concatenate([[2 * x[0] - mids[0]], mids, [2 * x[-1] - mids[-1]]])
+
+
+_LOOKS_LIKE_REFERENCE = re.compile(r"^=?[^!]+!\$?[A-Z]+\$?\d+")  # what xlsxwriter takes for a cell reference
+
+
+def chart_text(text: str) -> str:
+    """A series name from the input, kept literal: a name that looks like Sheet!A1 gets a space after the !,
+    so xlsxwriter does not turn it into a reference to another cell (or another file)."""
+    return text.replace("!", "! ") if _LOOKS_LIKE_REFERENCE.match(text) else text
 
 
 def nice_step(span: float, parts: int) -> float:
@@ -138,7 +148,7 @@ def control_chart(book: Any, layout: DataLayout, sc: StatColumns, lines: LineShe
     legend_off.append(first_limit + 1)
     xs, ys = lines.line(layout, f"{stat.label}: center line", stat.center)
     chart.add_series({"name": "center line", "categories": xs, "values": ys, **style.series_look("center", m)})
-    chart.add_series({"name": stat.label, "categories": x_ref, "values": layout.range(sc.value),
+    chart.add_series({"name": chart_text(stat.label), "categories": x_ref, "values": layout.range(sc.value),
                       **style.series_look("values", m)})
     hits = sorted({s.subgroup - 1 for s in signals})
     if hits:  # a compact list of the signalling points, so a long chart carries no column of blanks
@@ -149,10 +159,11 @@ def control_chart(book: Any, layout: DataLayout, sc: StatColumns, lines: LineShe
     if zones:
         arrays += [_zone(stat, z) for z in ZONES]
     y_axis = value_axis(arrays)
-    chart.set_title({"name": title, "name_font": {"size": 11, "bold": True, "color": style.SLATE}})
+    chart.set_title({"name": chart_text(title), "name_font": {"size": 11, "bold": True, "color": style.SLATE}})
     chart.set_x_axis({**subgroup_axis(layout), "major_gridlines": {"visible": False},
                       "line": {"color": style.HAIRLINE}})
-    chart.set_y_axis({**y_axis, "name": f"{stat.label}{f' ({unit})' if unit else ''}", "name_font": {"size": 9},
+    y_name = chart_text(f"{stat.label}{f' ({unit})' if unit else ''}")
+    chart.set_y_axis({**y_axis, "name": y_name, "name_font": {"size": 9},
                       "num_font": {"size": 8}, "num_format": style.number_format(_axis_decimals(y_axis["major_unit"])),
                       "major_gridlines": {"visible": True, "line": {"color": style.MIST, "width": 0.5}},
                       "line": {"color": style.HAIRLINE}})
@@ -180,7 +191,7 @@ def arl_chart(book: Any, series: list[tuple[str, str, str]], largest: float, wid
     """ARL against mean shift, one line per scheme, logarithmic y axis. series: (name, x ref, y ref)."""
     chart = book.add_chart({"type": "scatter", "subtype": "straight_with_markers"})
     for i, (name, xs, ys) in enumerate(series):
-        chart.add_series({"name": name, "categories": xs, "values": ys, **style.performance_look(i)})
+        chart.add_series({"name": chart_text(name), "categories": xs, "values": ys, **style.performance_look(i)})
     top = 10 ** math.ceil(math.log10(max(largest, 10.0)))
     chart.set_title({"name": "Average run length against the size of a mean shift",
                      "name_font": {"size": 11, "bold": True, "color": style.SLATE}})
