@@ -14,7 +14,7 @@ from sheettool.problems import Problem
 from sheettool.report import EvaluationReport
 from sheettool.settings import Setting
 from sheettool.workbook.reader import read_workbook
-from sheettool.workbook.writer import write_evaluated_workbook
+from sheettool.workbook.writer import WriterOptions, write_evaluated_workbook
 
 
 def default_output(input_path: Path) -> Path:
@@ -35,14 +35,16 @@ def file_digest(path: Path) -> tuple[str, int]:
 
 def evaluate_file(input_path: Path, output: Path | None = None,
                   settings: dict[str, Setting] | None = None, write: bool = True,
-                  carried: dict[str, dict[str, Any]] | None = None, carried_from: str = "") -> EvaluationReport:
+                  carried: dict[str, dict[str, Any]] | None = None, carried_from: str = "",
+                  writer: WriterOptions | None = None) -> EvaluationReport:
     """Read a workbook, evaluate every characteristic in it and write the evaluated workbook.
 
     `settings` (e.g. from the command line) override the workbook's own; each sheet gets its own
     options from its settings sheet section and labelled cells. A sheet whose settings or data
     cannot be evaluated is a problem; the others go on. carried: limits-block entries by sheet name
     (from `read_limits_block`); a sheet with an entry gets those limits, a sheet without one its own
-    base period and a warning saying so.
+    base period and a warning saying so. `writer` chooses live formulas and the fixed document date
+    of the output (see WriterOptions).
     """
     input_path = Path(input_path)
     settings = settings or {}
@@ -75,5 +77,5 @@ def evaluate_file(input_path: Path, output: Path | None = None,
                               output=out if write else None, characteristics=results, problems=problems,
                               reads=reads)
     if write:
-        write_evaluated_workbook(report, reads, out)
+        write_evaluated_workbook(report, reads, out, writer)
     return report

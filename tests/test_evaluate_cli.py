@@ -30,10 +30,10 @@ def test_demo_end_to_end(run_cli, demo_copy, tmp_path):
     for label, stat in (("Subgroup mean", "mean"), ("Subgroup range", "range")):
         lim = char["limits"][stat]
         assert rows[label] == pytest.approx((lim["center"], lim["lcl"], lim["ucl"]), rel=1e-12)
-    # Two native chart objects in the package.
+    # Native chart objects: one per plotted statistic and the ARL-against-shift chart.
     with zipfile.ZipFile(out) as z:
         charts = [n for n in z.namelist() if n.startswith("xl/charts/chart")]
-    assert len(charts) == 2
+    assert len(charts) == 3
 
 
 def test_default_output_beside_input(run_cli, demo_copy):

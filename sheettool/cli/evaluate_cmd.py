@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import datetime as dt
 import json
 import sys
 from pathlib import Path
@@ -14,6 +15,7 @@ from sheettool.report import report_json
 from sheettool.settings import Setting, setting_name
 from sheettool.workbook.limits_block import read_limits_block
 from sheettool.workbook.reader import describe
+from sheettool.workbook.writer import WriterOptions
 
 # option -> setting name; each overrides the workbook's settings sheet and labelled cells.
 SETTING_OPTIONS = {"lsl": "lsl", "usl": "usl", "target": "target", "chart": "chart", "rules": "rules",
@@ -39,6 +41,10 @@ def add_parser(subs: argparse._SubParsersAction) -> None:
                    help="any setting by name, e.g. --set unit=mm (repeatable)")
     p.add_argument("--json", action="store_true", help="print the results as one JSON object on stdout")
     p.add_argument("--verbose", action="store_true", help="say on stderr what was read from each sheet")
+    p.add_argument("--formulas", action="store_true",
+                   help="write per-subgroup statistics and constant limits as live formulas over the copied data")
+    p.add_argument("--timestamp", metavar="WHEN",
+                   help="document date of the output, e.g. 2026-12-01T08:00 (default: the input's modification time)")
     p.set_defaults(run=run)
 
 
@@ -69,7 +75,8 @@ def run(args: argparse.Namespace) -> int:
     """Evaluate and report; 0 whenever the evaluation was written, signals or not."""
     carried = read_limits_block(args.limits_file) if args.limits_file else None
     report = evaluate_file(args.input, args.output, cli_settings(args), carried=carried,
-                           carried_from=args.limits_file.name if args.limits_file else "")
+                           carried_from=args.limits_file.name if args.limits_file else "",
+                           writer=WriterOptions(formulas=args.formulas, timestamp=_timestamp(args.timestamp)))
     if args.verbose:
         for read, result in zip(report.reads, report.characteristics, strict=True):
             given = [f"{s.name} {s.value} ({s.origin})" for s in result.settings.values() if s.origin != "default"]
@@ -82,3 +89,13 @@ def run(args: argparse.Namespace) -> int:
             sys.stderr.write(f"{result.sheet}: {len(result.signals)} signal(s)\n")
         sys.stderr.write(f"written: {report.output}\n")
     return 0
+
+
+def _timestamp(text: str | None) -> dt.datetime | None:
+    """--timestamp as a date and time (ISO 8601); a usage error when it is not one."""
+    if text is None:
+        return None
+    try:
+        return dt.datetime.fromisoformat(text)
+    except ValueError:
+        raise UsageError(f"--timestamp: '{text}' is not a date and time; write it like 2026-12-01T08:00") from None

@@ -1,7 +1,9 @@
-"""The one place for sheettool's look: palette, line styles, markers and cell formats.
+"""The one place for sheettool's look: palette, line styles, markers, chart sizes and cell formats.
 
-Colours are chosen to stay apart when printed in grey: the plotted series is dark, the center
-line mid-tone and solid, the limits darker and dashed, signals large open triangles.
+The scheme is built to survive a grey-scale print: each role differs from the others in lightness
+*and* in line pattern or marker shape, never in hue alone. Plotted points are small dark squares on
+a thin line; the center line is a mid-tone solid line; limits are dark long dashes; zone lines are
+light dotted hairlines; signals are large diamonds with a light fill and a heavy dark rim.
 """
 
 from __future__ import annotations
@@ -10,40 +12,100 @@ from typing import Any
 
 import xlsxwriter.workbook
 
-INK = "#1D2B3A"  # plotted statistic
-CENTER = "#4F7F6A"  # center line
-LIMIT = "#7A2E3B"  # control limits
-SIGNAL = "#D9822B"  # signalling points
-BAND = "#E8EEF2"  # header fills
-RULE_LINE = "#9AA8B5"  # table borders
+SLATE = "#263548"  # plotted statistic, titles
+PINE = "#6B8E7B"  # center line (mid-tone)
+UMBER = "#5A2E1C"  # control limits (dark)
+SAND = "#BDAE8C"  # zone lines (light)
+SAFFRON = "#F2C14E"  # fill of signalling points (light, so the dark rim reads in grey)
+MIST = "#E9ECEF"  # header fills
+HAIRLINE = "#9AA5B1"  # table borders
+LINK = "#1F5F8B"  # hyperlinks
+WARN = "#8A1C1C"  # the caution text and the "not a stable process" label
 
-SERIES_STYLE: dict[str, dict[str, Any]] = {
-    "values": {
-        "line": {"color": INK, "width": 1.0},
-        "marker": {"type": "circle", "size": 3, "border": {"color": INK}, "fill": {"color": INK}},
-    },
-    "center": {"line": {"color": CENTER, "width": 1.5}, "marker": {"type": "none"}},
-    "limit": {"line": {"color": LIMIT, "width": 1.25, "dash_type": "dash"}, "marker": {"type": "none"}},
-    "signal": {
-        "line": {"none": True},
-        "marker": {"type": "triangle", "size": 8, "border": {"color": SIGNAL, "width": 1.5},
-                   "fill": {"none": True}},
-    },
-}
+# Chart geometry in pixels; EVAL_COLUMNS are the evaluation tab's widths (characters) so that the
+# charts and the tables share one printed width.
+CHART_WIDTH = 940
+CHART_HEIGHT = 370
+CHART_ROWS = 20  # rows kept free for one chart (20 px each)
+EVAL_COLUMNS = (24, 18, 18, 14, 62)
+PERFORMANCE_COLORS = (SLATE, UMBER, PINE, "#7D5BA6", "#B0761C", "#3F7FA8")
+PERFORMANCE_MARKERS = ("square", "diamond", "triangle", "circle", "x", "star")
+PERFORMANCE_DASHES = ("solid", "long_dash", "dash_dot", "round_dot", "dash", "long_dash_dot")
 
 
-def formats(book: xlsxwriter.workbook.Workbook) -> dict[str, Any]:
+def marker_size(points: int) -> int:
+    """Marker size that keeps hundreds of points apart (0 means no markers, the line alone)."""
+    if points <= 60:
+        return 5
+    if points <= 250:
+        return 4
+    if points <= 1000:
+        return 2
+    return 0
+
+
+def series_look(role: str, points: int) -> dict[str, Any]:
+    """xlsxwriter series options for a role: values, center, limit, zone, signal."""
+    if role == "values":
+        size = marker_size(points)
+        marker = ({"type": "square", "size": size, "border": {"color": SLATE}, "fill": {"color": SLATE}}
+                  if size else {"type": "none"})
+        return {"line": {"color": SLATE, "width": 1.0 if points <= 250 else 0.5}, "marker": marker}
+    if role == "center":
+        return {"line": {"color": PINE, "width": 1.5}, "marker": {"type": "none"}}
+    if role == "limit":
+        return {"line": {"color": UMBER, "width": 1.5, "dash_type": "long_dash"}, "marker": {"type": "none"}}
+    if role == "zone":
+        return {"line": {"color": SAND, "width": 0.75, "dash_type": "round_dot"}, "marker": {"type": "none"}}
+    if role == "signal":
+        size = 9 if points <= 1000 else 7
+        return {"line": {"none": True},
+                "marker": {"type": "diamond", "size": size, "border": {"color": SLATE, "width": 1.75},
+                           "fill": {"color": SAFFRON}}}
+    raise ValueError(f"unknown series role '{role}'")
+
+
+def performance_look(i: int) -> dict[str, Any]:
+    """Series look of the i-th scheme on the ARL-against-shift chart."""
+    color = PERFORMANCE_COLORS[i % len(PERFORMANCE_COLORS)]
+    return {"line": {"color": color, "width": 1.75, "dash_type": PERFORMANCE_DASHES[i % len(PERFORMANCE_DASHES)]},
+            "marker": {"type": PERFORMANCE_MARKERS[i % len(PERFORMANCE_MARKERS)], "size": 5,
+                       "border": {"color": color}, "fill": {"color": "#FFFFFF"}}}
+
+
+def number_format(decimals: int) -> str:
+    """A fixed-decimals number format, e.g. 3 -> 0.000."""
+    return "0" if decimals <= 0 else "0." + "0" * decimals
+
+
+def formats(book: xlsxwriter.workbook.Workbook, decimals: int = 4) -> dict[str, Any]:
     """Create the workbook's cell formats once and hand them out by role."""
-    return {
-        "title": book.add_format({"bold": True, "font_size": 14, "font_color": INK}),
-        "label": book.add_format({"bold": True, "font_color": INK}),
-        "head": book.add_format({"bold": True, "bg_color": BAND, "bottom": 1, "border_color": RULE_LINE,
+    fmt = {
+        "title": book.add_format({"bold": True, "font_size": 14, "font_color": SLATE}),
+        "section": book.add_format({"bold": True, "font_size": 12, "font_color": SLATE, "bottom": 1,
+                                    "border_color": HAIRLINE}),
+        "label": book.add_format({"bold": True, "font_color": SLATE, "valign": "top"}),
+        "head": book.add_format({"bold": True, "bg_color": MIST, "bottom": 1, "border_color": HAIRLINE,
                                  "text_wrap": True, "valign": "top"}),
+        "head_number": book.add_format({"bold": True, "bg_color": MIST, "bottom": 1, "border_color": HAIRLINE,
+                                        "text_wrap": True, "valign": "top", "align": "right"}),
+        "head_note": book.add_format({"bold": True, "bg_color": MIST, "bottom": 1, "border_color": HAIRLINE,
+                                      "text_wrap": True, "valign": "top", "align": "left", "indent": 2}),
         "text": book.add_format({"valign": "top"}),
+        "text_right": book.add_format({"valign": "top", "align": "right"}),
+        "note": book.add_format({"valign": "top", "align": "left", "indent": 2, "text_wrap": True}),
         "wrap": book.add_format({"text_wrap": True, "valign": "top"}),
-        "number": book.add_format({"num_format": "0.0000"}),
         "count": book.add_format({"num_format": "0"}),
+        "point": book.add_format({"num_format": "0", "align": "center"}),
         "arl": book.add_format({"num_format": "#,##0.0"}),
-        "caution": book.add_format({"italic": True, "text_wrap": True, "font_color": LIMIT, "valign": "top"}),
-        "link": book.add_format({"font_color": "#2B5B84", "underline": 1}),
+        "ratio": book.add_format({"num_format": "0.000"}),
+        "hours": book.add_format({"num_format": "#,##0.0"}),
+        "date": book.add_format({"num_format": "yyyy-mm-dd hh:mm"}),
+        "caution": book.add_format({"italic": True, "text_wrap": True, "font_color": WARN, "valign": "top"}),
+        "warn": book.add_format({"bold": True, "font_color": WARN}),
+        "link": book.add_format({"font_color": LINK, "underline": 1}),
     }
+    for d in range(0, 11):
+        fmt[f"dec{d}"] = book.add_format({"num_format": number_format(d), "valign": "top"})
+    fmt["number"] = fmt[f"dec{min(10, decimals)}"]
+    return fmt

@@ -1,0 +1,128 @@
+"""Small cell-level helpers shared by the tabs: safe copying, references, names, decimals, widths."""
+
+from __future__ import annotations
+
+import datetime as dt
+import math
+import re
+from typing import Any
+
+import numpy as np
+from xlsxwriter.utility import xl_col_to_name, xl_rowcol_to_cell
+
+EXCEL_EPOCH = dt.datetime(1899, 12, 30)
+
+
+def put(ws: Any, row: int, col: int, value: object, fmt: Any = None) -> None:
+    """Write a copied input value: numbers as numbers, dates as dates, everything else as text.
+
+    Text always goes through write_string, so a cell that begins with =, +, - or @ stays text and
+    can never become a formula in the output.
+    """
+    if value is None:
+        return
+    if isinstance(value, bool):
+        ws.write_string(row, col, str(value), fmt)
+    elif isinstance(value, int | float):
+        if math.isfinite(value):
+            ws.write_number(row, col, float(value), fmt)
+    elif isinstance(value, dt.datetime | dt.date | dt.time):
+        ws.write_datetime(row, col, value, fmt)
+    else:
+        ws.write_string(row, col, str(value), fmt)
+
+
+def number(ws: Any, row: int, col: int, value: float | None, fmt: Any = None) -> None:
+    """Write a computed number; NaN, infinities and None leave the cell empty."""
+    if value is not None and math.isfinite(value):
+        ws.write_number(row, col, float(value), fmt)
+
+
+def quoted(tab: str) -> str:
+    """A sheet name quoted for use in a formula or chart reference."""
+    return "'" + tab.replace("'", "''") + "'"
+
+
+def cell(tab: str, row: int, col: int) -> str:
+    """Absolute reference to one cell on a tab, e.g. 'Bore data'!$C$4."""
+    return f"{quoted(tab)}!{xl_rowcol_to_cell(row, col, True, True)}"
+
+
+def column_range(tab: str, col: int, first: int, last: int) -> str:
+    """Absolute reference to rows first..last (0-based, inclusive) of one column."""
+    return f"{quoted(tab)}!{xl_rowcol_to_cell(first, col, True, True)}:{xl_rowcol_to_cell(last, col, True, True)}"
+
+
+def internal_link(tab: str, row: int = 0, col: int = 0) -> str:
+    """A hyperlink target inside the workbook."""
+    return f"internal:{quoted(tab)}!{xl_rowcol_to_cell(row, col)}"
+
+
+def tab_name(base: str, suffix: str, used: set[str]) -> str:
+    """A unique tab name of at most 31 characters, free of the characters tab names refuse."""
+    clean = re.sub(r"[\[\]:*?/\\']", "_", base).strip() or "sheet"
+    room = 31 - len(suffix) - (1 if suffix else 0)
+    name = f"{clean[:room]} {suffix}".strip()
+    i = 2
+    while name.lower() in used:
+        tag = f"~{i}"
+        name = f"{clean[:room - len(tag)]}{tag} {suffix}".strip()
+        i += 1
+    used.add(name.lower())
+    return name
+
+
+def defined_name(*parts: str) -> str:
+    """A workbook-level name built from parts: letters, digits and underscores, never a cell address."""
+    text = "_".join(re.sub(r"[^A-Za-z0-9]+", "_", p).strip("_") for p in parts if p)
+    return "sq_" + (text or "name")
+
+
+def decimals(values: np.ndarray, most: int = 6) -> int:
+    """The number of decimals the readings were recorded with (the largest needed by any reading)."""
+    v = np.asarray(values, dtype=float)
+    v = v[np.isfinite(v)]
+    if v.size == 0:
+        return 2
+    scale = np.maximum(1.0, np.abs(v))
+    for d in range(most + 1):
+        if np.all(np.abs(np.round(v, d) - v) <= 1e-9 * scale):
+            return d
+    return most
+
+
+def excel_serial(when: dt.datetime) -> float:
+    """A date and time as the spreadsheet's day number (days since 1899-12-30)."""
+    if when.tzinfo is not None:
+        when = when.replace(tzinfo=None)
+    return (when - EXCEL_EPOCH).total_seconds() / 86400.0
+
+
+def width(texts: list[str], least: int = 8, most: int = 48) -> int:
+    """A column width (characters) that fits the longest of a few texts."""
+    longest = max((len(t) for t in texts), default=0)
+    return max(least, min(most, longest + 2))
+
+
+def unique_headers(names: list[str], first_letter: int = 0) -> list[str]:
+    """Table headers must be unique and non-empty: fill blanks and number repeats."""
+    out: list[str] = []
+    seen: set[str] = set()
+    for i, name in enumerate(names):
+        base = name.strip() or f"Column {xl_col_to_name(first_letter + i)}"
+        candidate, k = base, 2
+        while candidate.lower() in seen:
+            candidate, k = f"{base} ({k})", k + 1
+        seen.add(candidate.lower())
+        out.append(candidate)
+    return out
+
+
+def print_setup(ws: Any, what: str) -> None:
+    """Landscape, one page wide, header with what is shown and the date, footer with the page."""
+    safe = what.replace("&", "&&")[:80]
+    ws.set_landscape()
+    ws.fit_to_pages(1, 0)
+    ws.set_margins(left=0.5, right=0.5, top=0.7, bottom=0.6)
+    ws.set_header(f"&L&8sheettool evaluation: {safe}&R&8&D")
+    ws.set_footer("&L&8" + safe + "&R&8page &P of &N")

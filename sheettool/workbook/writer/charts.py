@@ -1,0 +1,207 @@
+"""Native chart builders: a control chart per plotted statistic and the ARL-against-shift chart.
+
+Charts are xlsxwriter scatter charts with straight lines, so the x axis can be subgroup numbers or
+real dates and the limit lines can be drawn as steps. The geometry of center lines, limits and
+zone lines lives on a hidden tab (LINES_SHEET): a constant line is two points from the first to
+the last subgroup, a varying one a staircase of two points per subgroup (each limit holds from half
+way after the previous subgroup to half way before the next).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from typing import Any
+
+import numpy as np
+
+from sheettool.core.charts import PlottedStatistic
+from sheettool.evaluation import Signal
+from sheettool.workbook import style
+from sheettool.workbook.writer import cells
+from sheettool.workbook.writer.data_tab import DataLayout, StatColumns
+
+LINES_SHEET = "chart-lines"
+ZONES = (2.0, 1.0, -1.0, -2.0)  # zone lines, in standard errors from the center line
+
+
+class LineSheet:
+    """Collects the line geometry column by column and writes it row by row at the end."""
+
+    def __init__(self) -> None:
+        self.columns: list[tuple[str, list[float | None]]] = []
+        self._x: dict[tuple[str, bool], int] = {}
+
+    def add(self, header: str, values: list[float | None]) -> int:
+        """Add a column; return its index."""
+        self.columns.append((header, values))
+        return len(self.columns) - 1
+
+    def ref(self, col: int) -> str:
+        """Reference to a column's values (rows 2.. of the hidden tab)."""
+        return cells.column_range(LINES_SHEET, col, 1, max(1, len(self.columns[col][1])))
+
+    def line(self, layout: DataLayout, header: str, y: np.ndarray) -> tuple[str, str]:
+        """(x reference, y reference) of a center, limit or zone line over a layout's subgroups."""
+        bounds = _bounds(layout.x)
+        finite = y[np.isfinite(y)]
+        stepped = not (finite.size == y.size and np.ptp(y) == 0)
+        key = (layout.tab, stepped)
+        if key not in self._x:
+            xs = np.repeat(bounds, 2)[1:-1] if stepped else bounds[[0, -1]]
+            self._x[key] = self.add(f"{layout.tab}: x{' (steps)' if stepped else ''}", xs.tolist())
+        ys = np.repeat(y, 2) if stepped else np.array([y[0], y[0]])
+        col = self.add(header, [v if math.isfinite(v) else None for v in ys.tolist()])
+        return self.ref(self._x[key]), self.ref(col)
+
+    def write(self, ws: Any) -> None:
+        """Write the collected columns (header row, then values) and hide the tab."""
+        for c, (header, _) in enumerate(self.columns):
+            ws.write_string(0, c, header)
+        longest = max((len(v) for _, v in self.columns), default=0)
+        for r in range(longest):
+            for c, (_, values) in enumerate(self.columns):
+                if r < len(values) and values[r] is not None:
+                    ws.write_number(r + 1, c, values[r])
+        ws.hide()
+
+
+def _bounds(x: np.ndarray) -> np.ndarray:
+    """Edges half way between neighbouring subgroups, extended by half a step at both ends."""
+    if x.size == 1:
+        return np.array([x[0] - 0.5, x[0] + 0.5])
+    mids = (x[:-1] + x[1:]) / 2.0
+    return np.concatenate([[2 * x[0] - mids[0]], mids, [2 * x[-1] - mids[-1]]])
+
+
+_LOOKS_LIKE_REFERENCE = re.compile(r"^=?[^!]+!\$?[A-Z]+\$?\d+")  # what xlsxwriter takes for a cell reference
+
+
+def chart_text(text: str) -> str:
+    """A series name from the input, kept literal: a name that looks like Sheet!A1 gets a space after the !,
+    so xlsxwriter does not turn it into a reference to another cell (or another file)."""
+    return text.replace("!", "! ") if _LOOKS_LIKE_REFERENCE.match(text) else text
+
+
+def nice_step(span: float, parts: int) -> float:
+    """A round step (1, 2, 2.5 or 5 times a power of ten) that cuts `span` into about `parts`."""
+    if not math.isfinite(span) or span <= 0:
+        return 1.0
+    raw = span / parts
+    power = 10 ** math.floor(math.log10(raw))
+    return next(f * power for f in (1, 2, 2.5, 5, 10) if f * power >= raw)
+
+
+def value_axis(arrays: list[np.ndarray]) -> dict[str, float]:
+    """y axis min, max and major unit from the data and the limits, never simply from zero."""
+    joined = np.concatenate([a[np.isfinite(a)] for a in arrays] or [np.array([0.0])])
+    lo, hi = (float(joined.min()), float(joined.max())) if joined.size else (0.0, 1.0)
+    if hi == lo:
+        pad = abs(hi) * 0.05 or 1.0
+        lo, hi = lo - pad, hi + pad
+    step = nice_step(hi - lo, 6)
+    low = math.floor(lo / step - 0.25) * step
+    if lo >= 0 > low:  # ranges, deviations, counts: no axis below zero
+        low = 0.0
+    return {"min": low, "max": math.ceil(hi / step + 0.25) * step, "major_unit": step}
+
+
+_DATE_UNITS = (1 / 24, 2 / 24, 3 / 24, 4 / 24, 6 / 24, 12 / 24, 1, 2, 7, 14, 28, 56, 91, 182, 365)
+
+
+def subgroup_axis(layout: DataLayout) -> dict[str, Any]:
+    """x axis by subgroup number, or by date and time when every subgroup has a date."""
+    bounds = _bounds(layout.x)
+    lo, hi = float(bounds[0]), float(bounds[-1])
+    font = {"size": 8}
+    if layout.x_is_date:
+        unit = next((u for u in _DATE_UNITS if u >= (hi - lo) / 10), 365.0)
+        return {"name": "Date and time", "min": lo, "max": hi, "major_unit": unit,
+                "num_format": "yyyy-mm-dd" if unit >= 1 else "mm-dd hh:mm",
+                "num_font": {**font, "rotation": -45}, "name_font": {"size": 9}}
+    step = max(1.0, nice_step(hi - lo, 12))
+    if step != int(step):  # 2.5 would print as 3: subgroup numbers need whole steps
+        step = float(int(step))
+    return {"name": "Subgroup", "min": math.floor(lo), "max": math.ceil(hi), "major_unit": step,
+            "num_format": "0", "num_font": font, "name_font": {"size": 9}}
+
+
+def control_chart(book: Any, layout: DataLayout, sc: StatColumns, lines: LineSheet, zones: bool,
+                  title: str, unit: str, signals: list[Signal]) -> Any:
+    """The control chart of one statistic: zones, limits, center, the points and its signals on top."""
+    stat = sc.stat
+    m = layout.m
+    chart = book.add_chart({"type": "scatter", "subtype": "straight"})
+    x_ref = layout.range(layout.x_col)
+    legend_off: list[int] = []
+    if zones:
+        for i, z in enumerate(ZONES):
+            xs, ys = lines.line(layout, f"{stat.label}: {z:+g} standard errors", _zone(stat, z))
+            chart.add_series({"name": "zone lines (1 and 2 standard errors)", "categories": xs, "values": ys,
+                              **style.series_look("zone", m)})
+            if i:
+                legend_off.append(i)
+    first_limit = len(chart.series)
+    for key, arr in (("ucl", stat.ucl), ("lcl", stat.lcl)):
+        xs, ys = lines.line(layout, f"{stat.label}: {key.upper()}", arr)
+        chart.add_series({"name": "UCL and LCL", "categories": xs, "values": ys, **style.series_look("limit", m)})
+    legend_off.append(first_limit + 1)
+    xs, ys = lines.line(layout, f"{stat.label}: center line", stat.center)
+    chart.add_series({"name": "center line", "categories": xs, "values": ys, **style.series_look("center", m)})
+    chart.add_series({"name": chart_text(stat.label), "categories": x_ref, "values": layout.range(sc.value),
+                      **style.series_look("values", m)})
+    hits = sorted({s.subgroup - 1 for s in signals})
+    if hits:  # a compact list of the signalling points, so a long chart carries no column of blanks
+        xs = lines.ref(lines.add(f"{stat.label}: signal x", [float(layout.x[i]) for i in hits]))
+        ys = lines.ref(lines.add(f"{stat.label}: signal", [float(stat.values[i]) for i in hits]))
+        chart.add_series({"name": "signal", "categories": xs, "values": ys, **style.series_look("signal", m)})
+    arrays = [stat.values, stat.lcl, stat.ucl, stat.center]
+    if zones:
+        arrays += [_zone(stat, z) for z in ZONES]
+    y_axis = value_axis(arrays)
+    chart.set_title({"name": chart_text(title), "name_font": {"size": 11, "bold": True, "color": style.SLATE}})
+    chart.set_x_axis({**subgroup_axis(layout), "major_gridlines": {"visible": False},
+                      "line": {"color": style.HAIRLINE}})
+    y_name = chart_text(f"{stat.label}{f' ({unit})' if unit else ''}")
+    chart.set_y_axis({**y_axis, "name": y_name, "name_font": {"size": 9},
+                      "num_font": {"size": 8}, "num_format": style.number_format(_axis_decimals(y_axis["major_unit"])),
+                      "major_gridlines": {"visible": True, "line": {"color": style.MIST, "width": 0.5}},
+                      "line": {"color": style.HAIRLINE}})
+    chart.set_legend({"position": "bottom", "font": {"size": 8}, "delete_series": legend_off})
+    chart.set_chartarea({"border": {"none": True}})
+    chart.set_size({"width": style.CHART_WIDTH, "height": style.CHART_HEIGHT})
+    chart.show_blanks_as("gap")
+    chart.show_hidden_data()
+    return chart
+
+
+def _zone(stat: PlottedStatistic, z: float) -> np.ndarray:
+    """A zone line z standard errors from the center, kept between the limits (a floored LCL stays the floor)."""
+    return np.clip(stat.center + z * stat.sigma, stat.lcl, stat.ucl)
+
+
+def _axis_decimals(step: float) -> int:
+    """Decimals that show every label of an axis with this major unit (2.5 needs one more)."""
+    power = math.floor(math.log10(step) + 1e-9)
+    extra = 1 if abs(step / 10**power - 2.5) < 1e-9 else 0
+    return max(0, extra - power)
+
+
+def arl_chart(book: Any, series: list[tuple[str, str, str]], largest: float, widest: float) -> Any:
+    """ARL against mean shift, one line per scheme, logarithmic y axis. series: (name, x ref, y ref)."""
+    chart = book.add_chart({"type": "scatter", "subtype": "straight_with_markers"})
+    for i, (name, xs, ys) in enumerate(series):
+        chart.add_series({"name": chart_text(name), "categories": xs, "values": ys, **style.performance_look(i)})
+    top = 10 ** math.ceil(math.log10(max(largest, 10.0)))
+    chart.set_title({"name": "Average run length against the size of a mean shift",
+                     "name_font": {"size": 11, "bold": True, "color": style.SLATE}})
+    chart.set_x_axis({"name": "Mean shift (process standard deviations)", "name_font": {"size": 9},
+                      "num_font": {"size": 8}, "min": 0, "max": widest if widest > 0 else None,
+                      "major_gridlines": {"visible": False}})
+    chart.set_y_axis({"name": "ARL: points plotted until a signal (log scale)", "log_base": 10, "min": 1,
+                      "max": top, "name_font": {"size": 9}, "num_font": {"size": 8}, "num_format": "#,##0",
+                      "major_gridlines": {"visible": True, "line": {"color": style.MIST, "width": 0.5}}})
+    chart.set_legend({"position": "bottom", "font": {"size": 8}})
+    chart.set_chartarea({"border": {"none": True}})
+    chart.set_size({"width": style.CHART_WIDTH, "height": style.CHART_HEIGHT + 40})
+    return chart

@@ -1,0 +1,342 @@
+"""The evaluation tab of one characteristic: header block, limits, charts, signals, capability and
+a small performance table, in that order, laid out to print landscape one page wide.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from sheettool.core.capability import AttributeRate, Capability
+from sheettool.core.data import Measurements
+from sheettool.evaluation import CharacteristicResult
+from sheettool.workbook import style
+from sheettool.workbook.writer import cells, charts, formulas
+from sheettool.workbook.writer.data_tab import DataLayout
+from sheettool.workbook.writer.methods import method
+from sheettool.workbook.writer.notes_tab import CAUTION
+
+LIMIT_KEYS = (("center", "Center line"), ("lcl", "LCL"), ("ucl", "UCL"))
+
+
+@dataclass
+class Links:
+    """Tabs the evaluation tab links to."""
+
+    performance: str
+    notes: str
+
+
+@dataclass
+class EvaluationWritten:
+    """What the other tabs need back: the workbook names of constant limits, formulas not used."""
+
+    limit_names: dict[tuple[str, str], str] = field(default_factory=dict)
+    as_values: list[str] = field(default_factory=list)
+
+
+class _Rows:
+    """A cursor over the tab's rows, so sections follow each other without counting by hand."""
+
+    def __init__(self, ws: Any, fmt: dict[str, Any]) -> None:
+        self.ws, self.fmt, self.row = ws, fmt, 0
+
+    def fact(self, label: str, value: str, wrap: bool = False) -> None:
+        self.ws.write_string(self.row, 0, label, self.fmt["label"])
+        if wrap:
+            self.ws.merge_range(self.row, 1, self.row, 4, "", self.fmt["wrap"])
+            lines = max(1, math.ceil(len(value) / 105))
+            if lines > 1:
+                self.ws.set_row(self.row, 15 * lines)
+        self.ws.write_string(self.row, 1, value, self.fmt["wrap"] if wrap else None)
+        self.row += 1
+
+    def section(self, title: str) -> None:
+        self.row += 1
+        self.ws.merge_range(self.row, 0, self.row, 4, "", self.fmt["section"])
+        self.ws.write_string(self.row, 0, title, self.fmt["section"])
+        self.row += 1
+
+    def head(self, titles: list[str], numeric: tuple[int, ...] = ()) -> None:
+        for c, t in enumerate(titles):
+            role = "head_number" if c in numeric else "head_note" if c == 4 else "head"
+            self.ws.write_string(self.row, c, t, self.fmt[role])
+        self.row += 1
+
+
+def _spans(mask: np.ndarray) -> str:
+    """Subgroup positions of a mask as compact ranges, e.g. 1-21, 23-30."""
+    idx = np.flatnonzero(mask) + 1
+    if idx.size == 0:
+        return "none"
+    parts, start, prev = [], idx[0], idx[0]
+    for i in idx[1:]:
+        if i != prev + 1:
+            parts.append(f"{start}-{prev}" if prev > start else f"{start}")
+            start = i
+        prev = i
+    parts.append(f"{start}-{prev}" if prev > start else f"{start}")
+    return ", ".join(parts)
+
+
+def _spec_words(result: CharacteristicResult) -> str:
+    cap = result.capability
+    values = {"LSL": None, "USL": None, "target": None}
+    if isinstance(cap, Capability):
+        values = {"LSL": cap.lsl, "USL": cap.usl, "target": cap.target}
+    else:
+        for key, name in (("lsl", "LSL"), ("usl", "USL"), ("target", "target")):
+            if key in result.settings:
+                values[name] = result.settings[key].value  # type: ignore[assignment]
+    given = [f"{k} {v:g}" if isinstance(v, int | float) else f"{k} {v}" for k, v in values.items() if v is not None]
+    return ", ".join(given) if given else "none given"
+
+
+def _period(result: CharacteristicResult) -> str:
+    ch = result.characteristic
+    dates = [d for d in ch.dates if d is not None]
+    if dates:
+        return f"{min(dates):%Y-%m-%d %H:%M} to {max(dates):%Y-%m-%d %H:%M}"
+    return f"{ch.labels[0]} to {ch.labels[-1]}" if ch.labels else "unknown"
+
+
+def _counts(result: CharacteristicResult) -> str:
+    ch = result.characteristic
+    m = ch.data.subgroups
+    parts = [f"{m} subgroups"]
+    if isinstance(ch.data, Measurements):
+        parts.append(f"{int(ch.data.sizes.sum())} readings")
+    parts.append(f"{int(np.sum(ch.excluded))} kept out of the limits by the input")
+    parts.append(f"{len(result.signals)} signal(s)")
+    return ", ".join(parts)
+
+
+def zones_in_use(result: CharacteristicResult) -> bool:
+    """Zone lines are drawn when a rule other than the plain 3-sigma limit looks at zones."""
+    return any(r.is_zone and not (r.k == 1 and r.m == 1 and r.z >= 3) for r in result.rules)
+
+
+def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: CharacteristicResult,
+                         layout: DataLayout, lines: charts.LineSheet, links: Links, live: bool,
+                         used_names: set[str], index: int) -> EvaluationWritten:
+    """Write the evaluation tab; return the names of its constant limits (for the data tab's formulas)."""
+    fit, ch = result.fit, result.characteristic
+    about = method(fit.chart)
+    for c, w in enumerate(style.EVAL_COLUMNS):
+        ws.set_column(c, c, w)
+    out = EvaluationWritten()
+    rows = _Rows(ws, fmt)
+    ws.write_string(0, 0, f"{ch.name}: {about.words}", fmt["title"])
+    for c, (text, target) in enumerate((("Data and statistics", layout.tab), ("Scheme performance", links.performance),
+                                        ("Method and audit", links.notes)), start=1):
+        ws.write_url(1, c, cells.internal_link(target), fmt["link"], string=text)
+    ws.write_string(1, 0, "Go to:", fmt["label"])
+    rows.row = 2
+    rows.section("About this chart")
+    rows.fact("Characteristic", ch.name)
+    rows.fact("Sheet read", result.sheet)
+    rows.fact("Unit", ch.unit or "not given")
+    rows.fact("Specification limits", _spec_words(result))
+    rows.fact("Chart", f"{about.words}; subgroups of {fit.subgroup_size}")
+    rows.fact("Limits from", fit.limits_source)
+    rows.fact("Points that set the limits", _spans(np.asarray(fit.base, dtype=bool)), wrap=True)
+    rows.fact("Sigma within", f"{fit.sigma_within:.6g} ({fit.sigma_method})")
+    rows.fact("Rules in use", "; ".join(f"{r.text}: {r.words}" for r in result.rules), wrap=True)
+    rows.fact("Period covered", _period(result))
+    rows.fact("Counts", _counts(result))
+    _limits_table(book, rows, result, layout, live, used_names, out)
+    _capability(rows, result)
+    rows.row += 1
+    breaks = [rows.row]
+    zones = zones_in_use(result)
+    unit = ch.unit if isinstance(ch.data, Measurements) else ""
+    for i, sc in enumerate(layout.stats.values()):
+        if i and i % 2 == 0:
+            breaks.append(rows.row)
+        chart = charts.control_chart(book, layout, sc, lines, zones, f"{sc.stat.label}: {ch.name}", unit,
+                                     [s for s in result.signals if s.statistic == sc.stat.name])
+        ws.insert_chart(rows.row, 0, chart, {"x_offset": 4, "y_offset": 4})
+        rows.row += style.CHART_ROWS
+    breaks.append(rows.row)
+    ws.set_h_pagebreaks(breaks)
+    _signals(rows, result, f"signals_{index}")
+    _performance(rows, result, links)
+    rows.row += 1
+    ws.merge_range(rows.row, 0, rows.row, 4, "", fmt["caution"])
+    ws.set_row(rows.row, 45)
+    ws.write_string(rows.row, 0, CAUTION, fmt["caution"])
+    cells.print_setup(ws, ch.name)
+    return out
+
+
+def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: DataLayout, live: bool,
+                  used_names: set[str], out: EvaluationWritten) -> None:
+    ws, fmt = rows.ws, rows.fmt
+    rows.section("Control limits")
+    rows.head(["Statistic", "Center line", "LCL", "UCL", "Note"], (1, 2, 3))
+    first = rows.row
+    stats = list(layout.stats.values())
+    place = {sc.stat.name: first + i for i, sc in enumerate(stats)}
+    const_row = first + len(stats) + 1  # constants (live formulas only) below the limits
+    const_at: dict[str, int] = {}
+
+    def refs(leaf: tuple) -> str:
+        if leaf[0] == "mean_of":
+            sc = layout.stats[leaf[1]]
+            return f"AVERAGEIF({layout.range(layout.base_col)},1,{layout.range(sc.value)})"
+        if leaf[0] == "const":
+            const_at.setdefault(leaf[1], const_row + 1 + len(const_at))
+            return cells.cell(layout.eval_tab, const_at[leaf[1]], 1)
+        return cells.cell(layout.eval_tab, place[leaf[1]], 1 + [k for k, _ in LIMIT_KEYS].index(leaf[2]))
+
+    consts, live_cells = formulas.limit_cells(result, refs) if live else ({}, {})
+    limit_fmt = fmt[f"dec{min(10, layout.decimals + 2)}"]
+    for sc in stats:
+        stat = sc.stat
+        ws.write_string(rows.row, 0, stat.label, fmt["text"])
+        notes = []
+        for c, (key, word) in enumerate(LIMIT_KEYS, start=1):
+            arr = getattr(stat, key)
+            finite = arr[np.isfinite(arr)]
+            if finite.size == arr.size and np.ptp(arr) == 0:
+                live_cell = live_cells.get((stat.name, key))
+                if live_cell is not None and live_cell.formula is not None:
+                    ws.write_formula(rows.row, c, "=" + live_cell.formula, limit_fmt, live_cell.value)
+                else:
+                    cells.number(ws, rows.row, c, float(arr[0]), limit_fmt)
+                name = cells.defined_name(layout.eval_tab, stat.name, word.replace(" ", "_"))
+                while name.lower() in used_names:
+                    name += "_"
+                used_names.add(name.lower())
+                book.define_name(name, "=" + cells.cell(layout.eval_tab, rows.row, c))
+                out.limit_names[(stat.name, key)] = name
+            elif finite.size == 0:
+                ws.write_string(rows.row, c, "none", fmt["text_right"])
+            else:
+                ws.write_string(rows.row, c, "varies", fmt["text_right"])
+                d = layout.decimals + 2
+                notes.append(f"{word} {float(finite.min()):.{d}f} to {float(finite.max()):.{d}f}")
+        text = ("varies by point: see data tab; " + ", ".join(notes)) if notes else "the same at every point"
+        if stat.lcl_floored:
+            text += "; LCL below zero by formula, shown as 0"
+        ws.write_string(rows.row, 4, text, fmt["note"])
+        if len(text) > style.EVAL_COLUMNS[4]:
+            ws.set_row(rows.row, 15 * math.ceil(len(text) / (style.EVAL_COLUMNS[4] - 4)))
+        rows.row += 1
+    if live:
+        out.as_values = [f"{sc.stat.label} {word}" for sc in stats for key, word in LIMIT_KEYS
+                         if (sc.stat.name, key) in out.limit_names and (sc.stat.name, key) not in live_cells]
+    if const_at:
+        rows.row = const_row
+        rows.head(["Constant", "Value", "What it is"], (1,))
+        for name, row in sorted(const_at.items(), key=lambda kv: kv[1]):
+            value, meaning = consts[name]
+            ws.write_string(row, 0, name)
+            ws.write_number(row, 1, value, fmt["dec6"])
+            ws.write_string(row, 2, meaning, fmt["note"])
+        rows.row = const_row + 1 + len(const_at)
+
+
+def _signals(rows: _Rows, result: CharacteristicResult, table: str) -> None:
+    ws = rows.ws
+    rows.section(f"Signals ({len(result.signals)})")
+    if not result.signals:
+        ws.write_string(rows.row, 0, "No signals under the rules in use.")
+        rows.row += 1
+        return
+    labels = {s.name: s.label for s in result.fit.statistics}
+    top = rows.row
+    for i, s in enumerate(result.signals, start=1):
+        ws.write_number(top + i, 0, s.subgroup, rows.fmt["point"])
+        ws.write_string(top + i, 1, s.label)
+        ws.write_string(top + i, 2, labels.get(s.statistic, s.statistic))
+        ws.write_string(top + i, 3, s.rule)
+        ws.write_string(top + i, 4, s.words)
+    ws.add_table(top, 0, top + len(result.signals), 4, {
+        "name": table,
+        "style": "Table Style Light 1",
+        "columns": [{"header": h, "header_format": rows.fmt["head"]}
+                    for h in ("Point", "Label", "Chart", "Rule", "What the rule looks for")]})
+    rows.row = top + len(result.signals) + 1
+
+
+def _capability(rows: _Rows, result: CharacteristicResult) -> None:
+    ws, fmt = rows.ws, rows.fmt
+    cap = result.capability
+    rows.section("Capability")
+    if cap is None:
+        ws.write_string(rows.row, 0, "Not computed: no specification limits were given for this characteristic."
+                        if isinstance(result.characteristic.data, Measurements) else "Not computed.")
+        rows.row += 1
+        return
+    if isinstance(cap, AttributeRate):
+        what = "proportion defective" if cap.kind == "proportion" else "defects per unit"
+        rows.head(["Estimate", "Value", f"{cap.confidence:.0%} interval: low", "high", ""], (1, 2, 3))
+        ws.write_string(rows.row, 0, f"Average {what}")
+        for c, v in enumerate((cap.estimate, cap.ci.low, cap.ci.high), start=1):
+            cells.number(ws, rows.row, c, v, fmt["dec6"])
+        rows.row += 1
+        return
+    if not cap.stable:
+        ws.merge_range(rows.row, 0, rows.row, 4, "", fmt["warn"])
+        ws.write_string(rows.row, 0, "Not a stable process: the chart signals, so these indices describe the "
+                        "data seen, not what the process will make.", fmt["warn"])
+        rows.row += 1
+    rows.head(["Index", "Estimate", f"{cap.confidence:.0%} interval: low", "high", "Note"], (1, 2, 3))
+    for name, value, key, note in (
+            ("Cp", cap.cp, "cp", "spread against the tolerance, sigma within"),
+            ("Cpk", cap.cpk, "cpk", "nearer specification limit, sigma within"),
+            ("Pp", cap.pp, "pp", "spread against the tolerance, overall sigma"),
+            ("Ppk", cap.ppk, "ppk", "nearer specification limit, overall sigma"),
+            ("Cpm", cap.cpm, "cpm", "against the target")):
+        ws.write_string(rows.row, 0, name)
+        if value is None:
+            ws.write_string(rows.row, 1, "not defined")
+        else:
+            cells.number(ws, rows.row, 1, value, fmt["ratio"])
+        if key in cap.ci:
+            cells.number(ws, rows.row, 2, cap.ci[key].low, fmt["ratio"])
+            cells.number(ws, rows.row, 3, cap.ci[key].high, fmt["ratio"])
+        ws.write_string(rows.row, 4, note, fmt["note"])
+        rows.row += 1
+    facts = [("Mean", f"{cap.mean:.6g}"), ("Sigma within", f"{cap.sigma_within:.6g}"),
+             ("Sigma overall", f"{cap.sigma_overall:.6g}")]
+    if cap.ppm_out is not None:
+        facts.append(("Out of specification", f"{cap.ppm_out:,.1f} parts per million (normal model)"))
+    if cap.normality_p is not None:
+        facts.append(("Normality test p-value", f"{cap.normality_p:.4f}"))
+    for label, value in facts:
+        rows.fact(label, value)
+    for note in cap.notes:
+        rows.fact("Note", note, wrap=True)
+
+
+def _performance(rows: _Rows, result: CharacteristicResult, links: Links) -> None:
+    ws, fmt = rows.ws, rows.fmt
+    perf = result.performance
+    rows.section("How this scheme behaves")
+    rows.fact("Method", perf.method, wrap=True)
+    ws.write_string(rows.row, 0, "In-control ARL (points)", fmt["label"])
+    cells.number(ws, rows.row, 1, perf.arl_in_control, fmt["arl"])
+    rows.row += 1
+    if perf.components:
+        rows.fact("Each chart alone", "; ".join(f"{k}: {v:,.1f}" for k, v in perf.components.items()))
+    ws.write_string(rows.row, 0, "False alarms per month", fmt["label"])
+    if perf.false_alarms_per_month is not None:
+        cells.number(ws, rows.row, 1, perf.false_alarms_per_month, fmt["ratio"])
+    else:
+        ws.write_string(rows.row, 1, "sampling interval not given")
+    rows.row += 1
+    rows.row += 1
+    rows.head(["Mean shift (sigma)", "ARL (points)", "ATS (hours)", "", ""], (0, 1, 2))
+    for s in perf.shifts:
+        cells.number(ws, rows.row, 0, s.shift, fmt["dec2"])
+        cells.number(ws, rows.row, 1, s.arl, fmt["arl"])
+        cells.number(ws, rows.row, 2, s.ats_hours, fmt["hours"])
+        rows.row += 1
+    ws.write_url(rows.row, 0, cells.internal_link(links.performance), fmt["link"],
+                 string="ARL over a finer grid of shifts: Scheme performance")
+    rows.row += 1

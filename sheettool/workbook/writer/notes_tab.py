@@ -1,0 +1,140 @@
+"""The method and audit tab: what was read, by which tool, with which settings and formulas, what
+went wrong, and the caution that the statistics support and never replace engineering judgement.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass
+from typing import Any
+
+from sheettool import TOOL_NAME, __version__
+from sheettool.core.constants import constants
+from sheettool.core.data import Measurements
+from sheettool.report import EvaluationReport
+from sheettool.workbook.reader import SheetRead
+from sheettool.workbook.writer import cells
+from sheettool.workbook.writer.methods import method
+
+NOTES_TAB = "Method and audit"
+CAUTION = (
+    "These statistics support, and never replace, engineering judgement, the site's quality "
+    "procedures, customer requirements and applicable regulations and codes. Characteristics that "
+    "bear on safety need the review those procedures require before any decision is taken."
+)
+GENERAL_METHODS = (
+    ("Pattern rules", "each rule is applied to the plotted points in standard errors from the center line; "
+                      "while fewer points exist than a rule's window, the window is what there is"),
+    ("Zone-rule run lengths", "Markov chain of the rule windows (Champ and Woodall 1987)"),
+    ("Shewhart run lengths", "points signal independently; the run length is geometric, ARL = 1 / p"),
+    ("Capability intervals", "Cp: chi-square interval; Cpk: Bissell (1990) normal approximation"),
+)
+
+
+@dataclass
+class Stamp:
+    """The document date and where it came from (fixed, so that a re-run gives the same file)."""
+
+    when: dt.datetime
+    origin: str
+
+
+def write_notes_tab(ws: Any, fmt: dict[str, Any], report: EvaluationReport, reads: list[SheetRead],
+                    stamp: Stamp, live: bool, as_values: list[str], print_rows: int, eval_tabs: list[str]) -> None:
+    """Write the method and audit notes as label / text rows."""
+    ws.set_column(0, 0, 30)
+    ws.set_column(1, 1, 100)
+    ws.write_string(0, 0, "Method and audit", fmt["title"])
+    row = 2
+
+    def line(label: str, text: str, style: str = "wrap") -> None:
+        nonlocal row
+        ws.write_string(row, 0, label, fmt["label"])
+        ws.write_string(row, 1, text, fmt[style])
+        if len(text) > 110:
+            ws.set_row(row, 15 * (len(text) // 110 + 1))
+        row += 1
+
+    def section(title: str) -> None:
+        nonlocal row
+        row += 1
+        ws.write_string(row, 0, title, fmt["section"])
+        ws.write_string(row, 1, "", fmt["section"])
+        row += 1
+
+    line("Caution", CAUTION, "caution")
+    for result, tab in zip(report.characteristics, eval_tabs, strict=True):
+        ws.write_string(row, 0, "Evaluation", fmt["label"])
+        ws.write_url(row, 1, cells.internal_link(tab), fmt["link"], string=result.characteristic.name)
+        row += 1
+    section("Input")
+    line("Input file", report.input.name)
+    line("Size (bytes)", f"{report.input_size:,}")
+    line("SHA-256", report.input_sha256)
+    for read in reads:
+        line(f"Sheet '{read.sheet}'", _read_words(read))
+    section("This file")
+    line("Written by", f"{TOOL_NAME} {__version__}")
+    line("Document date", f"{stamp.when:%Y-%m-%d %H:%M:%S} ({stamp.origin})")
+    line("Live formulas", ("yes: per-subgroup statistics and constant limits are formulas over the copied data, "
+                           "with the computed values stored beside them" if live else
+                           "no: every number is a value (run with --formulas to get formulas)"))
+    if live and as_values:
+        line("Written as values", "no checked formula for: " + "; ".join(as_values))
+    line("Printing", f"evaluation tabs print landscape, one page wide; data tabs print their first {print_rows} "
+                     "subgroups only (select rows and print the selection for more)")
+    line("Hidden tabs", "limits-block (the machine-readable limits next month's run reads back) and chart-lines "
+                        "(the line geometry of the charts)")
+    section("Settings")
+    for result in report.characteristics:
+        if not result.settings:
+            line(result.characteristic.name, "built-in defaults (no settings recorded)")
+        for setting in result.settings.values():
+            line(f"{result.characteristic.name}: {setting.name}", f"{setting.value} (from {setting.origin})")
+        line(f"{result.characteristic.name}: rules", ", ".join(r.text for r in result.rules))
+    section("Formulas and constants")
+    for chart in dict.fromkeys(r.fit.chart for r in report.characteristics):
+        about = method(chart)
+        line(f"Chart kind {chart}", f"{about.words}: {about.formulas}")
+        if about.published:
+            line("  published", about.published)
+    for result in report.characteristics:
+        if isinstance(result.characteristic.data, Measurements):
+            line(f"{result.characteristic.name}: constants", _constants_words(result.fit.subgroup_size))
+        line(f"{result.characteristic.name}: run length", result.performance.method)
+    for label, text in GENERAL_METHODS:
+        line(label, text)
+    section("Problems found")
+    problems = report.problems + [p for c in report.characteristics for p in c.problems]
+    if not problems:
+        line("None", "no problems were found while reading and evaluating")
+    for p in problems:
+        line(p.severity, f"{p.where}: {p.message}")
+    cells.print_setup(ws, f"method and audit of {report.input.name}")
+
+
+def _read_words(read: SheetRead) -> str:
+    columns = ", ".join(f"{letter}: {meaning}" for letter, meaning in read.columns.items())
+    text = (f"header in row {read.header_row}, data rows {read.first_row} to {read.last_row}; "
+            f"{len(read.rows)} rows kept; columns {columns}")
+    info = getattr(read, "read_info", None)
+    return f"{text}; {info}" if info else text
+
+
+def _constants_words(n: int) -> str:
+    try:
+        k = constants(n)
+    except ValueError:
+        return f"subgroups of {n}: no tabulated constants"
+    return (f"subgroups of {n}: d2 {k.d2:.6f}, d3 {k.d3:.6f}, c4 {k.c4:.6f}, A2 {k.A2:.6f}, A3 {k.A3:.6f}, "
+            f"B3 {k.B3:.6f}, B4 {k.B4:.6f}, D3 {k.D3:.6f}, D4 {k.D4:.6f}")
+
+
+def stamp_for(report: EvaluationReport, given: dt.datetime | None) -> Stamp:
+    """The fixed document date: --timestamp when given, else the input's modification time (UTC)."""
+    if given is not None:
+        return Stamp(given.replace(tzinfo=None) if given.tzinfo is None else
+                     given.astimezone(dt.UTC).replace(tzinfo=None), "given with --timestamp")
+    when = dt.datetime.fromtimestamp(report.input.stat().st_mtime, tz=dt.UTC).replace(tzinfo=None, microsecond=0)
+    return Stamp(when, "the input file's modification time, UTC")
+

@@ -1,0 +1,55 @@
+"""The scheme-performance tab: for every characteristic's scheme, ARL and ATS against a grid of mean
+shifts, and one native chart of ARL against shift on a logarithmic axis.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from sheettool.evaluation import CharacteristicResult
+from sheettool.workbook import style
+from sheettool.workbook.writer import cells, charts
+
+PERFORMANCE_TAB = "Scheme performance"
+
+
+def write_performance_tab(book: Any, ws: Any, fmt: dict[str, Any], results: list[CharacteristicResult],
+                          eval_tabs: list[str]) -> None:
+    """Write the tables (one block of three columns per characteristic, side by side) and the chart."""
+    ws.write_string(0, 0, "How each monitoring scheme behaves", fmt["title"])
+    ws.merge_range(1, 0, 1, 11, "", fmt["wrap"])
+    ws.set_row(1, 30)
+    ws.write_string(1, 0, "ARL: average number of points plotted until the scheme signals. ATS: the same in "
+                    "hours, where the sampling interval is known. A shift is measured in process standard "
+                    "deviations; at shift 0 every signal is a false alarm.", fmt["wrap"])
+    chart_row = 3
+    top = chart_row + style.CHART_ROWS + 3
+    series: list[tuple[str, str, str]] = []
+    largest, widest = 10.0, 0.0
+    for i, (result, tab) in enumerate(zip(results, eval_tabs, strict=True)):
+        col = i * 4
+        perf = result.performance
+        grid = perf.curve or perf.shifts
+        ws.set_column(col, col + 2, 13)
+        ws.set_column(col + 3, col + 3, 3)
+        ws.write_url(top, col, cells.internal_link(tab), fmt["link"], string=result.characteristic.name)
+        ws.merge_range(top + 1, col, top + 1, col + 2, "", fmt["wrap"])
+        ws.write_string(top + 1, col, perf.method, fmt["wrap"])
+        for c, h in enumerate(("Mean shift (sigma)", "ARL (points)", "ATS (hours)")):
+            ws.write_string(top + 2, col + c, h, fmt["head"])
+        first = top + 3
+        for r, s in enumerate(grid, start=first):
+            cells.number(ws, r, col, s.shift, fmt["dec2"])
+            cells.number(ws, r, col + 1, s.arl, fmt["arl"])
+            cells.number(ws, r, col + 2, s.ats_hours, fmt["hours"])
+            if math.isfinite(s.arl):
+                largest = max(largest, s.arl)
+            widest = max(widest, s.shift)
+        last = first + max(0, len(grid) - 1)
+        series.append((result.characteristic.name, cells.column_range(PERFORMANCE_TAB, col, first, last),
+                       cells.column_range(PERFORMANCE_TAB, col + 1, first, last)))
+    ws.set_row(top + 1, 45)
+    ws.set_row(top + 2, 30)
+    ws.insert_chart(chart_row, 0, charts.arl_chart(book, series, largest, widest), {"x_offset": 4})
+    cells.print_setup(ws, "scheme performance")
