@@ -27,10 +27,11 @@ VERSION = 1
 
 
 def limits_rows(entries: list[dict[str, Any]]) -> list[list[str | int]]:
-    """The block's cell rows for a list of {"sheet", "chart", ...} entries."""
+    """The block's cell rows for a list of {"sheet", "chart", ...} entries; an entry's "key" (a pack's
+    "source :: sheet") names its row instead of the sheet where sheet names alone would collide."""
     rows: list[list[str | int]] = [[MARKER, "version", VERSION], ["sheet", "chart", "parameters (JSON)"]]
     for entry in entries:
-        rows.append([entry["sheet"], entry["chart"], json.dumps(entry, sort_keys=True)])
+        rows.append([entry.get("key", entry["sheet"]), entry["chart"], json.dumps(entry, sort_keys=True)])
     return rows
 
 

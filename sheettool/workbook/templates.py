@@ -72,7 +72,7 @@ def write_template(spec: TemplateSpec, path: Path) -> None:
     book.set_properties({"title": f"{TOOL_NAME} data-entry sheet: {spec.kind}",
                          "author": f"{TOOL_NAME} {__version__}", "created": FIXED_DATE})
     fmt = style.formats(book)
-    entry = book.add_format({"bg_color": "#FFFFFF", "border": 1, "border_color": style.RULE_LINE})
+    entry = book.add_format({"bg_color": "#FFFFFF", "border": 1, "border_color": style.HAIRLINE})
     when = book.add_format({"num_format": "yyyy-mm-dd hh:mm"})
     ws = book.add_worksheet(spec.sheet)
     ws.write_string(0, 0, f"Data-entry sheet ({spec.kind}) for {TOOL_NAME}", fmt["title"])

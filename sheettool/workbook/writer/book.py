@@ -12,6 +12,7 @@ import tempfile
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 import xlsxwriter
 
@@ -60,35 +61,63 @@ def write_atomically(path: Path, build: Callable[[str], None], protect: Path | N
             os.unlink(tmp)
 
 
+@dataclass
+class Summary:
+    """A tab written first, before the evaluation tabs (the pack's summary); it gets the tab names."""
+
+    name: str
+    write: Callable[[Any, Any, dict[str, Any], list[str]], None]  # (book, ws, fmt, evaluation tab names)
+
+
 def write_evaluated_workbook(report: EvaluationReport, reads: list[SheetRead], path: Path,
                              options: WriterOptions | None = None) -> None:
     """Write the report's workbook to `path` (.xlsx, never macro-enabled) atomically, never over the input."""
+    write_workbook([(report, reads)], path, options)
+
+
+def write_workbook(sources: list[tuple[EvaluationReport, list[SheetRead]]], path: Path,
+                   options: WriterOptions | None = None, summary: Summary | None = None,
+                   block_keys: list[str] | None = None) -> None:
+    """Write the evaluated workbook of one or more inputs (a pack) atomically, never over an input.
+
+    block_keys names each characteristic in the limits block (default: its sheet name).
+    """
     options = options or WriterOptions()
     path = Path(path)
     if path.suffix.lower() != ".xlsx":
         raise OutputError(f"{path}: the output is always an .xlsx workbook without macros; "
                           "choose a name ending in .xlsx with -o")
-    stamp = stamp_for(report, options.timestamp)
+    for report, _ in sources:
+        if path.resolve() == report.input.resolve():
+            raise OutputError(f"{path}: refusing to write the output over the input; choose another name with -o")
+    reports = [report for report, _ in sources]
+    stamp = stamp_for(reports, options.timestamp)
     live = options.formulas
+    pairs = [(result, read) for report, reads in sources for result, read in zip(report.characteristics, reads,
+                                                                                   strict=True)]
+    results = [result for result, _ in pairs]
 
     def build(tmp: str) -> None:
         book = xlsxwriter.Workbook(tmp, {"strings_to_formulas": False, "strings_to_urls": False,
                                          "strings_to_numbers": False, "nan_inf_to_errors": False})
+        inputs = ", ".join(r.input.name for r in reports)
         book.set_properties({
-            "title": f"Evaluation of {report.input.name}",
+            "title": f"Evaluation of {inputs}" if len(reports) == 1 else f"Review pack of {len(reports)} workbooks",
             "subject": "Control charts, signals, capability and scheme performance of "
-                       + ", ".join(c.characteristic.name for c in report.characteristics),
+                       + ", ".join(dict.fromkeys(c.characteristic.name for c in results)),
             "author": f"{TOOL_NAME} {__version__}", "manager": "", "company": "",
-            "comments": f"Written by {TOOL_NAME} {__version__} from {report.input.name} "
-                        f"(SHA-256 {report.input_sha256})",
+            "comments": f"Written by {TOOL_NAME} {__version__} from "
+                        + "; ".join(f"{r.input.name} (SHA-256 {r.input_sha256})" for r in reports),
             "created": stamp.when})
         book.set_calc_mode("auto")
         fmt = style.formats(book)
         used: set[str] = {NOTES_TAB.lower(), LIMITS_SHEET.lower(), PERFORMANCE_TAB.lower(), LINES_SHEET.lower()}
-        results = report.characteristics
+        if summary is not None:
+            used.add(summary.name.lower())
         names = [(cells.tab_name(r.characteristic.name, "chart", used), cells.tab_name(r.characteristic.name,
                                                                                         "data", used))
                  for r in results]
+        summary_ws = book.add_worksheet(summary.name) if summary is not None else None
         eval_ws = [book.add_worksheet(e) for e, _ in names]
         perf_ws = book.add_worksheet(PERFORMANCE_TAB)
         data_ws = [book.add_worksheet(d) for _, d in names]
@@ -99,15 +128,22 @@ def write_evaluated_workbook(report: EvaluationReport, reads: list[SheetRead], p
         links = Links(performance=PERFORMANCE_TAB, notes=NOTES_TAB)
         defined: set[str] = set()
         as_values: list[str] = []
-        for i, (result, read, (eval_tab, data_tab)) in enumerate(zip(results, reads, names, strict=True)):
+        for i, (result, read) in enumerate(pairs):
+            eval_tab, data_tab = names[i]
             layout = plan_data_tab(result, read, data_tab, eval_tab, live)
             written = write_evaluation_tab(book, eval_ws[i], fmt, result, layout, lines, links, live, defined, i + 1)
             limit_names = written.limit_names if live else {}
             stats_as_values = write_data_tab(data_ws[i], fmt, layout, result, read, limit_names, live, f"data_{i + 1}")
             as_values += [f"{result.characteristic.name}: {what}" for what in stats_as_values + written.as_values]
-        write_performance_tab(book, perf_ws, fmt, results, [e for e, _ in names])
-        write_notes_tab(notes_ws, fmt, report, reads, stamp, live, as_values, PRINT_ROWS, [e for e, _ in names])
-        for r, row in enumerate(limits_rows([limits_entry(c) for c in results])):
+        eval_tabs = [e for e, _ in names]
+        if summary is not None:
+            summary.write(book, summary_ws, fmt, eval_tabs)
+        write_performance_tab(book, perf_ws, fmt, results, eval_tabs)
+        write_notes_tab(notes_ws, fmt, sources, stamp, live, as_values, PRINT_ROWS, eval_tabs)
+        entries = [limits_entry(c) for c in results]
+        for entry, key in zip(entries, block_keys or [], strict=False):
+            entry["key"] = key
+        for r, row in enumerate(limits_rows(entries)):
             for c, value in enumerate(row):
                 if isinstance(value, str):
                     block_ws.write_string(r, c, value)
@@ -115,7 +151,7 @@ def write_evaluated_workbook(report: EvaluationReport, reads: list[SheetRead], p
                     block_ws.write_number(r, c, value)
         block_ws.hide()
         lines.write(lines_ws)
-        eval_ws[0].activate()
+        (summary_ws or eval_ws[0]).activate()
         book.close()
 
-    write_atomically(path, build, protect=report.input)
+    write_atomically(path, build)

@@ -39,9 +39,11 @@ class Stamp:
     origin: str
 
 
-def write_notes_tab(ws: Any, fmt: dict[str, Any], report: EvaluationReport, reads: list[SheetRead],
+def write_notes_tab(ws: Any, fmt: dict[str, Any], sources: list[tuple[EvaluationReport, list[SheetRead]]],
                     stamp: Stamp, live: bool, as_values: list[str], print_rows: int, eval_tabs: list[str]) -> None:
-    """Write the method and audit notes as label / text rows."""
+    """Write the method and audit notes as label / text rows, for one input or a pack of them."""
+    reports = [report for report, _ in sources]
+    results = [result for report in reports for result in report.characteristics]
     ws.set_column(0, 0, 30)
     ws.set_column(1, 1, 100)
     ws.write_string(0, 0, "Method and audit", fmt["title"])
@@ -63,16 +65,17 @@ def write_notes_tab(ws: Any, fmt: dict[str, Any], report: EvaluationReport, read
         row += 1
 
     line("Caution", CAUTION, "caution")
-    for result, tab in zip(report.characteristics, eval_tabs, strict=True):
+    for result, tab in zip(results, eval_tabs, strict=True):
         ws.write_string(row, 0, "Evaluation", fmt["label"])
         ws.write_url(row, 1, cells.internal_link(tab), fmt["link"], string=result.characteristic.name)
         row += 1
-    section("Input")
-    line("Input file", report.input.name)
-    line("Size (bytes)", f"{report.input_size:,}")
-    line("SHA-256", report.input_sha256)
-    for read in reads:
-        line(f"Sheet '{read.sheet}'", _read_words(read))
+    for report, reads in sources:
+        section("Input" if len(sources) == 1 else f"Input: {report.input.name}")
+        line("Input file", str(report.input) if len(sources) > 1 else report.input.name)
+        line("Size (bytes)", f"{report.input_size:,}")
+        line("SHA-256", report.input_sha256)
+        for read in reads:
+            line(f"Sheet '{read.sheet}'", _read_words(read))
     section("This file")
     line("Written by", f"{TOOL_NAME} {__version__}")
     line("Document date", f"{stamp.when:%Y-%m-%d %H:%M:%S} ({stamp.origin})")
@@ -86,31 +89,31 @@ def write_notes_tab(ws: Any, fmt: dict[str, Any], report: EvaluationReport, read
     line("Hidden tabs", "limits-block (the machine-readable limits next month's run reads back) and chart-lines "
                         "(the line geometry of the charts)")
     section("Settings")
-    for result in report.characteristics:
+    for result in results:
         if not result.settings:
             line(result.characteristic.name, "built-in defaults (no settings recorded)")
         for setting in result.settings.values():
             line(f"{result.characteristic.name}: {setting.name}", f"{setting.value} (from {setting.origin})")
         line(f"{result.characteristic.name}: rules", ", ".join(r.text for r in result.rules))
     section("Formulas and constants")
-    for chart in dict.fromkeys(r.fit.chart for r in report.characteristics):
+    for chart in dict.fromkeys(r.fit.chart for r in results):
         about = method(chart)
         line(f"Chart kind {chart}", f"{about.words}: {about.formulas}")
         if about.published:
             line("  published", about.published)
-    for result in report.characteristics:
+    for result in results:
         if isinstance(result.characteristic.data, Measurements):
             line(f"{result.characteristic.name}: constants", _constants_words(result.fit.subgroup_size))
         line(f"{result.characteristic.name}: run length", result.performance.method)
     for label, text in GENERAL_METHODS:
         line(label, text)
     section("Problems found")
-    problems = report.problems + [p for c in report.characteristics for p in c.problems]
+    problems = [p for r in reports for p in r.problems] + [p for c in results for p in c.problems]
     if not problems:
         line("None", "no problems were found while reading and evaluating")
     for p in problems:
         line(p.severity, f"{p.where}: {p.message}")
-    cells.print_setup(ws, f"method and audit of {report.input.name}")
+    cells.print_setup(ws, "method and audit of " + (reports[0].input.name if len(reports) == 1 else "the pack"))
 
 
 def _read_words(read: SheetRead) -> str:
@@ -130,11 +133,13 @@ def _constants_words(n: int) -> str:
             f"B3 {k.B3:.6f}, B4 {k.B4:.6f}, D3 {k.D3:.6f}, D4 {k.D4:.6f}")
 
 
-def stamp_for(report: EvaluationReport, given: dt.datetime | None) -> Stamp:
-    """The fixed document date: --timestamp when given, else the input's modification time (UTC)."""
+def stamp_for(reports: list[EvaluationReport], given: dt.datetime | None) -> Stamp:
+    """The fixed document date: --timestamp when given, else the latest input's modification time (UTC)."""
     if given is not None:
         return Stamp(given.replace(tzinfo=None) if given.tzinfo is None else
                      given.astimezone(dt.UTC).replace(tzinfo=None), "given with --timestamp")
-    when = dt.datetime.fromtimestamp(report.input.stat().st_mtime, tz=dt.UTC).replace(tzinfo=None, microsecond=0)
-    return Stamp(when, "the input file's modification time, UTC")
+    latest = max(r.input.stat().st_mtime for r in reports)
+    when = dt.datetime.fromtimestamp(latest, tz=dt.UTC).replace(tzinfo=None, microsecond=0)
+    return Stamp(when, "the input file's modification time, UTC" if len(reports) == 1 else
+                 "the latest input file's modification time, UTC")
 
