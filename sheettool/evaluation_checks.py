@@ -5,6 +5,7 @@ whether the scheme in use meets the requirements of the settings. A failure in o
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -25,6 +26,8 @@ if TYPE_CHECKING:
 _SIGMA_KEYS = (("R-bar / d2", "range"), ("mean of R / d2(n)", "range"), ("S-bar / c4", "s-bar"),
                ("pooled standard deviation", "pooled"), ("MR-bar / d2", "moving-range"))
 _SHEWHART_VARIABLES = ("xbar-r", "xbar-s", "i-mr")
+# the report depends on (m, n, estimator, target) only: one computation per base-period shape (results are read-only)
+_estimated_limits_report = lru_cache(maxsize=256)(estimated_limits_report)
 
 
 @dataclass
@@ -74,7 +77,7 @@ def _estimated(characteristic: Characteristic, fit: ChartFit, options: Evaluatio
     if not fit.base.any():
         return None
     target = float(options.requirements.get("arl_in_control", 370.4))  # the target in use, else 3-sigma's
-    return estimated_limits_report(int(fit.base.sum()), int(fit.subgroup_size), key, target=target)
+    return _estimated_limits_report(int(fit.base.sum()), int(fit.subgroup_size), key, target=target)
 
 
 def _shape(characteristic: Characteristic, fit: ChartFit) -> DataShapeReport | None:

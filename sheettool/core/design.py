@@ -511,6 +511,19 @@ def trade_off(found: list[Candidate], req: Requirements, delta: float) -> list[s
     return lines
 
 
+def leading(found: list[Candidate], count: int) -> list[Candidate]:
+    """The schemes to draw: the best of each chart kind, then the next in the ranking, in ranking order."""
+    firsts = {}
+    for c in found:
+        firsts.setdefault(c.family, c)
+    chosen = set(list(firsts.values())[:count])
+    for c in found:
+        if len(chosen) >= count:
+            break
+        chosen.add(c)
+    return [c for c in found if c in chosen]
+
+
 def arl_curve(candidate: Candidate, shifts: tuple[float, ...]) -> list[float]:
     """The candidate's zero-state ARL at each mean shift (process sigmas), for the comparison chart."""
     result = scheme_run_lengths(candidate.scheme, [(float(s), 1.0) for s in shifts], full=False, runs=CURVE_RUNS)

@@ -13,7 +13,7 @@ import xlsxwriter
 from xlsxwriter.utility import xl_rowcol_to_cell
 
 from sheettool import TOOL_NAME, __version__
-from sheettool.core.design import CURVE_SHIFTS, Candidate, DesignResult, arl_curve
+from sheettool.core.design import CURVE_SHIFTS, Candidate, DesignResult, arl_curve, leading
 from sheettool.workbook import style
 from sheettool.workbook.writer import write_atomically
 
@@ -22,7 +22,7 @@ CAUTION = (
     "requirements and applicable regulations and codes. A scheme chosen here assumes normal, independent points with "
     "known mean and sigma; check those assumptions before a characteristic that bears on safety is monitored with it."
 )
-LEADING = 5  # schemes drawn in the ARL chart
+LEADING = 5  # schemes drawn in the ARL chart: the best of each chart kind, then the next best
 _LINE_COLOURS = (style.INK, style.LIMIT, style.CENTER, style.SIGNAL, "#6B5B95")
 _DASHES = ("solid", "dash", "round_dot", "long_dash", "dash_dot")
 
@@ -35,7 +35,7 @@ def write_design_workbook(result: DesignResult, path: Path) -> None:
         book.set_properties({"title": "Monitoring scheme design", "author": f"{TOOL_NAME} {__version__}"})
         fmt = style.formats(book)
         _comparison(book.add_worksheet("Scheme comparison"), fmt, result)
-        _curves(book, book.add_worksheet("ARL by shift"), fmt, result.candidates[:LEADING])
+        _curves(book, book.add_worksheet("ARL by shift"), fmt, leading(result.candidates, LEADING))
         _notes(book.add_worksheet("About this design"), fmt, result)
         book.close()
 
