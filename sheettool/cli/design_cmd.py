@@ -172,7 +172,7 @@ def _text(value: Any, col: int) -> str:
         return value
     if not math.isfinite(value):
         return "never"
-    return f"{value:g}" if col in (0, 2, 3) else f"{value:.4g}"
+    return f"{value:g}" if col in (0, 2) else f"{value:.4g}"
 
 
 def _table(result: DesignResult, top: int) -> str:
