@@ -85,8 +85,14 @@ def _cell(ws: Any, row: int, col: int, value: Any, fmt: Any = None) -> None:
         ws.write_string(row, col, "never" if value > 0 else "-", fmt)
 
 
+def _print_wide(ws: Any) -> None:
+    ws.set_landscape()
+    ws.fit_to_pages(1, 0)  # one page wide, as many long as needed
+
+
 def _comparison(ws: Any, fmt: dict[str, Any], result: DesignResult) -> None:
-    ws.set_column(0, 0, 26)
+    _print_wide(ws)
+    ws.set_column(0, 0, 32)
     ws.set_column(1, 1, 30)
     ws.set_column(2, 9, 12)
     ws.set_column(10, 10, 70)
@@ -110,6 +116,7 @@ def _comparison(ws: Any, fmt: dict[str, Any], result: DesignResult) -> None:
         ws.write_string(row, 0, line, fmt["text"])
     row += 2
     top = row
+    ws.repeat_rows(top)  # the table head on every printed page
     ws.write_row(row, 0, HEAD, fmt["head"])
     number = {2: fmt["count"], 3: fmt["number"], 4: fmt["number"], 5: fmt["arl"], 6: fmt["number"], 7: fmt["arl"],
               8: fmt["number"]}
@@ -123,6 +130,7 @@ def _comparison(ws: Any, fmt: dict[str, Any], result: DesignResult) -> None:
 
 
 def _curves(book: Any, ws: Any, fmt: dict[str, Any], leading: list[Candidate]) -> None:
+    _print_wide(ws)
     ws.set_column(0, len(leading), 18)
     ws.write_string(0, 0, "Shift (sigma)", fmt["head"])
     for r, s in enumerate(CURVE_SHIFTS, start=1):
