@@ -9,9 +9,11 @@ from typing import Any
 
 from sheettool.core.design import DesignResult, Requirements, Sampling, SearchGrid, design
 from sheettool.errors import InputError
-from sheettool.evaluation import EvaluationOptions, evaluate
+from sheettool.evaluation import evaluate
+from sheettool.options import options_for
 from sheettool.problems import Problem
 from sheettool.report import EvaluationReport
+from sheettool.settings import Setting
 from sheettool.workbook.design_book import write_design_workbook
 from sheettool.workbook.reader import read_workbook
 from sheettool.workbook.writer import write_evaluated_workbook
@@ -34,31 +36,36 @@ def file_digest(path: Path) -> tuple[str, int]:
 
 
 def evaluate_file(input_path: Path, output: Path | None = None,
-                  options: EvaluationOptions | None = None, write: bool = True,
+                  settings: dict[str, Setting] | None = None, write: bool = True,
                   carried: dict[str, dict[str, Any]] | None = None, carried_from: str = "") -> EvaluationReport:
     """Read a workbook, evaluate every characteristic in it and write the evaluated workbook.
 
-    carried: limits-block entries by sheet name (from `read_limits_block`); a sheet with an entry
-    gets those limits, a sheet without one its own base period and a note saying so.
+    `settings` (e.g. from the command line) override the workbook's own; each sheet gets its own
+    options from its settings sheet section and labelled cells. A sheet whose settings or data
+    cannot be evaluated is a problem; the others go on. carried: limits-block entries by sheet name
+    (from `read_limits_block`); a sheet with an entry gets those limits, a sheet without one its own
+    base period and a warning saying so.
     """
     input_path = Path(input_path)
-    options = options or EvaluationOptions()
-    read = read_workbook(input_path)
+    settings = settings or {}
+    read = read_workbook(input_path, settings)
     try:
         sha, size = file_digest(input_path)
     except OSError as exc:
         raise InputError(f"{input_path}: cannot be read ({exc.strerror})") from None
     results, reads, problems = [], [], list(read.problems)
     for sheet in read.sheets:
-        sheet_options = options
-        if carried is not None:
-            sheet_options = replace(options, carried=carried.get(sheet.sheet))
-            if sheet.sheet not in carried:
-                problems.append(Problem("warning", f"{input_path.name}, sheet '{sheet.sheet}'",
-                                        f"no carried limits for this sheet in {carried_from or 'the limits file'}; "
-                                        "its limits come from its own base period"))
+        if carried is not None and sheet.sheet not in carried:
+            problems.append(Problem("warning", f"{input_path.name}, sheet '{sheet.sheet}'",
+                                    f"no carried limits for this sheet in {carried_from or 'the limits file'}; "
+                                    "its limits come from its own base period"))
         try:
-            results.append(evaluate(sheet.characteristic, sheet.sheet, sheet_options))
+            options, used = options_for(sheet, read.settings, settings)
+            if carried is not None:
+                options = replace(options, carried=carried.get(sheet.sheet))
+            result = evaluate(sheet.characteristic, sheet.sheet, options)
+            result.settings = used
+            results.append(result)
             reads.append(sheet)
         except ValueError as exc:
             problems.append(Problem("error", f"{input_path.name}, sheet '{sheet.sheet}'", str(exc)))
@@ -67,7 +74,8 @@ def evaluate_file(input_path: Path, output: Path | None = None,
         raise InputError(f"{input_path}: nothing could be evaluated ({detail})")
     out = Path(output) if output else default_output(input_path)
     report = EvaluationReport(input=input_path, input_sha256=sha, input_size=size,
-                              output=out if write else None, characteristics=results, problems=problems)
+                              output=out if write else None, characteristics=results, problems=problems,
+                              reads=reads)
     if write:
         write_evaluated_workbook(report, reads, out)
     return report

@@ -17,6 +17,8 @@ from sheettool.core.design import RequirementsCheck
 from sheettool.core.estimated_limits import EstimatedLimitsReport
 from sheettool.evaluation import CharacteristicResult, Performance
 from sheettool.problems import Problem
+from sheettool.settings import Setting
+from sheettool.workbook.reader import SheetRead
 
 
 @dataclass
@@ -29,6 +31,7 @@ class EvaluationReport:
     output: Path | None
     characteristics: list[CharacteristicResult]
     problems: list[Problem] = field(default_factory=list)
+    reads: list[SheetRead] = field(default_factory=list)  # what was read, aligned with characteristics
 
 
 def _number(value: float) -> float | None:
@@ -164,6 +167,31 @@ def report_json(report: EvaluationReport) -> dict[str, Any]:
         "input": str(report.input),
         "input_sha256": report.input_sha256,
         "output": str(report.output) if report.output else None,
-        "characteristics": [characteristic_json(c) for c in report.characteristics],
+        "characteristics": [{**characteristic_json(c), **reader_json(c.settings, r)}
+                            for c, r in zip(report.characteristics, _reads(report), strict=True)],
         "problems": [{"severity": p.severity, "where": p.where, "message": p.message} for p in problems],
     }
+
+
+def _reads(report: EvaluationReport) -> list[SheetRead | None]:
+    return list(report.reads) if len(report.reads) == len(report.characteristics) else [None] * len(
+        report.characteristics)
+
+
+def reader_json(settings: dict[str, Setting], read: SheetRead | None) -> dict[str, Any]:
+    """The "settings" (value and origin of each) and "read" (what the reader took from the sheet) keys."""
+    out: dict[str, Any] = {"settings": {name: {"value": s.value, "origin": s.origin} for name, s in settings.items()}}
+    if read is not None:
+        ch = read.characteristic
+        out["read"] = {
+            "sheet": read.sheet, "header_row": read.header_row, "units_row": read.units_row or None,
+            "first_row": read.first_row, "last_row": read.last_row, "layout": read.layout,
+            "columns": read.columns, "subgroups": read.subgroups, "readings": read.readings,
+            "blanks": read.blanks, "blank_rows": read.blank_rows, "not_numbers": read.not_numbers,
+            "short_subgroups": read.short_subgroups,
+            "excluded": [{"subgroup": int(i) + 1, "label": ch.labels[i], "note": ch.notes[i]}
+                         for i in np.flatnonzero(ch.excluded)],
+            "hidden_rows": read.hidden_rows, "hidden_columns": read.hidden_columns,
+            "formulas_without_value": read.formulas_without_value, "unit": ch.unit or None,
+        }
+    return out

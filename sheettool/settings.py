@@ -42,3 +42,50 @@ KNOWN_SETTINGS: dict[str, str] = {
     "confidence": "confidence level of intervals",
     "revise": "drop signalling base points and recompute the limits (yes/no)",
 }
+KNOWN_SETTINGS["part"] = "part number or name, as written above the header"
+
+# Words a technician may write for a setting, after `label_key` (lower case, letters and digits
+# only). The canonical names map to themselves, so "LSL", "lsl" and "L.S.L." all find "lsl".
+SYNONYMS: dict[str, str] = {
+    **{name.lower(): name for name in KNOWN_SETTINGS},
+    # Not "min"/"max", "upper limit" or "tolerance": above a header those are often observed
+    # extremes, control limits or deviations from nominal, not specification limits.
+    "lowerspec": "lsl", "lowerspeclimit": "lsl", "lowerspecification": "lsl",
+    "lowerspecificationlimit": "lsl", "lowerspecificationlimitlsl": "lsl",
+    "upperspec": "usl", "upperspeclimit": "usl", "upperspecification": "usl",
+    "upperspecificationlimit": "usl", "upperspecificationlimitusl": "usl",
+    "nominal": "target", "nominalvalue": "target", "nom": "target", "targetvalue": "target",
+    "units": "unit", "uom": "unit", "unitofmeasure": "unit", "unitofmeasurement": "unit",
+    "samplesize": "subgroup_size", "subgroupsize": "subgroup_size", "n": "subgroup_size",
+    "readingspersubgroup": "subgroup_size", "partspersubgroup": "subgroup_size",
+    "charttype": "chart", "chartkind": "chart", "controlchart": "chart",
+    "rule": "rules", "rulestouse": "rules", "patternrules": "rules",
+    "interval": "interval_hours", "samplinginterval": "interval_hours", "samplingintervalh": "interval_hours",
+    "intervalh": "interval_hours", "intervalhours": "interval_hours", "samplingintervalhours": "interval_hours",
+    "samplingintervalmin": "interval_minutes", "intervalmin": "interval_minutes",
+    "samplingintervalminutes": "interval_minutes", "intervalminutes": "interval_minutes",
+    "hourspermonth": "hours_per_month", "productionhourspermonth": "hours_per_month",
+    "monthlyhours": "hours_per_month", "hoursmonth": "hours_per_month",
+    "limitsfrom": "limits_from", "limitsbase": "limits_from", "baseperiod": "limits_from",
+    "limitsbaseperiod": "limits_from", "limitperiod": "limits_from",
+    "partnumber": "part", "partno": "part", "partnr": "part", "partname": "part", "partid": "part",
+    "ewmalambda": "lambda", "ewmaweight": "lambda", "ewmal": "L", "cusumk": "k", "cusumh": "h",
+    "standardmean": "mean", "standardsigma": "sigma", "confidencelevel": "confidence",
+}
+
+
+def label_key(text: str) -> str:
+    """A label reduced for matching: lower case, letters and digits only ("Sampling interval (h)" ->
+    "samplingintervalh")."""
+    return "".join(ch for ch in text.lower() if ch.isalnum())
+
+
+def setting_name(label: str) -> str | None:
+    """The canonical setting a label names, or None. "interval_minutes" is a label form only: its
+    value is converted to interval_hours by the reader of the setting."""
+    key = label_key(label)
+    if key in SYNONYMS:
+        return SYNONYMS[key]
+    # A unit in brackets after the words, e.g. "USL (mm)": match the words alone.
+    bare = label_key(label.split("(")[0].split("[")[0])
+    return SYNONYMS.get(bare) if bare else None

@@ -20,7 +20,8 @@ from sheettool.core.design import (
 )
 from sheettool.demo.scenario import BUNDLED
 from sheettool.evaluation import EvaluationOptions, evaluate
-from sheettool.report import report_json
+from sheettool.report import characteristic_json, report_json
+from sheettool.workbook.reader import read_workbook
 from tests.conftest import sha256
 
 
@@ -158,26 +159,29 @@ def test_cli_table_when_nothing_meets(run_cli):
 
 def test_evaluate_json_has_estimated_limits_data_shape_and_requirements(tmp_path):
     before = sha256(BUNDLED)
-    options = EvaluationOptions(requirements={"arl_in_control": 370.4, "shift": 1.0, "detect_hours": 2.0},
-                                interval_hours=1.0, hours_per_month=400.0)
-    doc = report_json(evaluate_file(BUNDLED, tmp_path / "out.xlsx", options))
+    doc = report_json(evaluate_file(BUNDLED, tmp_path / "out.xlsx"))
     assert sha256(BUNDLED) == before
     (char,) = doc["characteristics"]
     est = char["estimated_limits"]
     assert set(est) == {"carl_mean", "carl_sd", "carl_p10", "carl_p50", "adjusted_factor", "subgroups_needed",
                         "sentence", "method"}
-    assert est["adjusted_factor"] > 3.0 and "30 subgroups" in est["sentence"]
+    assert est["adjusted_factor"] > 3.0 and f"{len(char['base_subgroups'])} subgroups" in est["sentence"]
     shape = char["data_shape"]
     assert set(shape) == {"family", "arl_normal", "arl_shape", "r1", "significant", "arl_ar1", "warnings", "method"}
     assert (shape["arl_ar1"] is None) == (not shape["significant"])
-    req = char["requirements"]
+    assert char["requirements"] is None  # the demo workbook sets no requirements
+    # the same demo characteristic with requirements in its options
+    (sheet,) = read_workbook(BUNDLED).sheets
+    options = EvaluationOptions(requirements={"arl_in_control": 370.4, "shift": 1.0, "detect_hours": 2.0},
+                                interval_hours=1.0, hours_per_month=400.0)
+    result = evaluate(sheet.characteristic, sheet.sheet, options)
+    req = characteristic_json(result)["requirements"]
     items = {i["name"]: i for i in req["items"]}
     # X-bar and R, n = 5: ARL at 1 sigma is a little under the X-bar alone's 1/p = 4.5 (scipy.stats; common practice)
     p = stats.norm.cdf(-3.0 + 5 ** 0.5) + stats.norm.cdf(-3.0 - 5 ** 0.5)
     assert items["detect_hours"]["achieved"] == pytest.approx(1.0 / p, rel=0.05)
     assert items["detect_hours"]["met"] is False and req["met"] is False
-    assert any(p["message"].startswith("requirement detect_hours") for p in doc["problems"])
-
+    assert any(p.message.startswith("requirement detect_hours") for p in result.problems)
 
 # Lucas and Saccucci (1990) EWMA table, lambda 0.20 with L 2.962 (in-control ARL 500): ARL 10.5 at 1 sigma and 41.8
 # at 0.5 sigma; two-sided CUSUM k = 0.5, h = 5 (465): ARL 38.0 at 0.5 sigma (Hawkins 1993 as reprinted in common

@@ -13,6 +13,8 @@ from sheettool.core.data import Characteristic, Counts, Measurements
 from sheettool.demo.scenario import write_demo
 from sheettool.errors import InputError
 from sheettool.evaluation import EvaluationOptions, evaluate
+from sheettool.options import convert
+from sheettool.settings import Setting
 from sheettool.workbook.limits_block import LIMITS_SHEET, read_limits_block
 from tests.conftest import sha256
 
@@ -96,7 +98,8 @@ def _next_month(path, seed):
     book = openpyxl.load_workbook(path)
     ws = book.active
     rng = np.random.default_rng(seed)
-    for row in ws.iter_rows(min_row=4, min_col=3, max_col=7):
+    first = next(r for r in range(1, ws.max_row + 1) if isinstance(ws.cell(r, 3).value, float))
+    for row in ws.iter_rows(min_row=first, min_col=3, max_col=7):
         for cell in row:
             cell.value = float(np.round(rng.normal(12.0, 0.01), 3))
     book.save(path)
@@ -106,7 +109,7 @@ def test_carried_limits_round_trip(tmp_path):
     november = tmp_path / "november.xlsx"
     write_demo(november)
     evaluated = tmp_path / "november-evaluated.xlsx"
-    first = evaluate_file(november, evaluated, EvaluationOptions(limits_from="first 20"))
+    first = evaluate_file(november, evaluated, _settings(limits_from="first 20"))
     entries = read_limits_block(evaluated)
     assert set(entries) == {"Bore diameter"}
     december = tmp_path / "december.xlsx"
@@ -204,11 +207,15 @@ def test_limits_shift_and_scale_with_the_data(shift, scale, chart, seed):
         assert b.ucl - b.lcl == pytest.approx(scale * (a.ucl - a.lcl), rel=1e-9, abs=1e-9)
 
 
+def _settings(**values: object) -> dict[str, Setting]:
+    """Settings as the command line would give them."""
+    return {name: convert(Setting(name, value, f"option --{name}")) for name, value in values.items()}
+
+
 @pytest.mark.parametrize(("options", "words"), [
-    (EvaluationOptions(limits_from="first 40"), "limits_from 'first 40' names 40 subgroups but there are 30"),
-    (EvaluationOptions(lsl=12.1, usl=11.9), "must be below the upper one"),
-    (EvaluationOptions(chart="zigzag"), "chart 'zigzag' is not known"),
-    (EvaluationOptions(chart="p"), "a p (proportion defective) chart needs attribute counts"),
+    (_settings(limits_from="first 40"), "limits_from 'first 40' names 40 subgroups but there are 30"),
+    (_settings(lsl=12.1, usl=11.9), "must be below the upper"),
+    (_settings(chart="p"), "a p (proportion defective) chart needs attribute counts"),
 ])
 def test_bad_settings_give_a_clear_input_error(tmp_path, options, words):
     path = tmp_path / "in.xlsx"

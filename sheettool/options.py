@@ -1,0 +1,137 @@
+"""From settings to EvaluationOptions: merge the sources, check and convert each value, keep its origin.
+
+Priority, lowest first: built-in default, the settings sheet (whole workbook, then the sheet's own
+section), labelled cells above the sheet's header, command-line options. A bad value raises
+ValueError naming where it was written ("'Bore'!B3: upper specification limit must be a number").
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Any
+
+from sheettool.core.charts import CHART_KINDS
+from sheettool.core.rules import parse_rules
+from sheettool.evaluation import EvaluationOptions
+from sheettool.settings import KNOWN_SETTINGS, Setting, label_key
+from sheettool.typed_text import number_text
+
+_NUMBERS = {"lsl", "usl", "target", "interval_hours", "hours_per_month", "mean", "sigma", "p0", "c0",
+            "lambda", "L", "k", "h", "confidence"}
+_TEXTS = {"unit", "part", "limits_from"}
+_WITH_UNIT = re.compile(r"^\s*([+-]?[\d.,]+(?:[eE][+-]?\d+)?)\s*([A-Za-zµμ°%/]{0,8})\s*$")
+_MINUTES = {"min", "mins", "minute", "minutes", "m"}
+_HOURS = {"", "h", "hr", "hrs", "hour", "hours"}
+_YES = {"yes", "y", "true", "1", "on", "x"}
+_NO = {"no", "n", "false", "0", "off", ""}
+# EvaluationOptions field -> setting name, for the settings listed even when left at their default.
+_DEFAULTS_SHOWN = {"chart": "chart", "rules": "rules", "lsl": "lsl", "usl": "usl", "target": "target",
+                   "limits_from": "limits_from", "interval_hours": "interval_hours",
+                   "hours_per_month": "hours_per_month", "confidence": "confidence", "revise": "revise"}
+_FIELDS = {"lambda": "ewma_lambda", "L": "ewma_L", "k": "cusum_k", "h": "cusum_h"}
+_STANDARDS = {"mean", "sigma", "p0", "c0"}
+
+
+def _number(setting: Setting) -> tuple[float, str]:
+    value = setting.value
+    if isinstance(value, int | float) and not isinstance(value, bool):
+        return float(value), ""
+    text = str(value)
+    if (plain := number_text(text)) is not None:
+        return plain, ""
+    if m := _WITH_UNIT.match(text):
+        number = number_text(m.group(1))
+        if number is not None:
+            return number, m.group(2).lower()
+    raise ValueError(f"{setting.origin}: {KNOWN_SETTINGS.get(setting.name, setting.name)} must be a number, "
+                     f"not '{text}'")
+
+
+def convert(setting: Setting) -> Setting:
+    """The setting with its value checked and converted (numbers, chart name, rules, yes/no)."""
+    name, value, origin = setting.name, setting.value, setting.origin
+    if name == "interval_minutes":
+        minutes, _ = _number(setting)
+        return convert(Setting("interval_hours", minutes / 60.0, origin))
+    if name in _NUMBERS:
+        number, unit = _number(setting)
+        if name == "interval_hours" and unit in _MINUTES:
+            number /= 60.0
+        elif name == "interval_hours" and unit not in _HOURS:
+            raise ValueError(f"{origin}: sampling interval '{value}': give hours (h) or minutes (min)")
+        if name == "confidence" and 1.0 < number < 100.0:
+            number /= 100.0  # "95" or "95 %"
+        if name in ("interval_hours", "hours_per_month", "sigma", "lambda", "L", "h") and number <= 0:
+            raise ValueError(f"{origin}: {KNOWN_SETTINGS[name]} must be greater than zero, not '{value}'")
+        if name in ("confidence", "lambda", "p0") and not 0.0 < number < 1.0 + (name == "lambda"):
+            raise ValueError(f"{origin}: {KNOWN_SETTINGS[name]} must lie between 0 and 1, not '{value}'")
+        return Setting(name, number, origin)
+    if name == "subgroup_size":
+        number, _ = _number(setting)
+        if not number.is_integer() or number < 1:
+            raise ValueError(f"{origin}: subgroup size must be a whole number of at least 1, not '{value}'")
+        return Setting(name, int(number), origin)
+    if name == "chart":
+        wanted = label_key(str(value))
+        for kind in CHART_KINDS:
+            if label_key(kind) == wanted:
+                return Setting(name, kind, origin)
+        raise ValueError(f"{origin}: unknown chart '{value}'; use one of {', '.join(CHART_KINDS)}")
+    if name == "rules":
+        text = str(value).strip()
+        try:
+            parse_rules(text)
+        except ValueError as exc:
+            raise ValueError(f"{origin}: rules '{text}': {exc}") from None
+        return Setting(name, text, origin)
+    if name == "revise":
+        word = str(value).strip().lower()
+        if word not in _YES | _NO:
+            raise ValueError(f"{origin}: revise must be yes or no, not '{value}'")
+        return Setting(name, word in _YES, origin)
+    if name in _TEXTS:
+        text = str(int(value)) if isinstance(value, float) and value.is_integer() else str(value).strip()
+        return Setting(name, text, origin)
+    raise ValueError(f"{origin}: unknown setting '{name}'")
+
+
+def merge(*layers: dict[str, Setting]) -> dict[str, Setting]:
+    """Later layers win; every value converted (so a bad value anywhere in use is reported)."""
+    merged: dict[str, Setting] = {}
+    for layer in layers:
+        for setting in layer.values():
+            converted = convert(setting)
+            merged[converted.name] = converted
+    return merged
+
+
+def options_for(sheet_read: Any, workbook_settings: Any, cli_settings: dict[str, Setting]
+                ) -> tuple[EvaluationOptions, dict[str, Setting]]:
+    """EvaluationOptions for one sheet and every setting behind them with its origin.
+
+    sheet_read: a SheetRead (its .sheet and .settings, the labelled cells); workbook_settings: the
+    SettingsSheet of the workbook, or None; cli_settings: from the command line, name -> Setting.
+    """
+    sheet_layer = workbook_settings.for_sheet(sheet_read.sheet) if workbook_settings is not None else {}
+    used = merge(sheet_layer, sheet_read.settings, cli_settings)
+    options = EvaluationOptions()
+    kwargs: dict[str, Any] = {}
+    standard: dict[str, float] = {}
+    for name, setting in used.items():
+        if name in _STANDARDS:
+            standard[name] = setting.value  # type: ignore[assignment]
+        elif name in _FIELDS:
+            kwargs[_FIELDS[name]] = setting.value
+        elif hasattr(options, name):
+            kwargs[name] = setting.value
+    for field_name, name in _DEFAULTS_SHOWN.items():
+        used.setdefault(name, Setting(name, getattr(options, field_name), "default"))
+    lsl, usl = kwargs.get("lsl"), kwargs.get("usl")
+    if lsl is not None and usl is not None and lsl >= usl:
+        raise ValueError(f"{used['lsl'].origin} and {used['usl'].origin}: the lower specification limit "
+                         f"({lsl:g}) must be below the upper ({usl:g})")
+    if standard:
+        kwargs["standard"] = standard
+    for key, value in kwargs.items():
+        setattr(options, key, value)
+    return options, dict(sorted(used.items()))

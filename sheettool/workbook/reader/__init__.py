@@ -1,0 +1,77 @@
+"""Read measurement workbooks into Characteristics, one per sheet that holds data.
+
+opening.py opens the file safely and yields grids of cell values; cells.py sorts cell values;
+labels.py reads settings written in the workbook; layout.py finds header, data rows, column
+meanings and layout; model.py holds what is handed back. describe() puts a SheetRead in words.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from sheettool.errors import InputError
+from sheettool.problems import Problem
+from sheettool.settings import Setting
+from sheettool.workbook.reader.labels import SETTINGS_SHEET, SettingsSheet, read_settings_sheet
+from sheettool.workbook.reader.layout import EXCLUDE_WORDS, MIN_READINGS, MIN_SUBGROUPS, read_sheet
+from sheettool.workbook.reader.model import LAYOUTS, SheetRead, WorkbookRead
+from sheettool.workbook.reader.opening import open_sheets, paused_collection
+
+__all__ = ["EXCLUDE_WORDS", "LAYOUTS", "MIN_READINGS", "MIN_SUBGROUPS", "SettingsSheet", "SheetRead",
+           "WorkbookRead", "describe", "read_workbook"]
+
+
+def read_workbook(path: Path, cli_settings: dict[str, Setting] | None = None) -> WorkbookRead:
+    """Read every sheet of `path`; a sheet that cannot be read is a problem, the others go on.
+
+    Raises InputError when the file cannot be opened or no sheet holds data.
+    """
+    with paused_collection():
+        return _read(Path(path), cli_settings)
+
+
+def _read(path: Path, cli_settings: dict[str, Setting] | None) -> WorkbookRead:
+    raws = open_sheets(path)
+    problems: list[Problem] = []
+    settings = SettingsSheet()
+    for raw in raws:
+        if raw.title.strip().lower() == SETTINGS_SHEET:
+            settings, found = read_settings_sheet(raw.rows, f"{path.name}, settings sheet")
+            problems.extend(found)
+    sheets: list[SheetRead] = []
+    for raw in raws:
+        if raw.title.strip().lower() == SETTINGS_SHEET:
+            continue
+        where = f"{path.name}, sheet '{raw.title}'"
+        try:
+            sheet = read_sheet(raw, settings.for_sheet(raw.title), cli_settings or {})
+        except InputError as exc:
+            problems.append(Problem("warning", where, f"{exc}; sheet not evaluated"))
+            continue
+        if raw.hidden:
+            problems.append(Problem("note", where, "the sheet is hidden; it was read like the others"))
+        problems.extend(Problem(p.severity, f"{path.name}, {p.where}", p.message) for p in sheet.problems)
+        sheets.append(sheet)
+    if not sheets:
+        detail = "; ".join(f"{p.where}: {p.message}" for p in problems) or "the workbook has no sheets"
+        raise InputError(f"{path}: no sheet holds measurement data ({detail})")
+    return WorkbookRead(path=path, sheets=sheets, problems=problems, settings=settings)
+
+
+def describe(sheet: SheetRead) -> str:
+    """One line in words saying what was read from a sheet (for --verbose)."""
+    columns = ", ".join(f"{letter} {meaning}" for letter, meaning in sheet.columns.items())
+    parts = [
+        f"sheet '{sheet.sheet}': {sheet.layout}",
+        f"header row {sheet.header_row}" if sheet.header_row else "no header row",
+        f"units row {sheet.units_row}" if sheet.units_row else "",
+        f"data rows {sheet.first_row}-{sheet.last_row}",
+        f"columns: {columns}",
+        f"{sheet.subgroups} subgroups, {sheet.readings} readings, {sheet.blanks} blank cells, "
+        f"{len(sheet.not_numbers)} cells not numbers, {sheet.blank_rows} blank rows",
+        f"{int(sheet.characteristic.excluded.sum())} subgroups excluded from the limits",
+        f"hidden rows {', '.join(map(str, sheet.hidden_rows))}" if sheet.hidden_rows else "",
+        f"hidden columns {', '.join(sheet.hidden_columns)}" if sheet.hidden_columns else "",
+        f"unit {sheet.characteristic.unit}" if sheet.characteristic.unit else "",
+    ]
+    return "; ".join(p for p in parts if p)

@@ -1,0 +1,99 @@
+"""What each column of a sheet means: its header words and the kinds of its cells.
+
+Roles: measurement, note, date, time, key (subgroup, sample, lot...), operator, defectives,
+defects, inspected, text (not used), empty. Header words are matched as whole words, in any case.
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+from openpyxl.utils import get_column_letter
+
+from sheettool.workbook.reader.cells import number_of, text_of
+
+_NOTE = re.compile(r"\b(notes?|comments?|remarks?|observations?)\b", re.IGNORECASE)
+_DEFECTS = re.compile(r"\b(defects?|defect count|nonconformit(?:y|ies)|faults?|flaws?|blemish(?:es)?)\b", re.I)
+_DEFECTIVES = re.compile(r"\b(defectives?|rejects?|rejected|fail(?:s|ed|ures?)?|nonconforming|non-conforming|"
+                         r"scrap(?:ped)?|bad|nok)\b", re.IGNORECASE)
+_INSPECTED = re.compile(r"\b(inspected|tested|checked|examined|sample size|units|quantity|qty|lot size|"
+                        r"produced|n)\b", re.IGNORECASE)
+_KEY = re.compile(r"(\b(subgroup|sample|lot|batch|point|shift|serial|id|no|nr|number|index|group|order)\b|#)",
+                  re.IGNORECASE)
+_OPERATOR = re.compile(r"\b(operator|inspector|setter|checked by|by|initials|name)\b", re.IGNORECASE)
+_TIME = re.compile(r"\b(time|hour|clock)\b", re.IGNORECASE)
+UNIT_WORD = re.compile(r"^[(\[]?\s*(mm|µm|μm|um|cm|m|in|inch|inches|thou|mil|g|kg|mg|n|kn|nm|n·m|°c|°f|c|f|%|"
+                       r"bar|mbar|psi|pa|kpa|mpa|s|ms|min|h|v|mv|a|ma|ohm|ω|ra|rz|deg|°|mm/s|l|ml|units?)\s*[)\]]?$",
+                       re.IGNORECASE)
+_UNIT_IN_HEADER = re.compile(r"[(\[]\s*([^()\[\]]{1,8}?)\s*[)\]]\s*$")
+
+
+def column_names(rows: list[list[object]], header: int | None, width: int) -> list[str]:
+    """The header text of each column ("" without a header); repeated names (a merged header cell)
+    are numbered."""
+    if header is None:
+        return [""] * width
+    row = rows[header]
+    names = [text_of(row[c]) if c < len(row) else "" for c in range(width)]
+    seen: dict[str, int] = {}
+    repeated = {name for name in names if name and names.count(name) > 1}
+    for c, name in enumerate(names):  # a header merged over several columns: "Readings 1", "Readings 2"...
+        if name in repeated:
+            seen[name] = seen.get(name, 0) + 1
+            names[c] = f"{name} {seen[name]}"
+    return names
+
+
+def column_role(name: str, counts: np.ndarray, values: list[object]) -> str:
+    """The meaning of one column from its header words and cell kinds (counts by kind)."""
+    _blank, num, date, text = (int(x) for x in counts)
+    filled = num + date + text
+    if filled == 0:
+        return "empty"
+    if _NOTE.search(name):
+        return "note"
+    if date > 0 and date >= num and date >= text:
+        return "time" if _TIME.search(name) and not re.search(r"date|day", name, re.I) else "date"
+    if num > 0 and num >= text:
+        whole = all(float(x).is_integer() for x in (number_of(v) for v in values) if x is not None)
+        if _DEFECTS.search(name):
+            return "defects"
+        if _DEFECTIVES.search(name):
+            return "defectives"
+        if _INSPECTED.search(name) and whole:
+            return "inspected"
+        if re.search(r"\b(date|day|time)\b", name, re.IGNORECASE):  # dates kept as plain serial numbers
+            return "key"
+        if _KEY.search(name) and whole and not re.search(r"\d\s*$", name):
+            return "key"
+        return "measurement"
+    if _OPERATOR.search(name):
+        return "operator"
+    if _KEY.search(name):
+        return "key"
+    return "text"
+
+
+def unit_of(names: list[str], rows: list[list[object]], units_row: int | None, columns: list[int]) -> str:
+    """The unit from the units row over the measurement columns, or from a header like "Bore (mm)"."""
+    if units_row is not None:
+        row = rows[units_row]
+        for c in columns:
+            if c < len(row) and isinstance(row[c], str) and row[c].strip():
+                return row[c].strip().strip("()[]").strip()
+    for c in columns:
+        if m := _UNIT_IN_HEADER.search(names[c]):
+            return m.group(1)
+    return ""
+
+
+def columns_meaning(names: list[str], roles: list[str], layout: str) -> dict[str, str]:
+    """Column letter -> meaning in words with the header, for the report ("C": "measurement (Part 1)")."""
+    words = {"measurement": "measurement", "note": "note", "key": "subgroup key", "date": "date",
+             "time": "time of day", "defectives": "defectives counted", "defects": "defects counted",
+             "inspected": "units inspected", "operator": "operator, shown as read", "text": "text, not used"}
+    if layout == "readings down":
+        words["measurement"] = "reading"
+    return {get_column_letter(c + 1): f"{words[r]} ({names[c] or 'no header'})"
+            for c, r in enumerate(roles) if r != "empty"}

@@ -1,0 +1,107 @@
+"""Settings written in the workbook: labelled cells above a sheet's header, and a `settings` sheet.
+
+Labelled cell: a text cell naming a setting (see sheettool.settings.SYNONYMS, matched without
+regard to case or punctuation), its value in the next cell to the right, or else in the cell
+below; "LSL: 11.95" or "LSL = 11.95" in one cell works too (taken only where the value is valid,
+so a title like "Target: monthly review" is not a setting).
+
+Settings sheet (a sheet named "settings", any case): one setting per row, name in column A, value
+in column B. Rows above the first section apply to the whole workbook. A row whose first cell is
+"[NAME]" or "sheet: NAME" starts a section for the sheet NAME; its rows apply to that sheet only
+and win over the whole-workbook rows. Blank rows and rows whose first cell starts with "#" are
+skipped; a first row "name | value" is taken as a heading.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field
+
+from sheettool.options import convert
+from sheettool.problems import Problem
+from sheettool.settings import Setting, label_key, setting_name
+from sheettool.workbook.reader.cells import address
+
+SETTINGS_SHEET = "settings"
+# Above a header a plain "Mean" or "Sigma" is usually the observed statistic, "k" or "h" a stray
+# letter: there they must be written "standard mean", "standard sigma", "CUSUM k" and so on.
+_NOT_IN_CELLS = {"mean", "sigma", "k", "h", "l", "lambda"}
+_INLINE = re.compile(r"^\s*([^:=]{1,40}?)\s*[:=]\s*(\S.*?)\s*$")
+_SECTION = re.compile(r"^\s*(?:\[(.+)\]|sheet\s*:\s*(.+?))\s*$", re.IGNORECASE)
+
+
+@dataclass
+class SettingsSheet:
+    """The settings sheet read: whole-workbook settings and per-sheet sections (keys in lower case)."""
+
+    common: dict[str, Setting] = field(default_factory=dict)
+    sections: dict[str, dict[str, Setting]] = field(default_factory=dict)
+
+    def for_sheet(self, sheet: str) -> dict[str, Setting]:
+        """The settings that apply to `sheet`: whole-workbook rows, then its own section."""
+        return {**self.common, **self.sections.get(sheet.strip().lower(), {})}
+
+
+def _blank(value: object) -> bool:
+    return value is None or (isinstance(value, str) and not value.strip())
+
+
+def labelled_settings(title: str, rows: list[list[object]], above: int) -> dict[str, Setting]:
+    """Settings named by labels in rows[0:above] (the rows above the header)."""
+    found: dict[str, Setting] = {}
+    for r in range(min(above, len(rows))):
+        row = rows[r]
+        for c, value in enumerate(row):
+            if not isinstance(value, str) or len(value) > 60:
+                continue
+            inline = _INLINE.match(value)
+            if inline and (name := setting_name(inline.group(1))) is not None:
+                setting = Setting(name, inline.group(2), address(title, r + 1, c + 1))
+                if _converts(setting):  # a title such as "Target: monthly review" is no setting
+                    found.setdefault(name, setting)
+                continue
+            name = setting_name(value)
+            if name is None or label_key(value) in _NOT_IN_CELLS:
+                continue
+            right = row[c + 1] if c + 1 < len(row) else None
+            below_row = rows[r + 1] if r + 1 < above else []
+            below = below_row[c] if c < len(below_row) else None
+            if not _blank(right) and not (isinstance(right, str) and setting_name(right) is not None):
+                found.setdefault(name, Setting(name, right, address(title, r + 1, c + 2)))
+            elif not _blank(below) and setting_name(str(below)) is None:
+                found.setdefault(name, Setting(name, below, address(title, r + 2, c + 1)))
+    return found
+
+
+def _converts(setting: Setting) -> bool:
+    try:
+        convert(setting)
+    except ValueError:
+        return False
+    return True
+
+
+def read_settings_sheet(rows: list[list[object]], where: str) -> tuple[SettingsSheet, list[Problem]]:
+    """Read the settings sheet; unknown names are reported by row and otherwise left alone."""
+    sheet = SettingsSheet()
+    problems: list[Problem] = []
+    target = sheet.common
+    for r, row in enumerate(rows, start=1):
+        first = row[0] if row else None
+        if _blank(first) or (isinstance(first, str) and first.strip().startswith("#")):
+            continue
+        text = str(first).strip()
+        if m := _SECTION.match(text):
+            target = sheet.sections.setdefault((m.group(1) or m.group(2)).strip().lower(), {})
+            continue
+        value = row[1] if len(row) > 1 else None
+        name = setting_name(text)
+        if r == 1 and text.lower() == "name":
+            continue
+        if name is None:
+            problems.append(Problem("warning", f"{where} row {r}", f"unknown setting '{text}' was not used"))
+        elif _blank(value):
+            problems.append(Problem("warning", f"{where} row {r}", f"setting '{text}' has no value in column B"))
+        else:
+            target[name] = Setting(name, value, f"settings sheet row {r}")
+    return sheet, problems
