@@ -7,12 +7,14 @@ from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
+from sheettool.core.design import DesignResult, Requirements, Sampling, SearchGrid, design
 from sheettool.errors import InputError
 from sheettool.evaluation import evaluate
 from sheettool.options import options_for
 from sheettool.problems import Problem
 from sheettool.report import EvaluationReport
 from sheettool.settings import Setting
+from sheettool.workbook.design_book import write_design_workbook
 from sheettool.workbook.reader import read_workbook
 from sheettool.workbook.writer import WriterOptions, write_evaluated_workbook
 
@@ -79,3 +81,12 @@ def evaluate_file(input_path: Path, output: Path | None = None,
     if write:
         write_evaluated_workbook(report, reads, out, writer)
     return report
+
+
+def design_schemes(requirements: Requirements, sampling: Sampling, grid: SearchGrid,
+                   output: Path | None = None) -> DesignResult:
+    """Search and rank monitoring schemes against the requirements; write the design workbook when asked."""
+    result = design(requirements, sampling, grid)
+    if output is not None:
+        write_design_workbook(result, Path(output))
+    return result

@@ -6,8 +6,15 @@ import os
 import sys
 from collections.abc import Callable, Iterable, Sequence
 from concurrent.futures import ProcessPoolExecutor, as_completed
+from dataclasses import dataclass, field
 from pathlib import Path
-from typing import TextIO, TypeVar
+from typing import Any, TextIO, TypeVar
+
+from sheettool.api import evaluate_file
+from sheettool.errors import InputError, SheettoolError
+from sheettool.report import EvaluationReport
+from sheettool.settings import Setting
+from sheettool.workbook.writer import WriterOptions
 
 T = TypeVar("T")
 R = TypeVar("R")
@@ -79,3 +86,41 @@ def run_parallel(func: Callable[[T], R], items: Sequence[T], jobs: int, progress
             out[futures[future]] = future.result()
             progress.step()
     return out  # type: ignore[return-value]
+
+
+@dataclass
+class FileJob:
+    """One input to evaluate: the file, its label, its settings and carried limits, and where its own
+    output goes (None: evaluate only, as for a pack)."""
+
+    path: Path
+    source: str
+    settings: dict[str, Setting]
+    carried: dict[str, dict[str, Any]] | None = None
+    carried_from: str = ""
+    output: Path | None = None
+    writer: WriterOptions = field(default_factory=WriterOptions)
+
+
+@dataclass
+class FileOutcome:
+    """What became of one input: its report, or the reason and exit code of its failure."""
+
+    job: FileJob
+    report: EvaluationReport | None = None
+    error: str = ""
+    code: int = 0
+
+
+def evaluate_job(job: FileJob) -> FileOutcome:
+    """Evaluate one input (and write its output when the job names one); a failure becomes the
+    outcome's error, never an exception, so that one bad file does not stop the others."""
+    try:
+        report = evaluate_file(job.path, job.output, job.settings, write=job.output is not None,
+                               carried=job.carried, carried_from=job.carried_from, writer=job.writer)
+    except SheettoolError as exc:
+        return FileOutcome(job, error=str(exc), code=exc.exit_code)
+    except Exception as exc:  # the batch boundary: report it against the file and go on
+        return FileOutcome(job, error=f"{job.path}: could not be evaluated ({type(exc).__name__}: {exc})",
+                           code=InputError.exit_code)
+    return FileOutcome(job, report=report)

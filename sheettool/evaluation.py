@@ -14,9 +14,13 @@ from sheettool.core.charts import CHART_KINDS, ChartFit, ChartKind, chart_kind
 from sheettool.core.charts.base import typical_size
 from sheettool.core.charts.variables import within_sigma
 from sheettool.core.data import Characteristic, Counts, Measurements
+from sheettool.core.data_shape import DataShapeReport
+from sheettool.core.design import RequirementsCheck
+from sheettool.core.estimated_limits import EstimatedLimitsReport
 from sheettool.core.limits import fit_limits
 from sheettool.core.rules import Rule, find_hits, parse_rules
 from sheettool.core.runlength.scheme import performance_of
+from sheettool.evaluation_checks import scheme_checks
 from sheettool.problems import Problem
 from sheettool.settings import Setting
 from sheettool.workbook.limits_block import carried_parameters
@@ -90,6 +94,7 @@ class EvaluationOptions:
     revise: bool = False
     interval_hours: float | None = None
     hours_per_month: float | None = None
+    requirements: dict[str, float] = field(default_factory=dict)  # see core.design.REQUIREMENT_KEYS
 
 
 @dataclass
@@ -105,6 +110,9 @@ class CharacteristicResult:
     capability: Capability | AttributeRate | None = None
     problems: list[Problem] = field(default_factory=list)
     settings: dict[str, Setting] = field(default_factory=dict)
+    estimated_limits: EstimatedLimitsReport | None = None  # X-bar and individuals limits estimated from data
+    data_shape: DataShapeReport | None = None  # variables charts: the base period's shape and dependence
+    requirements_check: RequirementsCheck | None = None  # when the settings give requirements
 
 
 def chart_choice(characteristic: Characteristic) -> tuple[str, str]:
@@ -202,15 +210,20 @@ def evaluate(characteristic: Characteristic, sheet: str,
     for note in getattr(capability, "notes", []):
         warn = note.startswith(("normality is doubtful", "the chart signals"))
         problems.append(Problem("warning" if warn else "note", sheet, f"capability: {note}"))
+    performance = performance_of(fit, rules, options)
+    checks = scheme_checks(characteristic, fit, rules, performance, options, sheet)
     return CharacteristicResult(
         characteristic=characteristic,
         sheet=sheet,
         fit=fit,
         rules=rules,
         signals=signals,
-        performance=performance_of(fit, rules, options),
+        performance=performance,
         capability=capability,
-        problems=problems,
+        problems=problems + checks.problems,
+        estimated_limits=checks.estimated_limits,
+        data_shape=checks.data_shape,
+        requirements_check=checks.requirements,
     )
 
 

@@ -13,12 +13,9 @@ from typing import Any
 
 import numpy as np
 
-from sheettool.api import evaluate_file
-from sheettool.batch import Progress, collect_inputs, run_parallel
+from sheettool.batch import FileJob, FileOutcome, Progress, collect_inputs, evaluate_job, run_parallel
 from sheettool.core.capability import Capability
-from sheettool.errors import SheettoolError
 from sheettool.evaluation import CharacteristicResult
-from sheettool.report import EvaluationReport
 from sheettool.settings import Setting
 
 MIN_BASE_SUBGROUPS = 20  # fewer subgroups than this set the limits: "too little data" (common practice: 20-25)
@@ -91,6 +88,7 @@ class PackRow:
     status: str = ""
     reason: str = ""
     flags: list[str] = field(default_factory=list)
+    tab: int | None = None  # position of the characteristic's evaluation tab in the pack
 
 
 def period_points(result: CharacteristicResult, period: Period | None) -> np.ndarray:
@@ -146,37 +144,6 @@ def source_label(path: Path, roots: list[Path]) -> str:
     return path.name
 
 
-@dataclass
-class PackJob:
-    """One input of the pack: the file, its label, the settings and carried limits it gets."""
-
-    path: Path
-    source: str
-    settings: dict[str, Setting]
-    carried: dict[str, dict[str, Any]] | None = None
-
-
-@dataclass
-class FileOutcome:
-    """What became of one input: its report, or the reason it could not be evaluated."""
-
-    job: PackJob
-    report: EvaluationReport | None = None
-    error: str = ""
-
-
-def evaluate_for_pack(job: PackJob) -> FileOutcome:
-    """Evaluate one input without writing; any failure becomes the outcome's error, never an exception."""
-    try:
-        report = evaluate_file(job.path, settings=job.settings, write=False, carried=job.carried,
-                               carried_from="the previous pack")
-    except SheettoolError as exc:
-        return FileOutcome(job, error=str(exc))
-    except Exception as exc:  # the pack boundary: one bad file must not stop the others
-        return FileOutcome(job, error=f"{job.path}: could not be evaluated ({type(exc).__name__}: {exc})")
-    return FileOutcome(job, report=report)
-
-
 def pack_key(source: str, sheet: str) -> str:
     """How a characteristic is named in the pack's limits block: source file and sheet."""
     return f"{source} :: {sheet}"
@@ -189,6 +156,11 @@ class Pack:
     outcomes: list[FileOutcome]
     rows: list[PackRow]
     period: Period | None
+
+    @property
+    def evaluated(self) -> list[FileOutcome]:
+        """The outcomes with a report, in input order (the order of the evaluation tabs)."""
+        return [o for o in self.outcomes if o.report is not None]
 
     @property
     def failed(self) -> bool:
@@ -210,10 +182,11 @@ def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period |
         if carried is not None:
             prefix = pack_key(source, "")
             mine = {key[len(prefix):]: entry for key, entry in carried.items() if key.startswith(prefix)}
-        todo.append(PackJob(path, source, settings, mine))
+        todo.append(FileJob(path, source, settings, mine, carried_from="the previous pack"))
     progress = progress or Progress(len(todo), quiet=True)
-    outcomes = run_parallel(evaluate_for_pack, todo, jobs, progress)
+    outcomes = run_parallel(evaluate_job, todo, jobs, progress)
     rows = [failed_row(str(p), "", f"{p}: not found") for p in missing]
+    tab = 0
     for outcome in outcomes:
         source = outcome.job.source
         if outcome.report is None:
@@ -221,6 +194,8 @@ def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period |
             continue
         for result in outcome.report.characteristics:
             rows.append(summary_row(source, result, period))
+            rows[-1].tab = tab
+            tab += 1
         for problem in outcome.report.problems:
             if problem.severity == "error":
                 rows.append(failed_row(source, _sheet_of(problem.where), problem.message))

@@ -12,6 +12,9 @@ import numpy as np
 from sheettool import TOOL_NAME, __version__
 from sheettool.core.capability import AttributeRate, Capability
 from sheettool.core.charts import PlottedStatistic
+from sheettool.core.data_shape import DataShapeReport
+from sheettool.core.design import RequirementsCheck
+from sheettool.core.estimated_limits import EstimatedLimitsReport
 from sheettool.evaluation import CharacteristicResult, Performance
 from sheettool.problems import Problem
 from sheettool.settings import Setting
@@ -120,7 +123,40 @@ def characteristic_json(result: CharacteristicResult) -> dict[str, Any]:
         "removed": list(fit.removed),
         "capability": capability_json(result.capability),
         "performance": performance_json(perf),
+        "estimated_limits": estimated_limits_json(result.estimated_limits),
+        "data_shape": data_shape_json(result.data_shape),
+        "requirements": requirements_json(result.requirements_check),
     }
+
+
+def estimated_limits_json(rep: EstimatedLimitsReport | None) -> dict[str, Any] | None:
+    """The cost of estimated limits: the conditional in-control ARL's spread and the two remedies."""
+    if rep is None:
+        return None
+    d = rep.distribution
+    return {"carl_mean": _number(d.mean), "carl_sd": _number(d.sd), "carl_p10": _number(d.p10),
+            "carl_p50": _number(d.p50), "adjusted_factor": _number(rep.adjusted.factor),
+            "subgroups_needed": rep.needed.subgroups, "sentence": rep.sentence, "method": rep.method}
+
+
+def data_shape_json(rep: DataShapeReport | None) -> dict[str, Any] | None:
+    """The in-control ARL under the data's fitted shape and, when r1 is material, under AR(1) dependence."""
+    if rep is None:
+        return None
+    dep = rep.dependence
+    return {"family": rep.shape.family, "arl_normal": _number(rep.shape.arl_normal),
+            "arl_shape": _number(rep.shape.arl_shape), "r1": _number(dep.r1), "significant": bool(dep.significant),
+            "arl_ar1": _number(dep.arl_ar1) if dep.significant else None, "warnings": list(rep.warnings),
+            "method": rep.method}
+
+
+def requirements_json(check: RequirementsCheck | None) -> dict[str, Any] | None:
+    """Whether the scheme in use meets the requirements of the settings, item by item."""
+    if check is None:
+        return None
+    return {"met": check.met, "shift": check.shift,
+            "items": [{"name": i.name, "required": i.required, "achieved": _optional(i.achieved), "met": i.met,
+                       "words": i.words} for i in check.items]}
 
 
 def report_json(report: EvaluationReport) -> dict[str, Any]:

@@ -1,101 +1,69 @@
-"""`sheettool evaluate`: evaluate a workbook and write the evaluated copy."""
+"""`sheettool evaluate`: evaluate one or more workbooks, writing an evaluated copy of each."""
 
 from __future__ import annotations
 
 import argparse
-import datetime as dt
-import json
 import sys
 from pathlib import Path
 
-from sheettool.api import evaluate_file
+from sheettool import TOOL_NAME, __version__
+from sheettool.api import default_output
+from sheettool.batch import FileJob, Progress, evaluate_job, run_parallel
+from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, print_json, writer_options
 from sheettool.errors import UsageError
-from sheettool.options import convert
 from sheettool.report import report_json
-from sheettool.settings import Setting, setting_name
 from sheettool.workbook.limits_block import read_limits_block
 from sheettool.workbook.reader import describe
-from sheettool.workbook.writer import WriterOptions
-
-# option -> setting name; each overrides the workbook's settings sheet and labelled cells.
-SETTING_OPTIONS = {"lsl": "lsl", "usl": "usl", "target": "target", "chart": "chart", "rules": "rules",
-                   "interval": "interval_hours", "hours_per_month": "hours_per_month", "limits_base": "limits_from"}
 
 
 def add_parser(subs: argparse._SubParsersAction) -> None:
     """Register the sub-command."""
-    p = subs.add_parser("evaluate", help="evaluate a measurement workbook into a new workbook")
-    p.add_argument("input", type=Path, help="the measurement workbook (.xlsx, .xlsm or .csv)")
-    p.add_argument("-o", "--output", type=Path, help="output workbook (default: IN-evaluated.xlsx beside IN)")
-    p.add_argument("--rules", help="pattern rules or preset (default: limits)")
-    p.add_argument("--limits-from", type=Path, metavar="PREVIOUS.xlsx", dest="limits_file",
-                   help="apply the limits an earlier evaluated workbook carries (matched by sheet name)")
-    p.add_argument("--lsl", help="lower specification limit")
-    p.add_argument("--usl", help="upper specification limit")
-    p.add_argument("--target", help="target (nominal) value")
-    p.add_argument("--chart", help="chart kind (default: chosen from the data)")
-    p.add_argument("--interval", help="hours between subgroups, e.g. 1 or '30 min'")
-    p.add_argument("--hours-per-month", help="production hours per month")
-    p.add_argument("--limits-base", help="base period that sets the limits (default: all)")
-    p.add_argument("--set", action="append", default=[], metavar="NAME=VALUE",
-                   help="any setting by name, e.g. --set unit=mm (repeatable)")
-    p.add_argument("--json", action="store_true", help="print the results as one JSON object on stdout")
+    p = subs.add_parser("evaluate", help="evaluate measurement workbooks, each into a new workbook")
+    p.add_argument("input", type=Path, nargs="+", help="measurement workbooks (.xlsx, .xlsm or .csv)")
+    p.add_argument("-o", "--output", type=Path,
+                   help="output workbook, with one input (default: IN-evaluated.xlsx beside each IN)")
     p.add_argument("--verbose", action="store_true", help="say on stderr what was read from each sheet")
-    p.add_argument("--formulas", action="store_true",
-                   help="write per-subgroup statistics and constant limits as live formulas over the copied data")
-    p.add_argument("--timestamp", metavar="WHEN",
-                   help="document date of the output, e.g. 2026-12-01T08:00 (default: the input's modification time)")
+    add_evaluation_options(p)
     p.set_defaults(run=run)
 
 
-def cli_settings(args: argparse.Namespace) -> dict[str, Setting]:
-    """The settings given on the command line, checked; UsageError for a bad one."""
-    found: list[Setting] = []
-    for pair in args.set:
-        name, sep, value = pair.partition("=")
-        canonical = setting_name(name)
-        if not sep or canonical is None:
-            raise UsageError(f"--set {pair}: give NAME=VALUE with a known setting name (e.g. usl=12.05)")
-        found.append(Setting(canonical, value, f"option --set {name.strip()}"))
-    for option, name in SETTING_OPTIONS.items():
-        value = getattr(args, option)
-        if value is not None:
-            found.append(Setting(name, value, f"option --{option.replace('_', '-')}"))
-    settings: dict[str, Setting] = {}
-    for setting in found:
-        try:
-            checked = convert(setting)
-        except ValueError as exc:
-            raise UsageError(str(exc)) from None
-        settings[checked.name] = checked
-    return settings
-
-
 def run(args: argparse.Namespace) -> int:
-    """Evaluate and report; 0 whenever the evaluation was written, signals or not."""
+    """Evaluate each input; 0 when every output was written (signals are results, not failures).
+
+    With several inputs the others go on when one fails; the exit code is then the highest failure's.
+    """
+    if args.output is not None and len(args.input) > 1:
+        raise UsageError("-o names one output; with several inputs each output goes beside its input")
+    settings = cli_settings(args)
     carried = read_limits_block(args.limits_file) if args.limits_file else None
-    report = evaluate_file(args.input, args.output, cli_settings(args), carried=carried,
-                           carried_from=args.limits_file.name if args.limits_file else "",
-                           writer=WriterOptions(formulas=args.formulas, timestamp=_timestamp(args.timestamp)))
-    if args.verbose:
-        for read, result in zip(report.reads, report.characteristics, strict=True):
-            given = [f"{s.name} {s.value} ({s.origin})" for s in result.settings.values() if s.origin != "default"]
-            sys.stderr.write(describe(read) + (f"; settings: {', '.join(given)}" if given else "") + "\n")
-    if args.json:
-        json.dump(report_json(report), sys.stdout, indent=2)
-        sys.stdout.write("\n")
+    options = writer_options(args)
+    todo = [FileJob(path, path.name, settings, carried, args.limits_file.name if args.limits_file else "",
+                    args.output or default_output(path), options) for path in args.input]
+    if len(todo) == 1:
+        outcomes = [evaluate_job(todo[0])]
     else:
-        for result in report.characteristics:
-            sys.stderr.write(f"{result.sheet}: {len(result.signals)} signal(s)\n")
-        sys.stderr.write(f"written: {report.output}\n")
-    return 0
-
-
-def _timestamp(text: str | None) -> dt.datetime | None:
-    """--timestamp as a date and time (ISO 8601); a usage error when it is not one."""
-    if text is None:
-        return None
-    try:
-        return dt.datetime.fromisoformat(text)
-    except ValueError:
-        raise UsageError(f"--timestamp: '{text}' is not a date and time; write it like 2026-12-01T08:00") from None
+        outcomes = run_parallel(evaluate_job, todo, jobs(args), Progress(len(todo), quiet=args.quiet))
+    for outcome in outcomes:
+        if outcome.report is None:
+            continue
+        if args.verbose:
+            for read, result in zip(outcome.report.reads, outcome.report.characteristics, strict=True):
+                given = [f"{s.name} {s.value} ({s.origin})" for s in result.settings.values() if s.origin != "default"]
+                sys.stderr.write(describe(read) + (f"; settings: {', '.join(given)}" if given else "") + "\n")
+        if not args.json:
+            for result in outcome.report.characteristics:
+                sys.stderr.write(f"{result.sheet}: {len(result.signals)} signal(s)\n")
+            sys.stderr.write(f"written: {outcome.report.output}\n")
+    for outcome in outcomes:
+        if outcome.error:
+            sys.stderr.write(f"{TOOL_NAME}: {outcome.error}\n")
+    if args.json:
+        reports = [report_json(o.report) for o in outcomes if o.report is not None]
+        if len(todo) == 1:
+            if reports:
+                print_json(reports[0])
+        else:
+            print_json({"tool": {"name": TOOL_NAME, "version": __version__}, "evaluations": reports,
+                        "failed": [{"input": str(o.job.path), "message": o.error, "exit_code": o.code}
+                                   for o in outcomes if o.report is None]})
+    return max(o.code for o in outcomes)

@@ -6,10 +6,10 @@ import argparse
 import sys
 
 from sheettool import TOOL_NAME, __version__
-from sheettool.cli import evaluate_cmd, runlength_cmd, template_cmd
+from sheettool.cli import design_cmd, evaluate_cmd, pack_cmd, runlength_cmd, template_cmd
 from sheettool.errors import SheettoolError
 
-COMMANDS = (evaluate_cmd, runlength_cmd, template_cmd)
+COMMANDS = (evaluate_cmd, pack_cmd, runlength_cmd, design_cmd, template_cmd)
 
 
 class _Parser(argparse.ArgumentParser):

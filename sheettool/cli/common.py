@@ -1,0 +1,97 @@
+"""Options shared by the sub-commands that evaluate workbooks (evaluate, pack)."""
+
+from __future__ import annotations
+
+import argparse
+import datetime as dt
+import json
+import sys
+from pathlib import Path
+from typing import Any
+
+from sheettool.batch import default_jobs
+from sheettool.errors import UsageError
+from sheettool.options import convert
+from sheettool.settings import Setting, setting_name
+from sheettool.workbook.writer import WriterOptions
+
+# option -> setting name; each overrides the workbook's settings sheet and labelled cells.
+SETTING_OPTIONS = {"lsl": "lsl", "usl": "usl", "target": "target", "chart": "chart", "rules": "rules",
+                   "interval": "interval_hours", "hours_per_month": "hours_per_month", "limits_base": "limits_from"}
+
+
+def add_evaluation_options(p: argparse.ArgumentParser) -> None:
+    """The settings, limits, output and process options of evaluate and pack."""
+    p.add_argument("--rules", help="pattern rules or preset (default: limits)")
+    p.add_argument("--limits-from", type=Path, metavar="PREVIOUS.xlsx", dest="limits_file",
+                   help="apply the limits an earlier sheettool output carries")
+    p.add_argument("--lsl", help="lower specification limit")
+    p.add_argument("--usl", help="upper specification limit")
+    p.add_argument("--target", help="target (nominal) value")
+    p.add_argument("--chart", help="chart kind (default: chosen from the data)")
+    p.add_argument("--interval", help="hours between subgroups, e.g. 1 or '30 min'")
+    p.add_argument("--hours-per-month", help="production hours per month")
+    p.add_argument("--limits-base", help="base period that sets the limits (default: all)")
+    p.add_argument("--set", action="append", default=[], metavar="NAME=VALUE",
+                   help="any setting by name, e.g. --set unit=mm (repeatable)")
+    p.add_argument("--json", action="store_true", help="print the results as one JSON object on stdout")
+    p.add_argument("--formulas", action="store_true",
+                   help="write per-subgroup statistics and constant limits as live formulas over the copied data")
+    p.add_argument("--timestamp", metavar="WHEN",
+                   help="document date of the output, e.g. 2026-12-01T08:00 (default: the input's modification time)")
+    p.add_argument("--jobs", type=int, default=None, metavar="N",
+                   help=f"processes to use when there are several inputs (default: all cores, here {default_jobs()})")
+    p.add_argument("--quiet", action="store_true", help="no progress bar")
+
+
+def cli_settings(args: argparse.Namespace) -> dict[str, Setting]:
+    """The settings given on the command line, checked; UsageError for a bad one."""
+    found: list[Setting] = []
+    for pair in args.set:
+        name, sep, value = pair.partition("=")
+        canonical = setting_name(name)
+        if not sep or canonical is None:
+            raise UsageError(f"--set {pair}: give NAME=VALUE with a known setting name (e.g. usl=12.05)")
+        found.append(Setting(canonical, value, f"option --set {name.strip()}"))
+    for option, name in SETTING_OPTIONS.items():
+        value = getattr(args, option)
+        if value is not None:
+            found.append(Setting(name, value, f"option --{option.replace('_', '-')}"))
+    settings: dict[str, Setting] = {}
+    for setting in found:
+        try:
+            checked = convert(setting)
+        except ValueError as exc:
+            raise UsageError(str(exc)) from None
+        settings[checked.name] = checked
+    return settings
+
+
+def writer_options(args: argparse.Namespace) -> WriterOptions:
+    """--formulas and --timestamp as WriterOptions."""
+    return WriterOptions(formulas=args.formulas, timestamp=_timestamp(args.timestamp))
+
+
+def jobs(args: argparse.Namespace) -> int:
+    """--jobs, checked (default: all cores)."""
+    if args.jobs is None:
+        return default_jobs()
+    if args.jobs < 1:
+        raise UsageError("--jobs must be 1 or more")
+    return args.jobs
+
+
+def print_json(data: dict[str, Any]) -> None:
+    """One JSON object on stdout."""
+    json.dump(data, sys.stdout, indent=2)
+    sys.stdout.write("\n")
+
+
+def _timestamp(text: str | None) -> dt.datetime | None:
+    """--timestamp as a date and time (ISO 8601); a usage error when it is not one."""
+    if text is None:
+        return None
+    try:
+        return dt.datetime.fromisoformat(text)
+    except ValueError:
+        raise UsageError(f"--timestamp: '{text}' is not a date and time; write it like 2026-12-01T08:00") from None

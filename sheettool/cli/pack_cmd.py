@@ -1,0 +1,94 @@
+"""`sheettool pack`: evaluate every workbook in files and folders into one monthly review pack."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+from typing import Any
+
+from sheettool import TOOL_NAME, __version__
+from sheettool.batch import Progress, collect_inputs
+from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, print_json, writer_options
+from sheettool.errors import InputError, UsageError
+from sheettool.pack import Pack, Period, build_pack
+from sheettool.report import characteristic_json
+from sheettool.workbook.limits_block import read_limits_block
+from sheettool.workbook.writer.summary_tab import write_pack_workbook
+
+SOME_FAILED = 5  # the pack was written, but some inputs or sheets could not be evaluated
+
+
+def add_parser(subs: argparse._SubParsersAction) -> None:
+    """Register the sub-command."""
+    p = subs.add_parser("pack", help="evaluate workbooks and folders into one review pack with a summary tab")
+    p.add_argument("paths", type=Path, nargs="+", help="workbooks and folders (searched for .xlsx and .xlsm)")
+    p.add_argument("-o", "--output", type=Path, required=True, help="the pack workbook to write (.xlsx)")
+    p.add_argument("--period", metavar="YYYY-MM", help="the month whose points the summary counts")
+    p.add_argument("--from", dest="start", metavar="YYYY-MM-DD", help="first day of the period")
+    p.add_argument("--to", dest="end", metavar="YYYY-MM-DD", help="last day of the period")
+    add_evaluation_options(p)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    """Write the pack; 0 when everything was evaluated, SOME_FAILED when some inputs were not."""
+    period = _period(args)
+    settings = cli_settings(args)
+    carried = read_limits_block(args.limits_file) if args.limits_file else None
+    found = collect_inputs([p for p in args.paths if p.exists()], skip=(args.output,))
+    if not found and all(p.exists() for p in args.paths):
+        raise InputError("no .xlsx or .xlsm workbook found in " + ", ".join(map(str, args.paths)))
+    pack = build_pack(args.paths, settings, period, carried, jobs(args), Progress(len(found), quiet=args.quiet),
+                      skip=(args.output,))
+    if not pack.evaluated:
+        raise InputError("nothing could be evaluated: " + "; ".join(r.reason for r in pack.rows))
+    write_pack_workbook(pack, args.output, writer_options(args))
+    failed = [r for r in pack.rows if "failed" in r.flags]
+    if args.json:
+        print_json(pack_json(pack, args.output))
+    else:
+        sys.stderr.write(f"{len(pack.rows) - len(failed)} characteristic(s), {len(failed)} not evaluated; "
+                         f"written: {args.output}\n")
+        for row in failed:
+            sys.stderr.write(f"  not evaluated: {row.reason}\n")
+    return SOME_FAILED if failed else 0
+
+
+def pack_json(pack: Pack, output: Path) -> dict[str, Any]:
+    """The pack as JSON: as for evaluate, one entry per characteristic with its source and summary."""
+    characteristics, problems = [], []
+    rows = iter(r for r in pack.rows if r.tab is not None)
+    for outcome in pack.evaluated:
+        report = outcome.report
+        for result in report.characteristics:
+            row = next(rows)
+            entry = characteristic_json(result)
+            entry.update({"input": str(report.input), "input_sha256": report.input_sha256, "source": row.source,
+                          "summary": {"points_in_period": row.points, "signals_in_period": row.signals,
+                                      "latest_signal": row.latest_signal or None, "status": row.status}})
+            characteristics.append(entry)
+        problems += [{"severity": p.severity, "where": f"{outcome.job.source}: {p.where}", "message": p.message}
+                     for p in report.problems + [p for c in report.characteristics for p in c.problems]]
+    return {
+        "tool": {"name": TOOL_NAME, "version": __version__},
+        "output": str(output),
+        "period": pack.period.label if pack.period else None,
+        "characteristics": characteristics,
+        "failed": [{"source": r.source, "sheet": r.sheet or None, "message": r.reason}
+                   for r in pack.rows if "failed" in r.flags],
+        "problems": problems,
+    }
+
+
+def _period(args: argparse.Namespace) -> Period | None:
+    try:
+        if args.period and (args.start or args.end):
+            raise UsageError("give either --period or --from/--to, not both")
+        if args.period:
+            return Period.month(args.period)
+        if args.start or args.end:
+            return Period.between(args.start, args.end)
+    except ValueError as exc:
+        raise UsageError(str(exc)) from None
+    return None

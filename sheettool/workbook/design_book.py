@@ -1,0 +1,170 @@
+"""Write a scheme design as a workbook: the ranked comparison, ARL curves of the leading schemes, the notes.
+
+Native xlsxwriter charts; written atomically through the evaluated workbook's writer.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+from typing import Any
+
+import xlsxwriter
+from xlsxwriter.utility import xl_rowcol_to_cell
+
+from sheettool import TOOL_NAME, __version__
+from sheettool.core.design import CURVE_SHIFTS, Candidate, DesignResult, arl_curve, leading
+from sheettool.workbook import style
+from sheettool.workbook.writer import write_atomically
+
+CAUTION = (
+    "The design figures support, and never replace, engineering judgement, the site's quality procedures, customer "
+    "requirements and applicable regulations and codes. A scheme chosen here assumes normal, independent points with "
+    "known mean and sigma; check those assumptions before a characteristic that bears on safety is monitored with it."
+)
+LEADING = 5  # schemes drawn in the ARL chart: the best of each chart kind, then the next best
+
+
+def write_design_workbook(result: DesignResult, path: Path) -> None:
+    """Write the design to `path` (temporary file, then renamed into place)."""
+    def build(tmp: str) -> None:
+        book = xlsxwriter.Workbook(tmp, {"strings_to_formulas": False, "strings_to_urls": False,
+                                         "nan_inf_to_errors": True})
+        book.set_properties({"title": "Monitoring scheme design", "author": f"{TOOL_NAME} {__version__}"})
+        fmt = style.formats(book)
+        _comparison(book.add_worksheet("Scheme comparison"), fmt, result)
+        _curves(book, book.add_worksheet("ARL by shift"), fmt, leading(result.candidates, LEADING))
+        _notes(book.add_worksheet("About this design"), fmt, result)
+        book.close()
+
+    write_atomically(Path(path), build)
+
+
+def requirement_lines(result: DesignResult) -> list[tuple[str, str]]:
+    """The requirements and sampling in words, label by label (also used by the terminal output)."""
+    req, sampling = result.requirements, result.sampling
+    lines = [("Shift that matters", f"{result.shift:.4g} sigma (process standard deviations)"
+              + (f" ({req.shift_units:g} in the unit, sigma {req.sigma:g})" if req.shift_units is not None else ""))]
+    if req.arl_in_control is not None:
+        lines.append(("In-control ARL at least", f"{req.arl_in_control:g} points"))
+    if req.false_alarms_per_month is not None:
+        lines.append(("False alarms per month at most", f"{req.false_alarms_per_month:g} "
+                      f"({req.hours_per_month:g} production hours a month)"))
+    if req.detect_arl is not None:
+        lines.append(("ARL at the shift at most", f"{req.detect_arl:g} points"))
+    if req.detect_hours is not None:
+        lines.append(("Time to catch the shift at most", f"{req.detect_hours:g} h"))
+    lines.append(("Subgroup sizes", ", ".join(str(n) for n in sampling.sizes)))
+    if sampling.intervals is not None:
+        lines.append(("Intervals", ", ".join(f"{t:g} h" for t in sampling.intervals)))
+    if sampling.budget is not None:
+        lines.append(("Budget", f"{sampling.budget:g} measurements per hour at most"))
+    return lines
+
+
+HEAD = ("Rank", "Scheme", "n", "Every (h)", "Measurements per hour", "In-control ARL", "False alarms per month",
+        "ARL at the shift", "Time to catch (h)", "Meets every requirement", "Not met")
+
+
+def candidate_row(rank: int, c: Candidate) -> list[Any]:
+    """One row of the comparison table (numbers stay numbers; None where there is no figure)."""
+    return [rank, c.label, c.n, c.interval_hours, c.measurements_per_hour, c.arl_in_control, c.false_alarms_per_month,
+            c.arl_at_shift, c.ats_hours, "yes" if c.meets else "no", "; ".join(i.words for i in c.check.missed)]
+
+
+def _cell(ws: Any, row: int, col: int, value: Any, fmt: Any = None) -> None:
+    if value is None:
+        return
+    if isinstance(value, str):
+        ws.write_string(row, col, value, fmt)
+    elif math.isfinite(value):
+        ws.write_number(row, col, float(value), fmt)
+    else:
+        ws.write_string(row, col, "never" if value > 0 else "-", fmt)
+
+
+def _print_wide(ws: Any) -> None:
+    ws.set_landscape()
+    ws.fit_to_pages(1, 0)  # one page wide, as many long as needed
+
+
+def _comparison(ws: Any, fmt: dict[str, Any], result: DesignResult) -> None:
+    _print_wide(ws)
+    ws.set_column(0, 0, 32)
+    ws.set_column(1, 1, 30)
+    ws.set_column(2, 9, 12)
+    ws.set_column(10, 10, 70)
+    ws.write_string(0, 0, "Monitoring scheme design", fmt["title"])
+    row = 2
+    for label, text in requirement_lines(result):
+        ws.write_string(row, 0, label, fmt["label"])
+        ws.write_string(row, 1, text)
+        row += 1
+    row += 1
+    verdict = ("Schemes meeting every requirement are listed first." if result.feasible
+               else "No scheme searched meets every requirement.")
+    ws.write_string(row, 0, verdict, fmt["label"])
+    for line in [*result.messages, *result.notes]:
+        row += 1
+        ws.write_string(row, 0, line, fmt["text"])
+    row += 2
+    ws.write_string(row, 0, "Trade-off", fmt["label"])
+    for line in result.trade_off:
+        row += 1
+        ws.write_string(row, 0, line, fmt["text"])
+    row += 2
+    top = row
+    ws.repeat_rows(top)  # the table head on every printed page
+    ws.write_row(row, 0, HEAD, fmt["head"])
+    number = {2: fmt["count"], 3: fmt["number"], 4: fmt["number"], 5: fmt["arl"], 6: fmt["number"], 7: fmt["arl"],
+              8: fmt["number"]}
+    for rank, c in enumerate(result.candidates, start=1):
+        row += 1
+        for col, value in enumerate(candidate_row(rank, c)):
+            _cell(ws, row, col, value, number.get(col))
+    if result.candidates:
+        ws.autofilter(top, 0, row, len(HEAD) - 1)
+    ws.freeze_panes(top + 1, 2)
+
+
+def _curves(book: Any, ws: Any, fmt: dict[str, Any], leading: list[Candidate]) -> None:
+    _print_wide(ws)
+    ws.set_column(0, len(leading), 18)
+    ws.write_string(0, 0, "Shift (sigma)", fmt["head"])
+    for r, s in enumerate(CURVE_SHIFTS, start=1):
+        ws.write_number(r, 0, s)
+    chart = book.add_chart({"type": "scatter", "subtype": "straight"})
+    last = len(CURVE_SHIFTS)
+    for col, c in enumerate(leading, start=1):
+        name = f"{c.label}, {c.sampling_words}"
+        ws.write_string(0, col, name, fmt["head"])
+        for r, arl in enumerate(arl_curve(c, CURVE_SHIFTS), start=1):
+            _cell(ws, r, col, arl, fmt["arl"])
+        chart.add_series({
+            "name": ["ARL by shift", 0, col, 0, col],
+            "categories": ["ARL by shift", 1, 0, last, 0],
+            "values": ["ARL by shift", 1, col, last, col],
+            **style.performance_look(col - 1),
+        })
+    chart.set_title({"name": "ARL against shift, leading schemes", "name_font": {"size": 11}})
+    chart.set_x_axis({"name": "Mean shift (process standard deviations)", "min": 0, "max": CURVE_SHIFTS[-1]})
+    chart.set_y_axis({"name": "ARL (points, log scale)", "log_base": 10, "min": 1,
+                      "major_gridlines": {"visible": True, "line": {"color": style.MIST}}})
+    chart.set_legend({"position": "bottom"})
+    if leading:
+        ws.insert_chart(xl_rowcol_to_cell(1, len(leading) + 2), chart, {"x_scale": 1.6, "y_scale": 1.5})
+    ws.write_string(last + 2, 0, "ARL: average number of points until the scheme signals, from a fresh start with "
+                    "the shift present from the first point. Schemes sampled at different intervals compare in "
+                    "time on the comparison tab.", fmt["text"])
+
+
+def _notes(ws: Any, fmt: dict[str, Any], result: DesignResult) -> None:
+    ws.set_column(0, 0, 26)
+    ws.set_column(1, 1, 100)
+    ws.write_string(0, 0, "About this design", fmt["title"])
+    lines = [("Caution", CAUTION), ("Method", result.method), ("Schemes searched", str(len(result.candidates))),
+             ("Written by", f"{TOOL_NAME} {__version__}")]
+    lines += [("Note", n) for n in result.notes]
+    for r, (label, text) in enumerate(lines, start=2):
+        ws.write_string(r, 0, label, fmt["label"])
+        ws.write_string(r, 1, text, fmt["caution"] if label == "Caution" else fmt["wrap"])

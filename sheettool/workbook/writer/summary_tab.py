@@ -1,0 +1,67 @@
+"""The review pack's summary tab: one row per characteristic, linked to its evaluation tab, and one
+row per file or sheet that could not be evaluated."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+from sheettool.pack import STATUS_WORDS, Pack, pack_key
+from sheettool.workbook.writer import cells
+from sheettool.workbook.writer.book import Summary, WriterOptions, write_workbook
+from sheettool.workbook.writer.notes_tab import CAUTION
+
+SUMMARY_TAB = "Review summary"
+COLUMNS = ("Source file", "Sheet", "Characteristic", "Chart", "Points in period", "Signals", "Latest signal",
+           "Cpk", "Cpk low", "Cpk high", "In-control ARL", "False alarms / month", "Status", "Reason")
+WIDTHS = (28, 18, 22, 8, 10, 8, 22, 8, 8, 8, 11, 11, 26, 50)
+
+
+def write_pack_workbook(pack: Pack, path: Path, options: WriterOptions | None = None) -> None:
+    """Write the pack: summary first, then every characteristic's tabs, then one audit for all inputs."""
+    sources = [(o.report, o.report.reads) for o in pack.evaluated]
+    keys = [pack_key(o.job.source, r.sheet) for o in pack.evaluated for r in o.report.characteristics]
+    write_workbook(sources, path, options, Summary(SUMMARY_TAB, lambda book, ws, fmt, tabs:
+                                                   _write_summary(ws, fmt, pack, tabs)), block_keys=keys)
+
+
+def _write_summary(ws: Any, fmt: dict[str, Any], pack: Pack, eval_tabs: list[str]) -> None:
+    ws.write_string(0, 0, "Review summary", fmt["title"])
+    period = f"points dated {pack.period.label}" if pack.period else "all points of each workbook"
+    ws.write_string(1, 0, f"Period: {period}. Limits: each characteristic's base period, or the limits carried "
+                          "from the previous pack where given (see each evaluation tab).", fmt["text"])
+    counts = {word: sum(1 for r in pack.rows if word in r.status.split("; ")) for word in STATUS_WORDS.values()}
+    ws.write_string(2, 0, "; ".join(f"{n} {word}" for word, n in counts.items() if n) or "nothing evaluated",
+                    fmt["label"])
+    ws.merge_range(3, 0, 3, len(COLUMNS) - 1, CAUTION, fmt["caution"])
+    ws.set_row(3, 30)
+    top = 5
+    ws.set_row(top, 30)
+    last = top + max(len(pack.rows), 1)
+    ws.add_table(top, 0, last, len(COLUMNS) - 1, {
+        "name": "review_summary", "style": "Table Style Light 1",
+        "columns": [{"header": c, "header_format": fmt["head"]} for c in COLUMNS]})
+    for i, row in enumerate(pack.rows, start=top + 1):
+        ws.write_string(i, 0, row.source, fmt["text"])
+        ws.write_string(i, 1, row.sheet, fmt["text"])
+        if row.tab is not None:
+            ws.write_url(i, 2, cells.internal_link(eval_tabs[row.tab]), fmt["link"], string=row.characteristic)
+        else:
+            ws.write_string(i, 2, row.characteristic, fmt["text"])
+        ws.write_string(i, 3, row.chart, fmt["text"])
+        if row.tab is not None:
+            ws.write_number(i, 4, row.points, fmt["count"])
+            ws.write_number(i, 5, row.signals, fmt["count"])
+        ws.write_string(i, 6, row.latest_signal, fmt["text"])
+        for col, value in ((7, row.cpk), (8, row.cpk_low), (9, row.cpk_high)):
+            cells.number(ws, i, col, value, fmt["dec2"])
+        cells.number(ws, i, 10, row.arl_in_control, fmt["arl"])
+        cells.number(ws, i, 11, row.false_alarms_per_month, fmt["dec2"])
+        ws.write_string(i, 12, row.status, fmt["label"] if row.flags else fmt["text"])
+        ws.write_string(i, 13, row.reason, fmt["wrap"])
+        if len(row.reason) > WIDTHS[13]:
+            ws.set_row(i, 15 * (len(row.reason) // WIDTHS[13] + 1))
+    for col, width in enumerate(WIDTHS):
+        ws.set_column(col, col, width)
+    ws.freeze_panes(top + 1, 3)
+    cells.print_setup(ws, "review summary")
