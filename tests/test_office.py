@@ -20,8 +20,10 @@ import xlsxwriter
 
 from sheettool.api import evaluate_file
 from sheettool.demo.scenario import BUNDLED
+from sheettool.pack import build_pack
 from sheettool.settings import Setting
 from sheettool.workbook.writer import WriterOptions, write_evaluated_workbook
+from sheettool.workbook.writer.summary_tab import write_pack_workbook
 from tests.writer_cases import attribute_case, cusum_ewma_case, report_for, varying_sizes_case
 
 RECALC = """<?xml version="1.0" encoding="UTF-8"?>
@@ -65,6 +67,8 @@ def outputs(tmp_path_factory) -> dict[str, Path]:
     evaluate_file(demo, files["demo"])
     evaluate_file(demo, files["demo-formulas"], {"rules": Setting("rules", "zones", "option --rules")},
                   writer=WriterOptions(formulas=True))
+    files["pack"] = tmp / "pack.xlsx"
+    write_pack_workbook(build_pack([demo, BUNDLED], {}), files["pack"])
     report, reads = report_for(tmp, [varying_sizes_case(), attribute_case(), cusum_ewma_case()])
     write_evaluated_workbook(report, reads, files["built-formulas"],
                              WriterOptions(formulas=True, timestamp=dt.datetime(2026, 12, 1)))
