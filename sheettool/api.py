@@ -67,6 +67,8 @@ def evaluate_file(input_path: Path, output: Path | None = None,
                 options = replace(options, carried=carried.get(sheet.sheet))
             result = evaluate(sheet.characteristic, sheet.sheet, options)
             result.settings = used
+            place = f"{input_path.name}, sheet '{sheet.sheet}'"
+            result.problems = [replace(p, where=place) if p.where == sheet.sheet else p for p in result.problems]
             results.append(result)
             reads.append(sheet)
         except ValueError as exc:
