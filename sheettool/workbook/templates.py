@@ -13,7 +13,7 @@ from pathlib import Path
 
 import xlsxwriter
 
-from sheettool import TOOL_NAME, __version__
+from sheettool import TOOL_NAME
 from sheettool.workbook import style
 
 TEMPLATE_KINDS = ("subgroups", "individuals", "proportions", "counts")
@@ -70,7 +70,7 @@ def write_template(spec: TemplateSpec, path: Path) -> None:
     """Write the data-entry workbook for `spec` to `path`."""
     book = xlsxwriter.Workbook(str(path))
     book.set_properties({"title": f"{TOOL_NAME} data-entry sheet: {spec.kind}",
-                         "author": f"{TOOL_NAME} {__version__}", "created": FIXED_DATE})
+                         "author": TOOL_NAME, "created": FIXED_DATE})  # no version: a template outlives releases
     fmt = style.formats(book)
     entry = book.add_format({"bg_color": "#FFFFFF", "border": 1, "border_color": style.HAIRLINE})
     when = book.add_format({"num_format": "yyyy-mm-dd hh:mm"})
