@@ -70,12 +70,12 @@ def test_estimated_limit_numbers_equal_the_result(checked):
     assert _row(rows, "Average over base periods")[1] == pytest.approx(rep.distribution.mean, abs=TOL)
     assert _row(rows, "10th percentile")[1] == pytest.approx(rep.distribution.p10, abs=TOL)
     assert _row(rows, "50th percentile")[1] == pytest.approx(rep.distribution.p50, abs=TOL)
-    assert _row(rows, "Limit factor for 90% sure")[1] == pytest.approx(rep.adjusted.factor, abs=TOL)
-    assert rep.needed.subgroups is not None and _row(rows, "Subgroups for 3-sigma limits")[1] == rep.needed.subgroups
+    assert _row(rows, "Factor for 90% assurance")[1] == pytest.approx(rep.adjusted.factor, abs=TOL)
+    assert rep.needed.subgroups is not None and _row(rows, "Subgroups needed, 3-sigma")[1] == rep.needed.subgroups
     # the known-parameter figure named beside the average: 1 / (2 * P(Z > 3)) = 370.4 (scipy.stats; common practice)
     assert f"{1 / (2 * stats.norm.sf(3)):,.1f}" in _row(rows, "Average over base periods")[4]
-    # the limits from 20 subgroups of 5 have a median in-control ARL below the known-parameter 370.4 and a wider
-    # factor than 3 for 90% assurance (Goedhart, Schoonhoven and Does 2017, their Table 1 direction)
+    # limits estimated from few subgroups give a median in-control ARL below the known-parameter 370.4 (Jensen et al.
+    # 2006) and need a factor above 3 for that assurance (Goedhart, Schoonhoven and Does 2017); common practice
     assert rep.distribution.p50 < 370.4 and rep.adjusted.factor > 3
 
 
@@ -120,7 +120,7 @@ def test_infinite_and_missing_values_are_words(tmp_path):
     write_evaluated_workbook(report, reads, out, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
     rows = _rows(out, "Sleeve length chart")
     assert _row(rows, "Average over base periods")[1] == "unbounded"
-    assert _row(rows, "Subgroups for 3-sigma limits")[1] == "more than 10,000"
+    assert _row(rows, "Subgroups needed, 3-sigma")[1] == "more than 10,000"
     assert not any(isinstance(v, str) and v.startswith("#") for r in rows for v in r)  # no error values
 
 
@@ -133,7 +133,7 @@ def test_unreachable_target_in_words(tmp_path):
     report, reads = report_for(tmp_path, [(result, read)])
     out = tmp_path / "unreachable.xlsx"
     write_evaluated_workbook(report, reads, out, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
-    row = _row(_rows(out, "Sleeve length chart"), "Subgroups for 3-sigma limits")
+    row = _row(_rows(out, "Sleeve length chart"), "Subgroups needed, 3-sigma")
     assert row[1] == "none is enough" and "even with known mean and sigma" in row[4]
 
 

@@ -94,16 +94,16 @@ def _estimated(rows: Any, rep: EstimatedLimitsReport) -> None:
     _line(rows, "10th percentile", ((dist.p10, "arl"),),
           "one base period in ten gives limits with fewer points than this between false alarms")
     _line(rows, "50th percentile", ((dist.p50, "arl"),), "half the base periods give fewer, half more")
-    _line(rows, f"Limit factor for {rep.exceed:.0%} sure", ((rep.adjusted.factor, "ratio"),),
+    _line(rows, f"Factor for {rep.exceed:.0%} assurance", ((rep.adjusted.factor, "ratio"),),
           f"center +/- this many sigma gives an in-control ARL of at least {rep.floor:,.0f} in {rep.exceed:.0%} "
           "of base periods (3 is the usual factor)")
     needed = rep.needed
     ws = rows.ws
-    ws.write_string(rows.row, 0, f"{what.capitalize()} for 3-sigma limits", rows.fmt["text"])
+    ws.write_string(rows.row, 0, f"{what.capitalize()} needed, 3-sigma", rows.fmt["text"])
     if needed.subgroups is not None:
         ws.write_number(rows.row, 1, needed.subgroups, rows.fmt["count_right"])
         enough = "enough already" if needed.subgroups <= dist.m else f"{dist.m} in use"
-        note = f"fewest {what} for the same assurance with the usual factor 3; {enough}"
+        note = f"fewest {what} for that assurance with the usual factor 3; {enough}"
     elif needed.reachable:
         ws.write_string(rows.row, 1, f"more than {needed.max_searched:,}", rows.fmt["text_right"])
         note = f"even {needed.max_searched:,} {what} would not give that assurance with the usual factor 3"
