@@ -152,3 +152,35 @@ def test_method_lines_name_the_published_methods(checked):
                    "BIC", "Box and Jenkins 1976", "AR(1)"):
         assert source in joined
     assert "requirement" in text["Sleeve length: requirements"]
+
+
+def _lines_shown(ws, row: int) -> float:
+    """Lines of 11-point text a row's height holds (15 points a line; default height one line)."""
+    height = ws.row_dimensions[row + 1].height
+    return (height or 15.0) / 15.0
+
+
+def test_long_text_gets_rows_tall_enough(checked, tmp_path):
+    result, out = checked
+    # the width a text cell can show, in characters of the column-width unit (common practice: one unit is one
+    # digit of the default font); a row must hold at least len / width lines for nothing to be cut
+    book = openpyxl.load_workbook(out)
+    ws = book["Sleeve length chart"]
+    width = sum(ws.column_dimensions[c].width for c in "ABCDE")
+    rows = list(ws.iter_rows(values_only=True))
+    first = next(i for i, r in enumerate(rows) if r[0] == TITLE)
+    last = next(i for i, r in enumerate(rows) if r[0] == "Capability")
+    for i, row in enumerate(rows[first:last], start=first):
+        if isinstance(row[0], str) and (row[0] == result.estimated_limits.sentence or row[0].startswith("Warning: ")):
+            assert _lines_shown(ws, i) >= math.ceil(len(row[0]) / width)
+        if isinstance(row[4], str):
+            assert _lines_shown(ws, i) >= math.ceil(len(row[4]) / ws.column_dimensions["E"].width)
+    case, read = varying_sizes_case()
+    case.performance = dataclasses.replace(case.performance, method="Markov chain of the rule windows, " * 12)
+    report, reads = report_for(tmp_path, [(case, read)])
+    long = tmp_path / "long.xlsx"
+    write_evaluated_workbook(report, reads, long, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
+    perf = openpyxl.load_workbook(long)["Scheme performance"]
+    at = next(i for i, r in enumerate(perf.iter_rows(values_only=True)) if r[0] == case.performance.method)
+    width = sum(perf.column_dimensions[c].width for c in "ABC")
+    assert _lines_shown(perf, at) >= math.ceil(len(case.performance.method) / width)

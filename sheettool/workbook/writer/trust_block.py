@@ -19,9 +19,9 @@ UNBOUNDED = "unbounded"
 MET_WORDS = {True: "yes", False: "NO", None: "cannot judge"}
 REQUIREMENT_LABELS = {"arl_in_control": "In-control ARL", "false_alarms_per_month": "False alarms a month",
                       "detect_arl": "ARL at the shift", "detect_hours": "Hours to catch the shift"}
-# characters per printed line (kept a little below what fits, so that no font cuts a line): the note column and the
-# tab's full width, in column-width units
-_NOTE_CHARS = style.EVAL_COLUMNS[4] + 2
+# characters per printed line, taking a character as wide as a digit (text runs narrower, so no font cuts a line):
+# the note column less its indent, and the tab's full width
+_NOTE_CHARS = style.EVAL_COLUMNS[4] - 2
 _FULL_CHARS = sum(style.EVAL_COLUMNS)
 
 
@@ -109,7 +109,7 @@ def _estimated(rows: Any, rep: EstimatedLimitsReport) -> None:
         note = f"even {needed.max_searched:,} {what} would not give that assurance with the usual factor 3"
     else:
         ws.write_string(rows.row, 1, "none is enough", rows.fmt["text_right"])
-        note = f"3-sigma limits cannot reach {rep.floor:,.0f} even with known mean and sigma"
+        note = f"3-sigma cannot reach {rep.floor:,.0f} even with known mean and sigma"
     _note(rows, note)
     rows.row += 1
     for text in dist.notes:
@@ -124,13 +124,13 @@ def _shape(rows: Any, rep: DataShapeReport) -> None:
     ws.write_string(rows.row, 0, "Shape of the readings", rows.fmt["text"])
     ws.write_string(rows.row, 1, shape.family, rows.fmt["text_right"])
     ws.write_string(rows.row, 2, "normal", rows.fmt["text_right"])
-    _note(rows, f"lowest BIC of normal, Johnson SU and Johnson SB; skewness {shape.skewness:.2f}")
+    _note(rows, f"lowest BIC of normal, Johnson SU and SB; skewness {shape.skewness:.2f}")
     rows.row += 1
     _line(rows, "In-control ARL, this shape", ((shape.arl_shape, "arl"), (shape.arl_normal, "arl")),
-          f"3-sigma limits under the fitted shape against the normal figure (ratio {_ratio(shape.ratio)})")
+          f"3-sigma limits, fitted shape against normal (ratio {_ratio(shape.ratio)})")
     _line(rows, "Lag-1 autocorrelation", ((dep.r1, "ratio"), (dep.bound, "ratio")),
-          f"beside it the rough bound 2/sqrt(N) for {dep.points} points: "
-          + ("beyond it, the points are not independent" if dep.significant else "within it"))
+          f"beside it the bound 2/sqrt(N) for {dep.points} points; r1 is "
+          + ("beyond it" if dep.significant else "within it"))
     if dep.significant:
         _line(rows, "In-control ARL, AR(1)", ((dep.arl_ar1, "arl"), (dep.arl_independent, "arl")),
               ("at least this (some simulated runs had not signalled); " if dep.censored else "")
