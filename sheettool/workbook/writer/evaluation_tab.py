@@ -18,6 +18,7 @@ from sheettool.workbook.writer import cells, charts, formulas
 from sheettool.workbook.writer.data_tab import DataLayout
 from sheettool.workbook.writer.methods import method
 from sheettool.workbook.writer.notes_tab import CAUTION
+from sheettool.workbook.writer.trust_block import has_checks, write_trust_block
 
 LIMIT_KEYS = (("center", "Center line"), ("lcl", "LCL"), ("ucl", "UCL"))
 
@@ -60,9 +61,10 @@ class _Rows:
         self.ws.write_string(self.row, 0, title, self.fmt["section"])
         self.row += 1
 
-    def head(self, titles: list[str], numeric: tuple[int, ...] = ()) -> None:
+    def head(self, titles: list[str], numeric: tuple[int, ...] = (), centered: tuple[int, ...] = ()) -> None:
         for c, t in enumerate(titles):
-            role = "head_number" if c in numeric else "head_note" if c == 4 else "head"
+            role = ("head_number" if c in numeric else "head_center" if c in centered else
+                    "head_note" if c == 4 else "head")
             self.ws.write_string(self.row, c, t, self.fmt[role])
         self.row += 1
 
@@ -148,9 +150,11 @@ def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: Charac
     rows.fact("Period covered", _period(result))
     rows.fact("Counts", _counts(result))
     _limits_table(book, rows, result, layout, live, used_names, out)
+    breaks = [rows.row] if has_checks(result) else []  # the block and capability start a printed page
+    write_trust_block(rows, result)
     _capability(rows, result)
     rows.row += 1
-    breaks = [rows.row]
+    breaks.append(rows.row)
     zones = zones_in_use(result)
     unit = ch.unit if isinstance(ch.data, Measurements) else ""
     for i, sc in enumerate(layout.stats.values()):

@@ -5,18 +5,22 @@ went wrong, and the caution that the statistics support and never replace engine
 from __future__ import annotations
 
 import datetime as dt
+import math
 from dataclasses import dataclass
 from typing import Any
 
 from sheettool import TOOL_NAME, __version__
 from sheettool.core.constants import constants
 from sheettool.core.data import Measurements
+from sheettool.core.design import MET_TOLERANCE
+from sheettool.evaluation import CharacteristicResult
 from sheettool.report import EvaluationReport
 from sheettool.workbook.reader import SheetRead
 from sheettool.workbook.writer import cells
 from sheettool.workbook.writer.methods import method
 
 NOTES_TAB = "Method and audit"
+NOTE_CHARS = 100  # characters per line of the 100-wide text column (a little below what fits: nothing is cut)
 CAUTION = (
     "These statistics support, and never replace, engineering judgement, the site's quality "
     "procedures, customer requirements and applicable regulations and codes. Characteristics that "
@@ -53,8 +57,8 @@ def write_notes_tab(ws: Any, fmt: dict[str, Any], sources: list[tuple[Evaluation
         nonlocal row
         ws.write_string(row, 0, label, fmt["label"])
         ws.write_string(row, 1, text, fmt[style])
-        if len(text) > 110:
-            ws.set_row(row, 15 * (len(text) // 110 + 1))
+        if len(text) > NOTE_CHARS:
+            ws.set_row(row, 15 * math.ceil(len(text) / NOTE_CHARS))
         row += 1
 
     def section(title: str) -> None:
@@ -105,6 +109,8 @@ def write_notes_tab(ws: Any, fmt: dict[str, Any], sources: list[tuple[Evaluation
         if isinstance(result.characteristic.data, Measurements):
             line(f"{result.characteristic.name}: constants", _constants_words(result.fit.subgroup_size))
         line(f"{result.characteristic.name}: run length", result.performance.method)
+        for what, text in _check_methods(result):
+            line(f"{result.characteristic.name}: {what}", text)
     for label, text in GENERAL_METHODS:
         line(label, text)
     section("Problems found")
@@ -114,6 +120,20 @@ def write_notes_tab(ws: Any, fmt: dict[str, Any], sources: list[tuple[Evaluation
     for p in problems:
         line(p.severity, f"{p.where}: {p.message}")
     cells.print_setup(ws, "method and audit of " + (reports[0].input.name if len(reports) == 1 else "the pack"))
+
+
+def _check_methods(result: CharacteristicResult) -> list[tuple[str, str]]:
+    """The method of each extra check the evaluation made, in the checks' own words where they carry them."""
+    out = []
+    if result.estimated_limits is not None:
+        out.append(("estimated limits", result.estimated_limits.method))
+    if result.data_shape is not None:
+        out.append(("data shape", result.data_shape.method))
+    if result.requirements_check is not None:
+        out.append(("requirements", "each requirement of the settings against this scheme's in-control ARL and its "
+                                    "ARL and ATS at the shift judged, from the run-length figures above; met within "
+                                    f"{MET_TOLERANCE:.1%} of the required figure"))
+    return out
 
 
 def _read_words(read: SheetRead) -> str:

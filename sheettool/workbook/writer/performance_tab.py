@@ -12,6 +12,7 @@ from sheettool.workbook import style
 from sheettool.workbook.writer import cells, charts
 
 PERFORMANCE_TAB = "Scheme performance"
+METHOD_CHARS = 34  # characters per line of a method cell, a little below what fits so that no line is cut
 
 
 def write_performance_tab(book: Any, ws: Any, fmt: dict[str, Any], results: list[CharacteristicResult],
@@ -49,7 +50,8 @@ def write_performance_tab(book: Any, ws: Any, fmt: dict[str, Any], results: list
         last = first + max(0, len(grid) - 1)
         series.append((result.characteristic.name, cells.column_range(PERFORMANCE_TAB, col, first, last),
                        cells.column_range(PERFORMANCE_TAB, col + 1, first, last)))
-    ws.set_row(top + 1, 45)
+    # the method text sits in a merged cell three columns (39 characters) wide: tall enough for the longest, in full
+    ws.set_row(top + 1, 15 * max(3, *(math.ceil(len(r.performance.method) / METHOD_CHARS) for r in results)))
     ws.set_row(top + 2, 30)
     ws.insert_chart(chart_row, 0, charts.arl_chart(book, series, largest, widest), {"x_offset": 4})
     cells.print_setup(ws, "scheme performance")
