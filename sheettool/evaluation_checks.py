@@ -16,11 +16,12 @@ from sheettool.core.data_shape import DataShapeReport, data_shape_report
 from sheettool.core.design import Requirements, RequirementsCheck, check_requirements
 from sheettool.core.estimated_limits import EstimatedLimitsReport, estimated_limits_report
 from sheettool.core.rules import Rule
+from sheettool.core.runlength.results import Performance
 from sheettool.core.runlength.scheme import ATTRIBUTES, scheme_of, scheme_run_lengths
 from sheettool.problems import Problem
 
 if TYPE_CHECKING:
-    from sheettool.evaluation import EvaluationOptions, Performance
+    from sheettool.evaluation import EvaluationOptions
 
 # ChartFit.sigma_method words -> the estimator keys of core.estimated_limits.SIGMA_METHODS
 _SIGMA_KEYS = (("R-bar / d2", "range"), ("mean of R / d2(n)", "range"), ("S-bar / c4", "s-bar"),
