@@ -112,11 +112,6 @@ def chart_choice(characteristic: Characteristic) -> tuple[str, str]:
     return "xbar-s", f"X-bar and S chart: subgroups of {n} readings (10 or more)"
 
 
-def choose_chart(characteristic: Characteristic) -> str:
-    """The chart kind the data calls for (the reason is given by `chart_choice`)."""
-    return chart_choice(characteristic)[0]
-
-
 def _standard_values(kind: ChartKind, standard: dict[str, float]) -> tuple[dict[str, float], list[str]]:
     """The standard values that apply to `kind` (c0 stands for u0 on a u chart), and the unused names."""
     values = dict(standard)
