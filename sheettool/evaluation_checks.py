@@ -50,7 +50,7 @@ def scheme_checks(characteristic: Characteristic, fit: ChartFit, rules: list[Rul
                   options: EvaluationOptions, sheet: str) -> SchemeChecks:
     """Run the three checks that apply to this chart; each failure is reported as a note problem."""
     out = SchemeChecks()
-    steps = [("the cost of estimated limits", lambda: _estimated(characteristic, fit, options)),
+    steps = [("the cost of estimated limits", lambda: _estimated(fit, options)),
              ("the data's shape", lambda: _shape(characteristic, fit)),
              ("the requirements", lambda: _requirements(fit, rules, performance, options))]
     for (what, step), name in zip(steps, ("estimated_limits", "data_shape", "requirements"), strict=True):
@@ -68,8 +68,7 @@ def scheme_checks(characteristic: Characteristic, fit: ChartFit, rules: list[Rul
     return out
 
 
-def _estimated(characteristic: Characteristic, fit: ChartFit, options: EvaluationOptions
-               ) -> EstimatedLimitsReport | None:
+def _estimated(fit: ChartFit, options: EvaluationOptions) -> EstimatedLimitsReport | None:
     """For X-bar and individuals limits whose mean and sigma both came from this base period."""
     given = set(options.standard) & {"mean", "sigma"}
     key = sigma_method_key(fit.sigma_method)

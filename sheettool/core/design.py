@@ -424,7 +424,7 @@ def design(req: Requirements, sampling: Sampling | None = None, grid: SearchGrid
     found = candidates(req, sampling, grid)
     feasible = bool(found) and found[0].meets
     messages = [] if feasible else _shortfall(found)
-    return DesignResult(req, sampling, grid, delta, found, feasible, messages, trade_off(found, req, delta),
+    return DesignResult(req, sampling, grid, delta, found, feasible, messages, trade_off(found, delta),
                         notes, METHOD)
 
 
@@ -459,7 +459,7 @@ def _shortfall(found: list[Candidate]) -> list[str]:
     return messages
 
 
-def trade_off(found: list[Candidate], req: Requirements, delta: float) -> list[str]:
+def trade_off(found: list[Candidate], delta: float) -> list[str]:
     """The trade-off in plain words: subgroup size against frequency, chart kinds, cost and false alarms."""
     if not found:
         return []
