@@ -184,10 +184,12 @@ class IndividualsMR(_Variables):
     sigma_estimator = "moving_range"
 
     def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], str]:
+        """As for every variables chart, after checking that each subgroup holds one reading."""
         individuals(self.check(characteristic))
         return super().estimate(characteristic, base)
 
     def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+        """The individuals at mu +/- 3 sigma and their moving ranges of two, with a floor at zero."""
         x = individuals(self.check(characteristic))
         mu, sigma = params["mean"], params["sigma"]
         stats = [
