@@ -38,5 +38,3 @@ class Performance:
     false_alarms_per_month: float | None = None
     curve: list[ShiftArl] = field(default_factory=list)  # ARL over a fine grid, for the performance tab
     shift_unit: str = "process standard deviations"
-    sdrl_in_control: float | None = None
-    steady_state_arl_in_control: float | None = None

@@ -278,8 +278,6 @@ def performance_of(fit: ChartFit, rules: list[Rule], options: PerformanceOptions
         false_alarms_per_month=per_month,
         curve=[row(s, c, rl) for s, c, rl in zip(CURVE_SHIFTS, curve.conditions, curve.results, strict=True)],
         shift_unit="standard errors of the plotted rate, upward" if attribute else "process standard deviations",
-        sdrl_in_control=rows[0].sdrl,
-        steady_state_arl_in_control=rows[0].steady_state_arl,
     )
 
 
