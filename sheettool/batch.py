@@ -61,6 +61,7 @@ class Progress:
         self.active = not quiet and total > 0 and self.stream.isatty()
 
     def step(self) -> None:
+        """Count one finished input and redraw the bar."""
         self.done += 1
         if self.active:
             width = 30

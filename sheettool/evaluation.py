@@ -19,6 +19,7 @@ from sheettool.core.design import RequirementsCheck
 from sheettool.core.estimated_limits import EstimatedLimitsReport
 from sheettool.core.limits import fit_limits
 from sheettool.core.rules import Rule, find_hits, parse_rules
+from sheettool.core.runlength.results import Performance, ShiftArl  # noqa: F401 (ShiftArl re-exported: callers import it here)
 from sheettool.core.runlength.scheme import performance_of
 from sheettool.evaluation_checks import scheme_checks
 from sheettool.problems import Problem
@@ -38,39 +39,6 @@ class Signal:
     rule: str
     words: str
     points: tuple[int, ...]
-
-
-@dataclass(frozen=True)
-class ShiftArl:
-    """ARL after a mean shift of `shift` process standard deviations; ATS where the interval is known.
-
-    For attribute charts `shift` is in standard errors of the plotted rate and `rate` is the rate itself.
-    """
-
-    shift: float
-    arl: float
-    ats_hours: float | None = None
-    sdrl: float | None = None
-    percentiles: dict[int, float] | None = None  # 5th, 50th and 95th percentile of the run length
-    steady_state_arl: float | None = None  # conditional steady state (see core/runlength/markov.py)
-    ci: tuple[float, float] | None = None  # 95% interval of the ARL where it is simulated
-    rate: float | None = None
-
-
-@dataclass
-class Performance:
-    """How the scheme in use behaves: in-control ARL, false alarms, ARL at standard mean shifts."""
-
-    method: str
-    arl_in_control: float
-    shifts: list[ShiftArl]
-    components: dict[str, float] = field(default_factory=dict)  # in-control ARL per chart alone
-    interval_hours: float | None = None
-    false_alarms_per_month: float | None = None
-    curve: list[ShiftArl] = field(default_factory=list)  # ARL over a fine grid, for the performance tab
-    shift_unit: str = "process standard deviations"
-    sdrl_in_control: float | None = None
-    steady_state_arl_in_control: float | None = None
 
 
 @dataclass
@@ -142,11 +110,6 @@ def chart_choice(characteristic: Characteristic) -> tuple[str, str]:
     if n < 10:
         return "xbar-r", f"X-bar and R chart: subgroups of {n} readings (2 to 9)"
     return "xbar-s", f"X-bar and S chart: subgroups of {n} readings (10 or more)"
-
-
-def choose_chart(characteristic: Characteristic) -> str:
-    """The chart kind the data calls for (the reason is given by `chart_choice`)."""
-    return chart_choice(characteristic)[0]
 
 
 def _standard_values(kind: ChartKind, standard: dict[str, float]) -> tuple[dict[str, float], list[str]]:

@@ -16,11 +16,12 @@ from sheettool.core.data_shape import DataShapeReport, data_shape_report
 from sheettool.core.design import Requirements, RequirementsCheck, check_requirements
 from sheettool.core.estimated_limits import EstimatedLimitsReport, estimated_limits_report
 from sheettool.core.rules import Rule
+from sheettool.core.runlength.results import Performance
 from sheettool.core.runlength.scheme import ATTRIBUTES, scheme_of, scheme_run_lengths
 from sheettool.problems import Problem
 
 if TYPE_CHECKING:
-    from sheettool.evaluation import EvaluationOptions, Performance
+    from sheettool.evaluation import EvaluationOptions
 
 # ChartFit.sigma_method words -> the estimator keys of core.estimated_limits.SIGMA_METHODS
 _SIGMA_KEYS = (("R-bar / d2", "range"), ("mean of R / d2(n)", "range"), ("S-bar / c4", "s-bar"),
@@ -49,7 +50,7 @@ def scheme_checks(characteristic: Characteristic, fit: ChartFit, rules: list[Rul
                   options: EvaluationOptions, sheet: str) -> SchemeChecks:
     """Run the three checks that apply to this chart; each failure is reported as a note problem."""
     out = SchemeChecks()
-    steps = [("the cost of estimated limits", lambda: _estimated(characteristic, fit, options)),
+    steps = [("the cost of estimated limits", lambda: _estimated(fit, options)),
              ("the data's shape", lambda: _shape(characteristic, fit)),
              ("the requirements", lambda: _requirements(fit, rules, performance, options))]
     for (what, step), name in zip(steps, ("estimated_limits", "data_shape", "requirements"), strict=True):
@@ -67,8 +68,7 @@ def scheme_checks(characteristic: Characteristic, fit: ChartFit, rules: list[Rul
     return out
 
 
-def _estimated(characteristic: Characteristic, fit: ChartFit, options: EvaluationOptions
-               ) -> EstimatedLimitsReport | None:
+def _estimated(fit: ChartFit, options: EvaluationOptions) -> EstimatedLimitsReport | None:
     """For X-bar and individuals limits whose mean and sigma both came from this base period."""
     given = set(options.standard) & {"mean", "sigma"}
     key = sigma_method_key(fit.sigma_method)

@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 
 from sheettool.core.data import Characteristic, Counts
-from sheettool.evaluation import EvaluationOptions, choose_chart, evaluate
+from sheettool.evaluation import EvaluationOptions, chart_choice, evaluate
 
 
 def _fit(counts, inspected, kind="defectives", chart=None):
@@ -75,8 +75,8 @@ def test_chart_choice_for_counts():
     # constant units inspected: plot the count (np, c); varying: the proportion or rate (p, u)
     same, varying = [50] * 4, [40, 50, 60, 50]
     for kind, constant, vary in (("defectives", "np", "p"), ("defects", "c", "u")):
-        assert choose_chart(Characteristic("c", Counts([1, 2, 3, 1], same, kind))) == constant
-        assert choose_chart(Characteristic("c", Counts([1, 2, 3, 1], varying, kind))) == vary
+        assert chart_choice(Characteristic("c", Counts([1, 2, 3, 1], same, kind)))[0] == constant
+        assert chart_choice(Characteristic("c", Counts([1, 2, 3, 1], varying, kind)))[0] == vary
 
 
 @pytest.mark.parametrize(("counts", "inspected", "kind", "words"), [

@@ -7,7 +7,7 @@ import pytest
 from scipy import special
 
 from sheettool.core.data import Characteristic, Measurements
-from sheettool.evaluation import EvaluationOptions, choose_chart, evaluate
+from sheettool.evaluation import EvaluationOptions, chart_choice, evaluate
 
 # Factors printed in ASTM E2587 (values recalled from memory, shared/reference/published-values.md);
 # printed to 3 decimals, so limits built from them are compared within 1e-3 of the range scale.
@@ -113,7 +113,7 @@ def test_short_subgroup_gets_its_own_limits():
 def test_chart_choice_by_subgroup_size(size, chart):
     # n = 1: individuals; 2..9: X-bar and R; 10 or more: X-bar and S (common practice; Montgomery 2009, sec. 6.3)
     ch = Characteristic("x", Measurements(np.random.default_rng(1).normal(size=(12, size))))
-    assert choose_chart(ch) == chart
+    assert chart_choice(ch)[0] == chart
     result = evaluate(ch, "s")
     assert result.fit.chart == chart
     reason = result.fit.notes[0]

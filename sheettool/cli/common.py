@@ -1,10 +1,12 @@
-"""Options shared by the sub-commands that evaluate workbooks (evaluate, pack)."""
+"""Options shared by the sub-commands: those of evaluate and pack, and number parsing for design and runlength."""
 
 from __future__ import annotations
 
 import argparse
 import datetime as dt
 import json
+import math
+import os
 import sys
 from pathlib import Path
 from typing import Any
@@ -67,6 +69,29 @@ def cli_settings(args: argparse.Namespace) -> dict[str, Setting]:
     return settings
 
 
+def number(option: str, text: str | None, positive: bool = False) -> float | None:
+    """An option's text as a finite number (None when not given); UsageError naming the option otherwise."""
+    if text is None:
+        return None
+    try:
+        value = float(text)
+    except ValueError:
+        raise UsageError(f"{option}: '{text}' is not a number") from None
+    if not math.isfinite(value):
+        raise UsageError(f"{option}: must be a finite number, got '{text}'")
+    if positive and value <= 0:
+        raise UsageError(f"{option}: must be a positive number, got '{text}'")
+    return value
+
+
+def number_list(option: str, text: str) -> tuple[float, ...]:
+    """A comma-separated list of numbers, e.g. --shift 0,0.5,1; UsageError for an empty or bad entry."""
+    parts = [part.strip() for part in text.split(",")]
+    if not all(parts):
+        raise UsageError(f"{option}: '{text}' has an empty entry; write numbers separated by commas")
+    return tuple(number(option, part) for part in parts)
+
+
 def writer_options(args: argparse.Namespace) -> WriterOptions:
     """--formulas and --timestamp as WriterOptions."""
     return WriterOptions(formulas=args.formulas, timestamp=_timestamp(args.timestamp))
@@ -83,8 +108,16 @@ def jobs(args: argparse.Namespace) -> int:
 
 def print_json(data: dict[str, Any]) -> None:
     """One JSON object on stdout."""
-    json.dump(data, sys.stdout, indent=2)
-    sys.stdout.write("\n")
+    write_stdout(json.dumps(data, indent=2) + "\n")
+
+
+def write_stdout(text: str) -> None:
+    """Text on stdout; when the reader went away (e.g. `| head`) the rest is dropped quietly."""
+    try:
+        sys.stdout.write(text)
+        sys.stdout.flush()
+    except BrokenPipeError:
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
 
 
 def _timestamp(text: str | None) -> dt.datetime | None:

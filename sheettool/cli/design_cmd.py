@@ -3,15 +3,14 @@
 from __future__ import annotations
 
 import argparse
-import json
 import math
-import os
 import sys
 from pathlib import Path
 from typing import Any
 
 from sheettool import TOOL_NAME, __version__
 from sheettool.api import design_schemes
+from sheettool.cli.common import number, number_list, print_json, write_stdout
 from sheettool.core.design import Candidate, DesignResult, Requirements, Sampling, SearchGrid
 from sheettool.errors import UsageError
 from sheettool.workbook.design_book import HEAD, candidate_row, requirement_lines
@@ -43,32 +42,13 @@ def add_parser(subs: argparse._SubParsersAction) -> None:
     p.set_defaults(run=run)
 
 
-def _number(option: str, text: str | None) -> float | None:
-    if text is None:
-        return None
-    try:
-        value = float(text)
-    except ValueError:
-        raise UsageError(f"{option}: '{text}' is not a number") from None
-    if not math.isfinite(value):
-        raise UsageError(f"{option}: must be a finite number, got '{text}'")
-    return value
-
-
-def _list(option: str, text: str) -> tuple[float, ...]:
-    parts = [part.strip() for part in text.split(",")]
-    if not all(parts):
-        raise UsageError(f"{option}: '{text}' has an empty entry; write numbers separated by commas")
-    return tuple(_number(option, part) for part in parts)
-
-
 def _sizes(text: str) -> tuple[int, ...]:
     if "-" in text and "," not in text:
-        low, high = (_number("--sizes", part.strip()) for part in text.split("-", 1))
+        low, high = (number("--sizes", part.strip()) for part in text.split("-", 1))
         if not (low == int(low) and high == int(high) and 1 <= low <= high):
             raise UsageError(f"--sizes: '{text}' is not a range of whole numbers like 1-10")
         return tuple(range(int(low), int(high) + 1))
-    values = _list("--sizes", text)
+    values = number_list("--sizes", text)
     if not all(v == int(v) for v in values):
         raise UsageError(f"--sizes: '{text}' holds a size that is not a whole number")
     return tuple(int(v) for v in values)
@@ -79,22 +59,22 @@ def _inputs(args: argparse.Namespace) -> tuple[Requirements, Sampling, SearchGri
         raise UsageError("--false-alarms-per-month needs --hours-per-month (production hours per month)")
     if args.shift_units is not None and args.sigma is None:
         raise UsageError("--shift-units needs --sigma, the process standard deviation in the same unit")
-    top = _number("--top", args.top)
+    top = number("--top", args.top)
     if not (top is not None and top == int(top) and top >= 1):
         raise UsageError(f"--top: must be a whole number of at least 1, got '{args.top}'")
     try:
         req = Requirements(
-            arl_in_control=_number("--arl-in-control", args.arl_in_control),
-            false_alarms_per_month=_number("--false-alarms-per-month", args.false_alarms_per_month),
-            hours_per_month=_number("--hours-per-month", args.hours_per_month),
-            shift=_number("--shift", args.shift), shift_units=_number("--shift-units", args.shift_units),
-            sigma=_number("--sigma", args.sigma), detect_arl=_number("--detect-arl", args.detect_arl),
-            detect_hours=_number("--detect-hours", args.detect_hours))
+            arl_in_control=number("--arl-in-control", args.arl_in_control),
+            false_alarms_per_month=number("--false-alarms-per-month", args.false_alarms_per_month),
+            hours_per_month=number("--hours-per-month", args.hours_per_month),
+            shift=number("--shift", args.shift), shift_units=number("--shift-units", args.shift_units),
+            sigma=number("--sigma", args.sigma), detect_arl=number("--detect-arl", args.detect_arl),
+            detect_hours=number("--detect-hours", args.detect_hours))
         sampling = Sampling(sizes=_sizes(args.sizes),
-                            intervals=_list("--intervals", args.intervals) if args.intervals else None,
-                            budget=_number("--budget", args.budget))
+                            intervals=number_list("--intervals", args.intervals) if args.intervals else None,
+                            budget=number("--budget", args.budget))
         presets = tuple(p.strip().lower() for p in args.presets.split(",") if p.strip())
-        grid = SearchGrid(presets=presets, **{key: _list(f"--{name}", text) for key, name, text in (
+        grid = SearchGrid(presets=presets, **{key: number_list(f"--{name}", text) for key, name, text in (
             ("lambdas", "lambdas", args.lambdas), ("ks", "ks", args.ks)) if text is not None})
     except ValueError as exc:
         raise UsageError(str(exc)) from None
@@ -108,15 +88,10 @@ def run(args: argparse.Namespace) -> int:
         result = design_schemes(req, sampling, grid, args.output)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
-    try:
-        if args.json:
-            json.dump(design_json(result), sys.stdout, indent=2)
-            sys.stdout.write("\n")
-        else:
-            sys.stdout.write(_table(result, int(float(args.top))))
-        sys.stdout.flush()
-    except BrokenPipeError:  # the reader went away (e.g. `| head`): stop quietly
-        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+    if args.json:
+        print_json(design_json(result))
+    else:
+        write_stdout(_table(result, int(float(args.top))))
     if args.output is not None:
         sys.stderr.write(f"written: {args.output}\n")
     return 0

@@ -3,12 +3,10 @@
 from __future__ import annotations
 
 import argparse
-import json
 import math
-import os
-import sys
 from typing import Any
 
+from sheettool.cli.common import number, number_list, print_json, write_stdout
 from sheettool.core.rules import parse_rules
 from sheettool.core.runlength.scheme import ATTRIBUTES, Scheme, SchemeResult, scheme_run_lengths
 from sheettool.errors import UsageError
@@ -44,34 +42,13 @@ def add_parser(subs: argparse._SubParsersAction) -> None:
     p.set_defaults(run=run)
 
 
-def _number(option: str, text: str | None, positive: bool = False) -> float | None:
-    if text is None:
-        return None
-    try:
-        value = float(text)
-    except ValueError:
-        raise UsageError(f"{option}: '{text}' is not a number") from None
-    if not math.isfinite(value):
-        raise UsageError(f"{option}: must be a finite number, got '{text}'")
-    if positive and value <= 0:
-        raise UsageError(f"{option}: must be a positive number, got '{text}'")
-    return value
-
-
-def _shifts(text: str) -> list[float]:
-    parts = [part.strip() for part in text.split(",")]
-    if not all(parts):
-        raise UsageError(f"--shift: '{text}' has an empty entry; write numbers separated by commas")
-    return [_number("--shift", part) for part in parts]
-
-
 def _scheme(args: argparse.Namespace) -> Scheme:
     chart = _CHARTS[args.chart]
     try:
         rules = tuple(parse_rules(args.rules))
     except ValueError as exc:
         raise UsageError(f"--rules: {exc}") from None
-    n = _number("--n", args.n, positive=True)
+    n = number("--n", args.n, positive=True)
     if chart == "individuals" and n not in (None, 1.0):
         raise UsageError("--n: an individuals chart plots single readings; leave --n out or use --chart xbar")
     if n is None:
@@ -79,16 +56,16 @@ def _scheme(args: argparse.Namespace) -> Scheme:
             raise UsageError(f"--n: needed for the {args.chart} chart (readings or units per subgroup)")
         n = 1.0
     return Scheme(chart="xbar" if chart == "individuals" else chart, rules=rules, n=n,
-                  p0=_number("--p0", args.p0), c0=_number("--c0", args.c0), lam=_number("--lam", args.lam),
-                  L=_number("--L", args.L), k=_number("--k", args.k), h=_number("--h", args.h))
+                  p0=number("--p0", args.p0), c0=number("--c0", args.c0), lam=number("--lam", args.lam),
+                  L=number("--L", args.L), k=number("--k", args.k), h=number("--h", args.h))
 
 
 def run(args: argparse.Namespace) -> int:
     """Compute the run lengths and print them as JSON or a table."""
-    ratio = _number("--sigma-ratio", args.sigma_ratio, positive=True)
-    interval = _number("--interval", args.interval, positive=True)
-    per_month = _number("--hours-per-month", args.hours_per_month, positive=True)
-    given = _shifts(args.shift) if args.shift is not None else None
+    ratio = number("--sigma-ratio", args.sigma_ratio, positive=True)
+    interval = number("--interval", args.interval, positive=True)
+    per_month = number("--hours-per-month", args.hours_per_month, positive=True)
+    given = list(number_list("--shift", args.shift)) if args.shift is not None else None
     try:
         scheme = _scheme(args)
         attribute = scheme.chart in ATTRIBUTES
@@ -97,7 +74,7 @@ def run(args: argparse.Namespace) -> int:
         elif attribute:
             shifts = [scheme.count_model.rate_at(s) for s in (0.0, 1.0, 2.0, 3.0)]
         else:
-            shifts = _shifts(_VARIABLE_SHIFTS)
+            shifts = list(number_list("--shift", _VARIABLE_SHIFTS))
         conditions = [(s, 1.0 if attribute else ratio) for s in shifts]
         in_control = (scheme.count_model.rate0 if attribute else 0.0, 1.0)
         extra = [] if in_control in conditions else [in_control]  # the in-control ARL, for false alarms
@@ -107,15 +84,10 @@ def run(args: argparse.Namespace) -> int:
     arl0 = result.results[(conditions + extra).index(in_control)].arl
     del result.conditions[len(conditions):], result.results[len(conditions):]
     doc = _document(args, scheme, result, arl0, interval, per_month)
-    try:
-        if args.json:
-            json.dump(doc, sys.stdout, indent=2)
-            sys.stdout.write("\n")
-        else:
-            sys.stdout.write(_table(doc))
-        sys.stdout.flush()
-    except BrokenPipeError:  # the reader went away (e.g. `| head`): stop quietly
-        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+    if args.json:
+        print_json(doc)
+    else:
+        write_stdout(_table(doc))
     return 0
 
 

@@ -24,6 +24,7 @@ class Measurements:
 
     @property
     def subgroups(self) -> int:
+        """The number of subgroups (rows)."""
         return int(self.values.shape[0])
 
 
@@ -44,6 +45,7 @@ class Counts:
 
     @property
     def subgroups(self) -> int:
+        """The number of subgroups."""
         return int(self.counts.shape[0])
 
 

@@ -195,36 +195,37 @@ def _meets(achieved: float | None, limit: float, at_least: bool) -> bool | None:
     return achieved >= limit - slack if at_least else achieved <= limit + slack
 
 
+def _judged(name: str, required: float, achieved: float | None, at_least: bool, got: str,
+            wanted: str) -> RequirementCheck:
+    """One requirement judged, in words: what the scheme achieves, what is wanted, and the verdict."""
+    met = _meets(achieved, required, at_least)
+    verdict = {True: "met", False: "not met", None: "cannot be judged"}[met]
+    return RequirementCheck(name, required, achieved, met, f"{got}, {wanted} wanted: {verdict}")
+
+
 def check_requirements(req: Requirements, arl_in_control: float, arl_at_shift: float,
                        interval_hours: float | None, shift: float) -> RequirementsCheck:
     """Judge a scheme with these run lengths against the requirements (used by `design` and by `evaluate`)."""
     items = []
-    yes = {True: "met", False: "not met", None: "cannot be judged"}
     if req.arl_in_control is not None:
-        met = _meets(arl_in_control, req.arl_in_control, at_least=True)
-        items.append(RequirementCheck("arl_in_control", req.arl_in_control, arl_in_control, met,
-                                      f"in-control ARL {arl_in_control:.1f} points, at least "
-                                      f"{req.arl_in_control:g} wanted: {yes[met]}"))
+        items.append(_judged("arl_in_control", req.arl_in_control, arl_in_control, True,
+                             f"in-control ARL {arl_in_control:.1f} points", f"at least {req.arl_in_control:g}"))
     if req.false_alarms_per_month is not None:
         rate = (req.hours_per_month / (interval_hours * arl_in_control)
                 if req.hours_per_month and interval_hours and arl_in_control > 0 else None)
-        met = _meets(rate, req.false_alarms_per_month, at_least=False)
         got = (f"{rate:.2f} false alarms a month expected" if rate is not None
                else "false alarms a month unknown without the interval and production hours")
-        items.append(RequirementCheck("false_alarms_per_month", req.false_alarms_per_month, rate, met,
-                                      f"{got}, at most {req.false_alarms_per_month:g} wanted: {yes[met]}"))
+        items.append(_judged("false_alarms_per_month", req.false_alarms_per_month, rate, False,
+                             got, f"at most {req.false_alarms_per_month:g}"))
     if req.detect_arl is not None:
-        met = _meets(arl_at_shift, req.detect_arl, at_least=False)
-        items.append(RequirementCheck("detect_arl", req.detect_arl, arl_at_shift, met,
-                                      f"ARL {arl_at_shift:.1f} points at a shift of {shift:.3g} sigma, at most "
-                                      f"{req.detect_arl:g} wanted: {yes[met]}"))
+        items.append(_judged("detect_arl", req.detect_arl, arl_at_shift, False,
+                             f"ARL {arl_at_shift:.1f} points at a shift of {shift:.3g} sigma",
+                             f"at most {req.detect_arl:g}"))
     if req.detect_hours is not None:
         ats = arl_at_shift * interval_hours if interval_hours else None
-        met = _meets(ats, req.detect_hours, at_least=False)
         got = f"caught in {ats:.2f} h on average" if ats is not None else "time to signal unknown without the interval"
-        items.append(RequirementCheck("detect_hours", req.detect_hours, ats, met,
-                                      f"a shift of {shift:.3g} sigma {got}, within {req.detect_hours:g} h wanted: "
-                                      f"{yes[met]}"))
+        items.append(_judged("detect_hours", req.detect_hours, ats, False,
+                             f"a shift of {shift:.3g} sigma {got}", f"within {req.detect_hours:g} h"))
     return RequirementsCheck(tuple(items), float(shift))
 
 
@@ -423,7 +424,7 @@ def design(req: Requirements, sampling: Sampling | None = None, grid: SearchGrid
     found = candidates(req, sampling, grid)
     feasible = bool(found) and found[0].meets
     messages = [] if feasible else _shortfall(found)
-    return DesignResult(req, sampling, grid, delta, found, feasible, messages, trade_off(found, req, delta),
+    return DesignResult(req, sampling, grid, delta, found, feasible, messages, trade_off(found, delta),
                         notes, METHOD)
 
 
@@ -458,7 +459,7 @@ def _shortfall(found: list[Candidate]) -> list[str]:
     return messages
 
 
-def trade_off(found: list[Candidate], req: Requirements, delta: float) -> list[str]:
+def trade_off(found: list[Candidate], delta: float) -> list[str]:
     """The trade-off in plain words: subgroup size against frequency, chart kinds, cost and false alarms."""
     if not found:
         return []

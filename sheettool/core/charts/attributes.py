@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from sheettool.core.charts.base import ChartFit, ChartKind, shewhart_statistic
+from sheettool.core.charts.base import ChartFit, ChartKind, PlottedStatistic, shewhart_statistic
 from sheettool.core.data import Characteristic, Counts
 
 
@@ -62,7 +62,28 @@ class _Attribute(ChartKind):
         words = f"{self.rate_name} = total {self.counts_kind} / total inspected in the base period"
         return {self.rate_name: rate}, words
 
-    def _fit(self, characteristic: Characteristic, stat, rate: float, spread: float, method: str,
+    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+        """The one plotted statistic, center +/- 3 standard errors per point with a floor at zero."""
+        data = self.check(characteristic)
+        rate = self._checked_rate(params[self.rate_name])
+        name, label, values, center, standard_error = self._plotted(data, rate)
+        stat = shewhart_statistic(name, label, values, center, standard_error, floor=0.0)
+        return self._fit(characteristic, stat, rate, self._unit_spread(rate), sigma_method, {self.rate_name: rate})
+
+    def _checked_rate(self, rate: float) -> float:
+        """The in-control proportion (binomial); the Poisson charts check a rate instead."""
+        return _proportion(rate)
+
+    def _unit_spread(self, rate: float) -> float:
+        """Standard deviation of one unit's count: sqrt(p0 (1 - p0)) binomial, sqrt(rate) Poisson."""
+        return float(np.sqrt(rate * (1 - rate)))
+
+    def _plotted(self, data: Counts, rate: float) -> tuple[str, str, np.ndarray, np.ndarray | float,
+                                                           np.ndarray | float]:
+        """Name, label, values, center and standard error of the plotted statistic."""
+        raise NotImplementedError
+
+    def _fit(self, characteristic: Characteristic, stat: PlottedStatistic, rate: float, spread: float, method: str,
              parameters: dict[str, float]) -> ChartFit:
         data = characteristic.data
         seen = data.inspected[~np.isnan(data.counts)]
@@ -82,12 +103,9 @@ class PChart(_Attribute):
     title = "p (proportion defective)"
     needs = ("p0",)
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
-        data = self.check(characteristic)
-        p0 = _proportion(params["p0"])
-        stat = shewhart_statistic("proportion", "Proportion defective", data.counts / data.inspected, p0,
-                                  np.sqrt(p0 * (1 - p0) / data.inspected), floor=0.0)
-        return self._fit(characteristic, stat, p0, float(np.sqrt(p0 * (1 - p0))), sigma_method, {"p0": p0})
+    def _plotted(self, data: Counts, rate: float) -> tuple[str, str, np.ndarray, float, np.ndarray]:
+        return ("proportion", "Proportion defective", data.counts / data.inspected, rate,
+                np.sqrt(rate * (1 - rate) / data.inspected))
 
 
 class NPChart(PChart):
@@ -96,56 +114,61 @@ class NPChart(PChart):
     name = "np"
     title = "np (number defective)"
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
-        data = self.check(characteristic)
-        p0 = _proportion(params["p0"])
+    def _plotted(self, data: Counts, rate: float) -> tuple[str, str, np.ndarray, np.ndarray, np.ndarray]:
         n = data.inspected
-        stat = shewhart_statistic("defectives", "Number defective", data.counts, n * p0,
-                                  np.sqrt(n * p0 * (1 - p0)), floor=0.0)
-        return self._fit(characteristic, stat, p0, float(np.sqrt(p0 * (1 - p0))), sigma_method, {"p0": p0})
+        return "defectives", "Number defective", data.counts, n * rate, np.sqrt(n * rate * (1 - rate))
 
 
-class CChart(_Attribute):
+class _Poisson(_Attribute):
+    """Shared parts of the defect charts: a rate of zero or more, Poisson spread."""
+
+    counts_kind = "defects"
+
+    def _checked_rate(self, rate: float) -> float:
+        return _nonnegative(self.rate_name, rate)
+
+    def _unit_spread(self, rate: float) -> float:
+        return float(np.sqrt(rate))
+
+
+class CChart(_Poisson):
     """c chart: defects per subgroup, for a constant inspection unit."""
 
     name = "c"
     title = "c (defects per subgroup)"
     needs = ("c0",)
-    counts_kind = "defects"
     rate_name = "c0"
 
     def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], str]:
+        """c0 as the mean count per subgroup over the base period (Montgomery 2009, ch. 7)."""
         data = self.check(characteristic)
         use = _present(data, base)
         if not use.any():
             raise ValueError("the base period holds no subgroup with a count")
         return {"c0": float(np.mean(data.counts[use]))}, "c0 = mean defects per subgroup in the base period"
 
+    def _plotted(self, data: Counts, rate: float) -> tuple[str, str, np.ndarray, float, float]:
+        return "defects", "Defects", data.counts, rate, float(np.sqrt(rate))
+
     def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
-        data = self.check(characteristic)
-        c0 = _nonnegative("c0", params["c0"])
-        stat = shewhart_statistic("defects", "Defects", data.counts, c0, np.sqrt(c0), floor=0.0)
-        fit = self._fit(characteristic, stat, c0, float(np.sqrt(c0)), sigma_method, {"c0": c0})
+        """As for every attribute chart, with a note when the amount inspected varies."""
+        fit = super().build(characteristic, params, sigma_method)
         if any(n.startswith("units inspected vary") for n in fit.notes):
             fit.notes.append("a c chart assumes the same amount inspected each time; a u chart fits varying sizes")
         return fit
 
 
-class UChart(_Attribute):
+class UChart(_Poisson):
     """u chart: defects per unit inspected, limits per point for varying sizes."""
 
     name = "u"
     title = "u (defects per unit)"
     needs = ("u0",)
-    counts_kind = "defects"
     rate_name = "u0"
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
-        data = self.check(characteristic)
-        u0 = _nonnegative("u0", params["u0"])
-        stat = shewhart_statistic("defects_per_unit", "Defects per unit", data.counts / data.inspected, u0,
-                                  np.sqrt(u0 / data.inspected), floor=0.0)
-        return self._fit(characteristic, stat, u0, float(np.sqrt(u0)), sigma_method, {"u0": u0})
+    def _plotted(self, data: Counts, rate: float) -> tuple[str, str, np.ndarray, float, np.ndarray]:
+        return ("defects_per_unit", "Defects per unit", data.counts / data.inspected, rate,
+                np.sqrt(rate / data.inspected))
 
 
 def _proportion(p: float) -> float:

@@ -52,6 +52,7 @@ class Ewma(_TimeWeighted):
     settings: ClassVar[dict[str, str]] = {"lambda": "ewma_lambda", "L": "ewma_L"}
 
     def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+        """The EWMA statistic with its limits from lambda and L (Lucas and Saccucci 1990)."""
         lam, width = float(params.get("lambda", 0.2)), float(params.get("L", 3.0))
         if not 0.0 < lam <= 1.0:
             raise ValueError(f"the EWMA weight lambda must be above 0 and at most 1, got {lam:g}")
@@ -76,6 +77,7 @@ class Ewma(_TimeWeighted):
         return self._fit(characteristic, params, sigma_method, [stat], n, {"lambda": lam, "L": width}, note)
 
     def signal_rule(self, fit: ChartFit) -> str:
+        """A point beyond the EWMA limits, L standard errors from the center, signals."""
         return f"1/1>{fit.parameters['L']:g}"
 
 
@@ -92,6 +94,7 @@ class Cusum(_TimeWeighted):
     settings: ClassVar[dict[str, str]] = {"k": "cusum_k", "h": "cusum_h", "reference": "target"}
 
     def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+        """The upper and lower tabular CUSUM sums, with the decision interval h as their limits."""
         k, h = float(params.get("k", 0.5)), float(params.get("h", 5.0))
         if k < 0 or h <= 0:
             raise ValueError(f"the CUSUM needs k >= 0 and h > 0 (in sigmas), got k = {k:g}, h = {h:g}")
@@ -117,6 +120,7 @@ class Cusum(_TimeWeighted):
                          {"k": k, "h": h, "reference": reference}, note)
 
     def signal_rule(self, fit: ChartFit) -> str:
+        """A sum beyond the decision interval h signals."""
         return f"1/1>{fit.parameters['h']:g}"
 
 

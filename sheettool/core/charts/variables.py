@@ -13,7 +13,7 @@ import warnings
 
 import numpy as np
 
-from sheettool.core.charts.base import ChartFit, ChartKind, shewhart_statistic, typical_size
+from sheettool.core.charts.base import ChartFit, ChartKind, PlottedStatistic, shewhart_statistic, typical_size
 from sheettool.core.constants import c4, d2, d3
 from sheettool.core.data import Characteristic, Measurements
 
@@ -129,51 +129,51 @@ class _Variables(ChartKind):
                         parameters={"n": float(n)}, notes=notes)
 
 
-class XbarR(_Variables):
+class _MeanAndSpread(_Variables):
+    """Shared parts of X-bar with R or S: the subgroup mean chart and a spread chart beside it."""
+
+    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+        """The mean at mu +/- 3 sigma / sqrt(n_i) and the spread chart, limits per point."""
+        data = self.check(characteristic)
+        if typical_size(data.sizes) < 2:
+            raise ValueError(f"an {self.title} chart needs at least two readings per subgroup; "
+                             "choose the individuals chart (i-mr)")
+        mu, sigma = params["mean"], params["sigma"]
+        stats = [
+            shewhart_statistic("mean", "Subgroup mean", subgroup_means(data.values), mu,
+                               sigma / np.sqrt(_sizes_for_limits(data, 1))),
+            self._spread(data, _sizes_for_limits(data, 2), sigma),
+        ]
+        return self._fit(characteristic, params, sigma_method, stats, typical_size(data.sizes))
+
+    def _spread(self, data: Measurements, n: np.ndarray, sigma: float) -> PlottedStatistic:
+        """The spread statistic of subgroups of n (per point) at process sigma."""
+        raise NotImplementedError
+
+
+class XbarR(_MeanAndSpread):
     """X-bar and R: limits from the grand mean and sigma = R-bar / d2 (Shewhart 1931)."""
 
     name = "xbar-r"
     title = "X-bar and R"
     sigma_estimator = "range"
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
-        data = self.check(characteristic)
-        if typical_size(data.sizes) < 2:
-            raise ValueError("an X-bar and R chart needs at least two readings per subgroup; "
-                             "choose the individuals chart (i-mr)")
-        mu, sigma = params["mean"], params["sigma"]
-        n = _sizes_for_limits(data, 2)
-        stats = [
-            shewhart_statistic("mean", "Subgroup mean", subgroup_means(data.values), mu,
-                               sigma / np.sqrt(_sizes_for_limits(data, 1))),
-            shewhart_statistic("range", "Subgroup range", subgroup_ranges(data.values), _d2(n) * sigma,
-                               _d3(n) * sigma, floor=0.0),
-        ]
-        return self._fit(characteristic, params, sigma_method, stats, typical_size(data.sizes))
+    def _spread(self, data: Measurements, n: np.ndarray, sigma: float) -> PlottedStatistic:
+        return shewhart_statistic("range", "Subgroup range", subgroup_ranges(data.values), _d2(n) * sigma,
+                                  _d3(n) * sigma, floor=0.0)
 
 
-class XbarS(_Variables):
+class XbarS(_MeanAndSpread):
     """X-bar and S: limits from the grand mean and sigma = S-bar / c4 or the pooled sd (Montgomery 2009)."""
 
     name = "xbar-s"
     title = "X-bar and S"
     sigma_estimator = "sd"
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
-        data = self.check(characteristic)
-        if typical_size(data.sizes) < 2:
-            raise ValueError("an X-bar and S chart needs at least two readings per subgroup; "
-                             "choose the individuals chart (i-mr)")
-        mu, sigma = params["mean"], params["sigma"]
-        n = _sizes_for_limits(data, 2)
+    def _spread(self, data: Measurements, n: np.ndarray, sigma: float) -> PlottedStatistic:
         k4 = _c4(n)
-        stats = [
-            shewhart_statistic("mean", "Subgroup mean", subgroup_means(data.values), mu,
-                               sigma / np.sqrt(_sizes_for_limits(data, 1))),
-            shewhart_statistic("sd", "Subgroup standard deviation", subgroup_sds(data.values), k4 * sigma,
-                               np.sqrt(1.0 - k4 * k4) * sigma, floor=0.0),
-        ]
-        return self._fit(characteristic, params, sigma_method, stats, typical_size(data.sizes))
+        return shewhart_statistic("sd", "Subgroup standard deviation", subgroup_sds(data.values), k4 * sigma,
+                                  np.sqrt(1.0 - k4 * k4) * sigma, floor=0.0)
 
 
 class IndividualsMR(_Variables):
@@ -184,10 +184,12 @@ class IndividualsMR(_Variables):
     sigma_estimator = "moving_range"
 
     def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], str]:
+        """As for every variables chart, after checking that each subgroup holds one reading."""
         individuals(self.check(characteristic))
         return super().estimate(characteristic, base)
 
     def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+        """The individuals at mu +/- 3 sigma and their moving ranges of two, with a floor at zero."""
         x = individuals(self.check(characteristic))
         mu, sigma = params["mean"], params["sigma"]
         stats = [

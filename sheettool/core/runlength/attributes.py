@@ -46,6 +46,7 @@ class CountModel:
 
     @property
     def mean0(self) -> float:
+        """The in-control mean count per subgroup: n times the rate."""
         return self.n * self.rate0
 
     @property

@@ -41,6 +41,7 @@ class OneSidedCusum(MarkovChart):
         self.centres = np.arange(self.cells) * self.width
 
     def transient(self, shift: float, sigma_ratio: float) -> tuple[np.ndarray, np.ndarray]:
+        """Q and start of one side's chain after a shift, from the normal cell probabilities (Brook and Evans 1972)."""
         # cell j (j >= 1) spans ((j - 1/2) w, (j + 1/2) w); cell 0 is everything below w / 2
         upper_edges = (np.arange(self.cells) + 0.5) * self.width
         cdf = stats.norm.cdf((upper_edges[None, :] - self.centres[:, None] + self.k - shift) / sigma_ratio)
@@ -144,6 +145,7 @@ class TwoSidedCusum(MarkovChart):
             self._start[index[state]] = weight
 
     def transient(self, shift: float, sigma_ratio: float) -> tuple[sparse.csc_matrix, np.ndarray]:
+        """Q (sparse) and start of the joint chain of both sums after a shift."""
         p = stats.norm.cdf((self._hi - shift) / sigma_ratio) - stats.norm.cdf((self._lo - shift) / sigma_ratio)
         q = sparse.csc_matrix((p, (self._rows, self._dest)), shape=(self.states, self.states))
         return q, self._start

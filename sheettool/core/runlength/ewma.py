@@ -60,6 +60,7 @@ class EwmaChart(MarkovChart):
         raise ValueError("the EWMA ARL did not converge; check lambda and L")
 
     def transient(self, shift: float, sigma_ratio: float) -> tuple[np.ndarray, np.ndarray]:
+        """Q and start of the integral equation discretized at the quadrature nodes, after a shift."""
         lam, x, w = self.lam, self.x, self.w
         scale = lam * sigma_ratio
         src = np.concatenate([[0.0], x])  # state 0 is the start, Z_0 = 0

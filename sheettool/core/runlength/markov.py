@@ -176,9 +176,11 @@ class WithCompanion(MarkovChart):
         self.method = chart.method
 
     def transient(self, shift: float, sigma_ratio: float) -> tuple[np.ndarray, np.ndarray]:
+        """The chart's Q scaled by the probability that the companion does not signal."""
         q, start = self.chart.transient(shift, sigma_ratio)
         return q * (1.0 - self.companion(shift, sigma_ratio)), start
 
     def in_control_chain(self) -> tuple[np.ndarray, np.ndarray]:
+        """The chart's in-control chain, scaled by the companion's in-control probability of no signal."""
         q, start = self.chart.in_control_chain()
         return q * (1.0 - self.companion(0.0, 1.0)), start

@@ -17,7 +17,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING
+from typing import Protocol
 
 import numpy as np
 
@@ -28,11 +28,9 @@ from sheettool.core.runlength.attributes import CountModel, attribute_chain
 from sheettool.core.runlength.ewma import EwmaChart
 from sheettool.core.runlength.markov import MarkovChart, RunLength, WithCompanion
 from sheettool.core.runlength.montecarlo import normal_sampler, simulate_run_lengths, summarize
+from sheettool.core.runlength.results import Performance, ShiftArl
 from sheettool.core.runlength.shewhart import geometric_arl, range_beyond_probability, sd_beyond_probability
 from sheettool.core.runlength.zones import MAX_STATES, TooManyStates, ZoneChain
-
-if TYPE_CHECKING:
-    from sheettool.evaluation import EvaluationOptions, Performance
 
 VARIABLES = ("xbar", "xbar-r", "xbar-s", "individuals", "i-mr")
 ATTRIBUTES = ("p", "np", "c", "u")
@@ -241,10 +239,16 @@ def scheme_of(fit: ChartFit, rules: list[Rule]) -> Scheme:
     )
 
 
-def performance_of(fit: ChartFit, rules: list[Rule], options: EvaluationOptions) -> Performance:
-    """How the scheme in use behaves: ARL (and its spread) in control and at options.shifts."""
-    from sheettool.evaluation import Performance, ShiftArl  # the result types live with the evaluation
+class PerformanceOptions(Protocol):
+    """What `performance_of` reads from the evaluation's options (`EvaluationOptions` has these fields)."""
 
+    shifts: tuple[float, ...]
+    interval_hours: float | None
+    hours_per_month: float | None
+
+
+def performance_of(fit: ChartFit, rules: list[Rule], options: PerformanceOptions) -> Performance:
+    """How the scheme in use behaves: ARL (and its spread) in control and at options.shifts."""
     scheme = scheme_of(fit, rules)
     shifts = [0.0, *dict.fromkeys(float(s) for s in options.shifts if float(s) != 0.0)]
     attribute = scheme.chart in ATTRIBUTES
@@ -274,8 +278,6 @@ def performance_of(fit: ChartFit, rules: list[Rule], options: EvaluationOptions)
         false_alarms_per_month=per_month,
         curve=[row(s, c, rl) for s, c, rl in zip(CURVE_SHIFTS, curve.conditions, curve.results, strict=True)],
         shift_unit="standard errors of the plotted rate, upward" if attribute else "process standard deviations",
-        sdrl_in_control=rows[0].sdrl,
-        steady_state_arl_in_control=rows[0].steady_state_arl,
     )
 
 

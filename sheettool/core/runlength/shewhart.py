@@ -12,16 +12,6 @@ from scipy import stats
 from sheettool.core.constants import constants, range_cdf
 
 
-def mean_beyond_probability(shift: np.ndarray | float, n: int = 1, k: float = 3.0,
-                            sigma_ratio: float = 1.0) -> np.ndarray:
-    """P(a subgroup mean falls beyond center +/- k standard errors) after a mean shift.
-
-    shift is in process sigmas; the standardized shift of a mean of n readings is shift * sqrt(n).
-    """
-    d = np.asarray(shift, dtype=float) * np.sqrt(n)
-    return stats.norm.sf((k - d) / sigma_ratio) + stats.norm.cdf((-k - d) / sigma_ratio)
-
-
 def range_beyond_probability(n: int, sigma_ratio: float = 1.0, k: float = 3.0) -> float:
     """P(a subgroup range falls beyond the R chart's limits when sigma is multiplied by sigma_ratio.
 
@@ -51,10 +41,3 @@ def geometric_arl(p: np.ndarray | float) -> np.ndarray:
     with np.errstate(divide="ignore"):
         return np.where(p > 0, 1.0 / p, np.inf)
 
-
-def either_signals(*probabilities: np.ndarray | float) -> np.ndarray:
-    """P(at least one of several independent charts signals on the same subgroup)."""
-    stay = np.ones_like(np.asarray(probabilities[0], dtype=float))
-    for p in probabilities:
-        stay = stay * (1.0 - np.asarray(p, dtype=float))
-    return 1.0 - stay

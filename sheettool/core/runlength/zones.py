@@ -86,6 +86,7 @@ class ZoneChain(MarkovChart):
         return self._cell_probabilities(self.cuts, shift, sigma_ratio)
 
     def transient(self, shift: float, sigma_ratio: float) -> tuple[sparse.csc_matrix, np.ndarray]:
+        """Q (sparse) and start of the zone chain after a shift, from the cell probabilities."""
         # each state has at most one successor per cell: Q is sparse (duplicates are summed)
         p = self.cell_probabilities(shift, sigma_ratio)
         b = self.states
@@ -95,6 +96,7 @@ class ZoneChain(MarkovChart):
         return q, start
 
     def in_control_chain(self) -> tuple[sparse.csc_matrix, np.ndarray]:
+        """The chain at the in-control condition."""
         return self.transient(*self.in_control)
 
 
