@@ -17,13 +17,13 @@ from sheettool.workbook.reader.labels import SettingsSheet, labelled_settings
 
 
 def _book(path: Path, labels: list[tuple[str, object]], header: list[str], rows: list[list[float]],
-          settings: list[list[object]] | None = None, sheet: str = "Data") -> Path:
-    """A sheet with labelled cells in D:E above its header (and optionally a settings sheet)."""
+          settings: list[list[object]] | None = None, sheet: str = "Data", column: int = 3) -> Path:
+    """A sheet with labelled cells (in D:E unless `column` says) above its header, optionally a settings sheet."""
     book = xlsxwriter.Workbook(str(path))
     ws = book.add_worksheet(sheet)
     for r, (label, value) in enumerate(labels):
-        ws.write(r, 3, label)
-        ws.write(r, 4, value)
+        ws.write(r, column, label)
+        ws.write(r, column + 1, value)
     top = len(labels) + 1
     ws.write_row(top, 0, header)
     for r, row in enumerate(rows, start=top + 1):
@@ -71,9 +71,17 @@ def test_every_requirement_is_a_known_setting():
 
 
 def test_a_work_shift_above_the_header_is_no_requirement():
-    rows = [["Shift", "B", "Shift: 2"], ["Shift to detect (sigma)", 1.5]]
+    rows = [["Shift", "B", "Shift: 2", "Mean: 12.003"], ["Shift to detect (sigma)", 1.5]]
     found = labelled_settings("Line", rows, 2)
     assert set(found) == {"shift"} and found["shift"].origin == "'Line'!B2"
+
+
+def test_text_labels_above_a_numeric_table_in_the_same_columns_leave_the_header_in_place(run_cli, tmp_path):
+    path = _book(tmp_path / "ab.xlsx", [("Part number", "HA-220"), ("Chart", "ewma"), ("EWMA lambda", 0.25)],
+                 ["Lot", "Force"], _individuals(), column=0)
+    char = _one(run_cli, path, tmp_path)
+    assert char["read"]["header_row"] == 5 and char["subgroups"] == 40
+    assert char["chart"] == "ewma" and char["settings"]["lambda"]["origin"] == "'Data'!B3"
 
 
 @pytest.mark.parametrize(("name", "raw", "value"), [

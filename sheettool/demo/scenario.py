@@ -64,15 +64,14 @@ def bore_rows() -> list[list[object]]:
 
 
 def leak_rows() -> list[list[object]]:
-    """Shift rows: date, shift, fittings tested, fittings that failed the leak test, note."""
+    """Shift rows: shift start, shift name, fittings tested, fittings that failed the leak test, note."""
     rng = np.random.default_rng(LEAK_SEED)
     rows: list[list[object]] = []
     for i in range(LEAK_SHIFTS):
         tested = int(rng.integers(LEAK_TESTED[0], LEAK_TESTED[1] + 1))
         rate = LEAK_RISEN if i + 1 >= LEAK_RISE_AT else LEAK_RATE
         note = "seal press: die change overdue" if i + 1 == LEAK_RISE_AT else ""
-        day = START.date() + dt.timedelta(days=i // 3)
-        rows.append([dt.datetime.combine(day, dt.time()), SHIFT_NAMES[i % 3], tested,
+        rows.append([START + dt.timedelta(hours=8 * i), SHIFT_NAMES[i % 3], tested,
                      int(rng.binomial(tested, rate)), note])
     return rows
 
@@ -104,7 +103,7 @@ def write_demo(path: Path) -> None:
     bold = book.add_format({"bold": True})
     when = book.add_format({"num_format": "yyyy-mm-dd hh:mm"})
     _bore_sheet(book.add_worksheet("Bore diameter"), bold, when)
-    _leak_sheet(book.add_worksheet("Leak test"), bold, book.add_format({"num_format": "yyyy-mm-dd"}))
+    _leak_sheet(book.add_worksheet("Leak test"), bold, when)
     _crimp_sheet(book.add_worksheet("Crimp force"), bold, when)
     book.close()
 
@@ -135,16 +134,16 @@ def _bore_sheet(ws: xlsxwriter.worksheet.Worksheet, bold: xlsxwriter.format.Form
 
 
 def _leak_sheet(ws: xlsxwriter.worksheet.Worksheet, bold: xlsxwriter.format.Format,
-                day: xlsxwriter.format.Format) -> None:
+                when: xlsxwriter.format.Format) -> None:
     ws.merge_range(0, 0, 0, 4, "Brackwater Hydraulics (fictional) - HF-220 leak test at 250 bar", bold)
     labelled = [("Part number", "HF-220"), ("Characteristic", "leak at 250 bar"),
                 ("Sampling interval (h)", 8), ("Hours per month", HOURS_PER_MONTH),
                 ("Base period", f"first {LEAK_BASE}")]
     _labels(ws, bold, 0, labelled)
     top = len(labelled) + 2
-    ws.write_row(top, 0, ["Date", "Shift", "Fittings tested", "Failed leak test", "Note"], bold)
+    ws.write_row(top, 0, ["Shift start", "Shift", "Fittings tested", "Failed leak test", "Note"], bold)
     for r, row in enumerate(leak_rows(), start=top + 1):
-        ws.write_datetime(r, 0, row[0], day)
+        ws.write_datetime(r, 0, row[0], when)
         ws.write_string(r, 1, row[1])
         ws.write_number(r, 2, row[2])
         ws.write_number(r, 3, row[3])
