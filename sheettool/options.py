@@ -11,13 +11,15 @@ import re
 from typing import Any
 
 from sheettool.core.charts import CHART_KINDS
+from sheettool.core.design import REQUIREMENT_KEYS, Requirements
 from sheettool.core.rules import parse_rules
 from sheettool.evaluation import EvaluationOptions
-from sheettool.settings import KNOWN_SETTINGS, Setting, label_key
+from sheettool.settings import KNOWN_SETTINGS, MINUTE_FORMS, Setting, label_key
 from sheettool.typed_text import number_text
 
 _NUMBERS = {"lsl", "usl", "target", "interval_hours", "hours_per_month", "mean", "sigma", "p0", "c0",
-            "lambda", "L", "k", "h", "confidence"}
+            "lambda", "L", "k", "h", "confidence", *REQUIREMENT_KEYS}
+_IN_HOURS = {"interval_hours", "detect_hours"}  # a value may say "30 min"
 _TEXTS = {"unit", "part", "limits_from"}
 _WITH_UNIT = re.compile(r"^\s*([+-]?[\d.,]+(?:[eE][+-]?\d+)?)\s*([A-Za-zµμ°%/]{0,8})\s*$")
 _MINUTES = {"min", "mins", "minute", "minutes", "m"}
@@ -30,6 +32,8 @@ _DEFAULTS_SHOWN = {"chart": "chart", "rules": "rules", "lsl": "lsl", "usl": "usl
                    "hours_per_month": "hours_per_month", "confidence": "confidence", "revise": "revise"}
 _FIELDS = {"lambda": "ewma_lambda", "L": "ewma_L", "k": "cusum_k", "h": "cusum_h"}
 _STANDARDS = {"mean", "sigma", "p0", "c0"}
+_ALTERNATIVES = (("shift", "shift_units", "give the shift to detect in process standard deviations or in the "
+                  "characteristic's unit, not both"),)  # one or the other, never both
 
 
 def _number(setting: Setting) -> tuple[float, str]:
@@ -50,21 +54,26 @@ def _number(setting: Setting) -> tuple[float, str]:
 def convert(setting: Setting) -> Setting:
     """The setting with its value checked and converted (numbers, chart name, rules, yes/no)."""
     name, value, origin = setting.name, setting.value, setting.origin
-    if name == "interval_minutes":
+    if name in MINUTE_FORMS:
         minutes, _ = _number(setting)
-        return convert(Setting("interval_hours", minutes / 60.0, origin))
+        return convert(Setting(MINUTE_FORMS[name], minutes / 60.0, origin))
     if name in _NUMBERS:
         number, unit = _number(setting)
-        if name == "interval_hours" and unit in _MINUTES:
+        if name in _IN_HOURS and unit in _MINUTES:
             number /= 60.0
-        elif name == "interval_hours" and unit not in _HOURS:
-            raise ValueError(f"{origin}: sampling interval '{value}': give hours (h) or minutes (min)")
+        elif name in _IN_HOURS and unit not in _HOURS:
+            raise ValueError(f"{origin}: {KNOWN_SETTINGS[name]} '{value}': give hours (h) or minutes (min)")
         if name == "confidence" and 1.0 < number < 100.0:
             number /= 100.0  # "95" or "95 %"
         if name in ("interval_hours", "hours_per_month", "sigma", "lambda", "L", "h") and number <= 0:
             raise ValueError(f"{origin}: {KNOWN_SETTINGS[name]} must be greater than zero, not '{value}'")
         if name in ("confidence", "lambda", "p0") and not 0.0 < number < 1.0 + (name == "lambda"):
             raise ValueError(f"{origin}: {KNOWN_SETTINGS[name]} must lie between 0 and 1, not '{value}'")
+        if name in REQUIREMENT_KEYS:
+            try:  # the checks of the design's requirements, said with the cell
+                Requirements(**{name: number})
+            except ValueError as exc:
+                raise ValueError(f"{origin}: {KNOWN_SETTINGS[name]}: {exc}") from None
         return Setting(name, number, origin)
     if name == "subgroup_size":
         number, _ = _number(setting)
@@ -96,12 +105,20 @@ def convert(setting: Setting) -> Setting:
 
 
 def merge(*layers: dict[str, Setting]) -> dict[str, Setting]:
-    """Later layers win; every value converted (so a bad value anywhere in use is reported)."""
+    """Later layers win; every value converted (so a bad value anywhere in use is reported). A setting
+    also replaces its alternative from an earlier layer (the shift in sigmas or in units)."""
     merged: dict[str, Setting] = {}
     for layer in layers:
-        for setting in layer.values():
-            converted = convert(setting)
-            merged[converted.name] = converted
+        converted = [convert(setting) for setting in layer.values()]
+        names = {s.name: s for s in converted}
+        for one, other, words in _ALTERNATIVES:
+            if one in names and other in names:
+                raise ValueError(f"{names[one].origin} and {names[other].origin}: {words}")
+        for setting in converted:
+            for one, other, _ in _ALTERNATIVES:
+                if setting.name in (one, other):
+                    merged.pop(other if setting.name == one else one, None)
+            merged[setting.name] = setting
     return merged
 
 
@@ -117,9 +134,12 @@ def options_for(sheet_read: Any, workbook_settings: Any, cli_settings: dict[str,
     options = EvaluationOptions()
     kwargs: dict[str, Any] = {}
     standard: dict[str, float] = {}
+    requirements: dict[str, float] = {}
     for name, setting in used.items():
         if name in _STANDARDS:
             standard[name] = setting.value  # type: ignore[assignment]
+        elif name in REQUIREMENT_KEYS:
+            requirements[name] = setting.value  # type: ignore[assignment]
         elif name in _FIELDS:
             kwargs[_FIELDS[name]] = setting.value
         elif hasattr(options, name):
@@ -132,6 +152,8 @@ def options_for(sheet_read: Any, workbook_settings: Any, cli_settings: dict[str,
                          f"({lsl:g}) must be below the upper ({usl:g})")
     if standard:
         kwargs["standard"] = standard
+    if requirements:
+        kwargs["requirements"] = requirements
     for key, value in kwargs.items():
         setattr(options, key, value)
     return options, dict(sorted(used.items()))

@@ -43,11 +43,20 @@ KNOWN_SETTINGS: dict[str, str] = {
     "revise": "drop signalling base points and recompute the limits (yes/no)",
 }
 KNOWN_SETTINGS["part"] = "part number or name, as written above the header"
+# What the monitoring scheme must achieve (the keys of sheettool.core.design.REQUIREMENT_KEYS).
+KNOWN_SETTINGS.update({
+    "arl_in_control": "required in-control ARL (points between false alarms, at least)",
+    "false_alarms_per_month": "allowed false alarms per month (at most)",
+    "shift": "shift to detect (process standard deviations)",
+    "shift_units": "shift to detect (in the characteristic's unit)",
+    "detect_arl": "required ARL at the shift to detect (points, at most)",
+    "detect_hours": "time to detect the shift (hours, at most)",
+})
 
 # Words a technician may write for a setting, after `label_key` (lower case, letters and digits
 # only). The canonical names map to themselves, so "LSL", "lsl" and "L.S.L." all find "lsl".
 SYNONYMS: dict[str, str] = {
-    **{name.lower(): name for name in KNOWN_SETTINGS},
+    **{"".join(ch for ch in name.lower() if ch.isalnum()): name for name in KNOWN_SETTINGS},  # as label_key
     # Not "min"/"max", "upper limit" or "tolerance": above a header those are often observed
     # extremes, control limits or deviations from nominal, not specification limits.
     "lowerspec": "lsl", "lowerspeclimit": "lsl", "lowerspecification": "lsl",
@@ -71,7 +80,27 @@ SYNONYMS: dict[str, str] = {
     "partnumber": "part", "partno": "part", "partnr": "part", "partname": "part", "partid": "part",
     "ewmalambda": "lambda", "ewmaweight": "lambda", "ewmal": "L", "cusumk": "k", "cusumh": "h",
     "standardmean": "mean", "standardsigma": "sigma", "confidencelevel": "confidence",
+    # Requirements. A plain "Shift" is no label (above a header it is usually the work shift).
+    "requiredincontrolarl": "arl_in_control", "incontrolarlatleast": "arl_in_control",
+    "incontrolarl": "arl_in_control", "minimumincontrolarl": "arl_in_control", "requiredarl0": "arl_in_control",
+    "falsealarmspermonthatmost": "false_alarms_per_month", "allowedfalsealarmspermonth": "false_alarms_per_month",
+    "falsealarmspermonth": "false_alarms_per_month", "maxfalsealarmspermonth": "false_alarms_per_month",
+    "shifttodetect": "shift", "shiftthatmatters": "shift", "shifttodetectsigma": "shift",
+    "shifttodetectsd": "shift", "shiftinsigma": "shift",
+    "shifttodetectunits": "shift_units", "shiftthatmattersunits": "shift_units", "shiftinunits": "shift_units",
+    "requiredarlatshift": "detect_arl", "detectwithinpoints": "detect_arl", "arlatshiftatmost": "detect_arl",
+    "arlatshift": "detect_arl",
+    "detectwithinhours": "detect_hours", "timetodetect": "detect_hours", "timetodetecth": "detect_hours",
+    "hourstodetect": "detect_hours", "timetodetecthours": "detect_hours",
+    "detectwithinminutes": "detect_minutes", "timetodetectmin": "detect_minutes",
+    "timetodetectminutes": "detect_minutes",
 }
+# Label forms with a value in minutes, converted to the hours setting by the reader of the setting.
+MINUTE_FORMS: dict[str, str] = {"interval_minutes": "interval_hours", "detect_minutes": "detect_hours"}
+# A setting in process standard deviations whose label names another unit in brackets ("Shift to detect (mm)")
+# means the same in the characteristic's unit.
+_IN_UNITS: dict[str, str] = {"shift": "shift_units"}
+_SIGMA_WORDS = {"sigma", "sigmas", "sd", "σ", "standarddeviations", "standarddeviation", "s"}
 
 
 def label_key(text: str) -> str:
@@ -81,11 +110,15 @@ def label_key(text: str) -> str:
 
 
 def setting_name(label: str) -> str | None:
-    """The canonical setting a label names, or None. "interval_minutes" is a label form only: its
-    value is converted to interval_hours by the reader of the setting."""
+    """The canonical setting a label names, or None. The MINUTE_FORMS names are label forms only: their
+    value is converted to hours by the reader of the setting."""
     key = label_key(label)
     if key in SYNONYMS:
         return SYNONYMS[key]
     # A unit in brackets after the words, e.g. "USL (mm)": match the words alone.
-    bare = label_key(label.split("(")[0].split("[")[0])
-    return SYNONYMS.get(bare) if bare else None
+    words, _, unit = label.replace("[", "(").partition("(")
+    bare = label_key(words)
+    name = SYNONYMS.get(bare) if bare else None
+    if name in _IN_UNITS and label_key(unit) not in _SIGMA_WORDS:
+        return _IN_UNITS[name]
+    return name

@@ -161,7 +161,7 @@ def test_evaluate_json_has_estimated_limits_data_shape_and_requirements(tmp_path
     before = sha256(BUNDLED)
     doc = report_json(evaluate_file(BUNDLED, tmp_path / "out.xlsx"))
     assert sha256(BUNDLED) == before
-    (char,) = doc["characteristics"]
+    char = next(c for c in doc["characteristics"] if c["sheet"] == "Bore diameter")
     est = char["estimated_limits"]
     assert set(est) == {"carl_mean", "carl_sd", "carl_p10", "carl_p50", "adjusted_factor", "subgroups_needed",
                         "sentence", "method"}
@@ -169,9 +169,10 @@ def test_evaluate_json_has_estimated_limits_data_shape_and_requirements(tmp_path
     shape = char["data_shape"]
     assert set(shape) == {"family", "arl_normal", "arl_shape", "r1", "significant", "arl_ar1", "warnings", "method"}
     assert (shape["arl_ar1"] is None) == (not shape["significant"])
-    assert char["requirements"] is None  # the demo workbook sets no requirements
-    # the same demo characteristic with requirements in its options
-    (sheet,) = read_workbook(BUNDLED).sheets
+    # the demo's labelled cells ask for at most 3 false alarms a month and a 0.015 mm shift caught within 2 h
+    assert {i["name"] for i in char["requirements"]["items"]} == {"false_alarms_per_month", "detect_hours"}
+    # the same demo characteristic with other requirements in its options
+    sheet = next(s for s in read_workbook(BUNDLED).sheets if s.sheet == "Bore diameter")
     options = EvaluationOptions(requirements={"arl_in_control": 370.4, "shift": 1.0, "detect_hours": 2.0},
                                 interval_hours=1.0, hours_per_month=400.0)
     result = evaluate(sheet.characteristic, sheet.sheet, options)

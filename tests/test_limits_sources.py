@@ -111,7 +111,7 @@ def test_carried_limits_round_trip(tmp_path):
     evaluated = tmp_path / "november-evaluated.xlsx"
     first = evaluate_file(november, evaluated, _settings(limits_from="first 20"))
     entries = read_limits_block(evaluated)
-    assert set(entries) == {"Bore diameter"}
+    assert set(entries) == {"Bore diameter", "Leak test", "Crimp force"}  # the demo's three sheets
     december = tmp_path / "december.xlsx"
     write_demo(december)
     _next_month(december, seed=99)
@@ -160,7 +160,7 @@ def test_cli_limits_from(run_cli, tmp_path):
     _next_month(december, seed=7)
     out = run_cli("evaluate", december, "-o", tmp_path / "dec.xlsx", "--limits-from", evaluated, "--json")
     assert out.code == 0, out.err
-    (char,) = out.json["characteristics"]
+    char = next(c for c in out.json["characteristics"] if c["sheet"] == "Bore diameter")
     assert char["limits_source"].startswith("carried from nov-evaluated.xlsx")
     assert char["base_subgroups"] == []
     # a sheet the block does not know: its own base period and a problem saying so
@@ -220,6 +220,10 @@ def _settings(**values: object) -> dict[str, Setting]:
 def test_bad_settings_give_a_clear_input_error(tmp_path, options, words):
     path = tmp_path / "in.xlsx"
     write_demo(path)
+    book = openpyxl.load_workbook(path)  # the bore sheet alone, so that nothing else can be evaluated
+    for name in book.sheetnames[1:]:
+        del book[name]
+    book.save(path)
     before = sha256(path)
     with pytest.raises(InputError) as err:
         evaluate_file(path, tmp_path / "out.xlsx", options)

@@ -54,7 +54,10 @@ def test_pack_rows_errors_and_exit_code(run_cli, folder, tmp_path):
     result = run_cli("pack", folder, "-o", out, "--json", "--jobs", "2")
     assert result.code == 5, result.err  # written, but some inputs failed (documented in README)
     data = result.json
-    assert [c["source"] for c in data["characteristics"]] == ["bore.xlsx", "line 2/shaft.xlsx"]
+    # the demo's three sheets in their order, then the shaft workbook
+    assert [(c["source"], c["sheet"]) for c in data["characteristics"]] == [
+        ("bore.xlsx", "Bore diameter"), ("bore.xlsx", "Leak test"), ("bore.xlsx", "Crimp force"),
+        ("line 2/shaft.xlsx", "Shaft")]
     failed = {f["source"]: f["message"] for f in data["failed"]}
     assert set(failed) == {"corrupt.xlsx", "empty.xlsx", "mislabelled.xlsx"}
     assert "corrupt.xlsx" in failed["corrupt.xlsx"]
@@ -65,13 +68,13 @@ def test_pack_rows_errors_and_exit_code(run_cli, folder, tmp_path):
     summary = list(book["Review summary"].iter_rows(values_only=True))
     header = next(i for i, r in enumerate(summary) if r[0] == "Source file")
     rows = [r for r in summary[header + 1:] if r[0]]
-    assert len(rows) == 5  # one per characteristic plus one per bad input
+    assert len(rows) == 7  # one per characteristic (4) plus one per bad input (3)
     # The summary's numbers equal the per-characteristic JSON.
     for char in data["characteristics"]:
-        row = next(r for r in rows if r[0] == char["source"])
+        row = next(r for r in rows if (r[0], r[1]) == (char["source"], char["sheet"]))
         assert row[5] == len(char["signals"])
         assert row[10] == pytest.approx(char["performance"]["arl_in_control"], rel=1e-12)
-        cpk = char["capability"]["cpk"] if char["capability"] else None
+        cpk = (char["capability"] or {}).get("cpk")  # an attribute chart has a rate, no Cpk
         assert row[7] == (pytest.approx(cpk, rel=1e-12) if cpk is not None else None)
         assert row[12] == char["summary"]["status"]
     # Each characteristic row links to its evaluation tab.

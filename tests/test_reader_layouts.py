@@ -194,7 +194,7 @@ def test_verbose_line_and_read_block(run_cli, demo_copy, tmp_path):
     assert result.code == 0
     line = result.err.splitlines()[0]
     assert "sheet 'Bore diameter': subgroups across" in line and "30 subgroups" in line and "150 readings" in line
-    (char,) = result.json["characteristics"]
+    char = next(c for c in result.json["characteristics"] if c["sheet"] == "Bore diameter")
     read = char["read"]
     assert read["layout"] == "subgroups across" and read["subgroups"] == 30 and read["readings"] == 150
     assert read["columns"]["C"] == "measurement (Part 1)"

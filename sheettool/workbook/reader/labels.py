@@ -24,8 +24,9 @@ from sheettool.workbook.reader.cells import address
 
 SETTINGS_SHEET = "settings"
 # Above a header a plain "Mean" or "Sigma" is usually the observed statistic, "k" or "h" a stray
-# letter: there they must be written "standard mean", "standard sigma", "CUSUM k" and so on.
-_NOT_IN_CELLS = {"mean", "sigma", "k", "h", "l", "lambda"}
+# letter, "Shift" the work shift: there they must be written "standard mean", "standard sigma",
+# "CUSUM k", "shift to detect" and so on.
+_NOT_IN_CELLS = {"mean", "sigma", "k", "h", "l", "lambda", "shift"}
 _INLINE = re.compile(r"^\s*([^:=]{1,40}?)\s*[:=]\s*(\S.*?)\s*$")
 _SECTION = re.compile(r"^\s*(?:\[(.+)\]|sheet\s*:\s*(.+?))\s*$", re.IGNORECASE)
 
@@ -55,7 +56,8 @@ def labelled_settings(title: str, rows: list[list[object]], above: int) -> dict[
             if not isinstance(value, str) or len(value) > 60:
                 continue
             inline = _INLINE.match(value)
-            if inline and (name := setting_name(inline.group(1))) is not None:
+            if inline and (name := setting_name(inline.group(1))) is not None \
+                    and label_key(inline.group(1)) not in _NOT_IN_CELLS:
                 setting = Setting(name, inline.group(2), address(title, r + 1, c + 1))
                 if _converts(setting):  # a title such as "Target: monthly review" is no setting
                     found.setdefault(name, setting)

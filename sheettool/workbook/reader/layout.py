@@ -1,11 +1,13 @@
 """Find a sheet's header, its data rows and the meaning of each column; build the Characteristic.
 
 Header: among the rows holding text and no number, the one with the most numbers below it under
-its text cells (ties go to the lower row, nearest the data); a row of units ("mm", "(µm)") right
-under the header is recognised as such. Column meaning comes from the cells (numbers, dates, text)
-and the header words; the layout from the columns: a count column and an inspected column make
-attribute counts, two or more measurement columns subgroups across, one measurement column with a
-repeating key (lot, sample, date) readings down, otherwise individuals.
+its text cells, counted down to the next text cell in the column that is not a unit word (so a
+label row above the header does not claim the data; ties go to the lower row, nearest the data).
+A row of units ("mm", "(µm)") right under the header is recognised as such. Column meaning comes
+from the cells (numbers, dates, text) and the header words; the layout from the columns: a count
+column and an inspected column make attribute counts, two or more measurement columns subgroups
+across, one measurement column with a repeating key (lot, sample, date) readings down, otherwise
+individuals.
 """
 
 from __future__ import annotations
@@ -99,6 +101,21 @@ def _grid(rows: list[list[object]], width: int) -> tuple[np.ndarray, np.ndarray]
     return kinds, numbers
 
 
+def _numbers_below(text: np.ndarray, number: np.ndarray, rows: list[list[object]]) -> np.ndarray:
+    """Per cell, the numbers below it in its column down to the next heading-like text cell: a label
+    row above the header ("Part number | HF-220") counts only the values of the labels under it, not
+    the data below the real header. Text further down than _HEADER_ROWS and unit words never stop it."""
+    m, width = number.shape
+    stops = np.zeros_like(text)
+    for r, c in zip(*np.nonzero(text[:_HEADER_ROWS]), strict=True):
+        value = rows[r][c] if c < len(rows[r]) else None
+        stops[r, c] = not (isinstance(value, str) and UNIT_WORD.match(value.strip()))
+    after = np.vstack([np.cumsum(number[::-1], axis=0)[::-1], np.zeros((1, width), dtype=np.int64)])  # rows r..end
+    index = np.where(stops, np.arange(m)[:, None], m)
+    next_stop = np.vstack([np.minimum.accumulate(index[::-1], axis=0)[::-1][1:], np.full((1, width), m)])
+    return after[1:] - np.take_along_axis(after, next_stop, 0)
+
+
 def _header(kinds: np.ndarray, numbers: np.ndarray, rows: list[list[object]]) -> tuple[int | None, int | None]:
     """(header index, units-row index) 0-based, by the rule in the module docstring. Column headings
     typed as the numbers 1, 2, 3, ... beside a text heading count as text."""
@@ -108,9 +125,7 @@ def _header(kinds: np.ndarray, numbers: np.ndarray, rows: list[list[object]]) ->
         if found.size >= 2 and np.array_equal(found, np.arange(1, found.size + 1)):
             text[i] |= number[i]
             number[i] = False
-    below = np.cumsum(number[::-1], axis=0)[::-1]  # numbers at or below each cell
-    below = np.vstack([below[1:], np.zeros((1, kinds.shape[1]), dtype=below.dtype)])
-    score = np.where(text.any(axis=1) & ~number.any(axis=1), (text * below).sum(axis=1), 0)
+    score = np.where(text.any(axis=1) & ~number.any(axis=1), (text * _numbers_below(text, number, rows)).sum(axis=1), 0)
     if score.size == 0 or score.max() == 0:
         return None, None
     best = int(np.flatnonzero(score == score.max())[-1])
