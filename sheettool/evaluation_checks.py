@@ -9,6 +9,7 @@ from functools import lru_cache
 from typing import TYPE_CHECKING
 
 import numpy as np
+from scipy import stats
 
 from sheettool.core.charts import ChartFit
 from sheettool.core.data import Characteristic, Measurements
@@ -29,6 +30,9 @@ _SIGMA_KEYS = (("R-bar / d2", "range"), ("mean of R / d2(n)", "range"), ("S-bar 
 _SHEWHART_VARIABLES = ("xbar-r", "xbar-s", "i-mr")
 # the report depends on (m, n, estimator, target) only: one computation per base-period shape (results are read-only)
 _estimated_limits_report = lru_cache(maxsize=256)(estimated_limits_report)
+# Limits "meet" the target when their in-control ARL is at least 90% of it: the exceedance criterion of Goedhart,
+# Schoonhoven and Does (2017) with a tolerance; with none, no finite base period reaches even the known-parameter ARL.
+ASSURANCE_TOLERANCE = 0.1
 
 
 @dataclass
@@ -76,8 +80,20 @@ def _estimated(fit: ChartFit, options: EvaluationOptions) -> EstimatedLimitsRepo
         return None
     if not fit.base.any():
         return None
-    target = float(options.requirements.get("arl_in_control", 370.4))  # the target in use, else 3-sigma's
-    return _estimated_limits_report(int(fit.base.sum()), int(fit.subgroup_size), key, target=target)
+    return _estimated_limits_report(int(fit.base.sum()), int(fit.subgroup_size), key,
+                                    target=_in_control_target(options), tolerance=ASSURANCE_TOLERANCE)
+
+
+def _in_control_target(options: EvaluationOptions) -> float:
+    """The in-control ARL the limits should give: a required ARL, else the one implied by a false-alarms-per-month
+    requirement with the sampling interval and production hours, else that of 3-sigma limits with known mean and
+    sigma, 1 / (2 Phi(-3)) = 370.4 (common practice)."""
+    req = options.requirements
+    if "arl_in_control" in req:
+        return float(req["arl_in_control"])
+    if "false_alarms_per_month" in req and options.interval_hours and options.hours_per_month:
+        return options.hours_per_month / (options.interval_hours * float(req["false_alarms_per_month"]))
+    return float(1.0 / (2.0 * stats.norm.sf(3.0)))
 
 
 def _shape(characteristic: Characteristic, fit: ChartFit) -> DataShapeReport | None:
