@@ -18,6 +18,7 @@ from sheettool.workbook.writer import cells, charts, formulas
 from sheettool.workbook.writer.data_tab import DataLayout
 from sheettool.workbook.writer.methods import method
 from sheettool.workbook.writer.notes_tab import CAUTION
+from sheettool.workbook.writer.performance_tab import shift_heading
 from sheettool.workbook.writer.trust_block import has_checks, write_trust_block
 
 LIMIT_KEYS = (("center", "Center line"), ("lcl", "LCL"), ("ucl", "UCL"))
@@ -335,7 +336,7 @@ def _performance(rows: _Rows, result: CharacteristicResult, links: Links) -> Non
         ws.write_string(rows.row, 1, "sampling interval not given")
     rows.row += 1
     rows.row += 1
-    rows.head(["Mean shift (sigma)", "ARL (points)", "ATS (hours)", "", ""], (0, 1, 2))
+    rows.head([shift_heading(perf), "ARL (points)", "ATS (hours)", "", ""], (0, 1, 2))
     for s in perf.shifts:
         cells.number(ws, rows.row, 0, s.shift, fmt["dec2"])
         cells.number(ws, rows.row, 1, s.arl, fmt["arl"])

@@ -7,6 +7,7 @@ from __future__ import annotations
 import math
 from typing import Any
 
+from sheettool.core.runlength.results import Performance
 from sheettool.evaluation import CharacteristicResult
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells, charts
@@ -37,7 +38,7 @@ def write_performance_tab(book: Any, ws: Any, fmt: dict[str, Any], results: list
         ws.write_url(top, col, cells.internal_link(tab), fmt["link"], string=result.characteristic.name)
         ws.merge_range(top + 1, col, top + 1, col + 2, "", fmt["wrap"])
         ws.write_string(top + 1, col, perf.method, fmt["wrap"])
-        for c, h in enumerate(("Mean shift (sigma)", "ARL (points)", "ATS (hours)")):
+        for c, h in enumerate((shift_heading(perf), "ARL (points)", "ATS (hours)")):
             ws.write_string(top + 2, col + c, h, fmt["head"])
         first = top + 3
         for r, s in enumerate(grid, start=first):
@@ -55,3 +56,10 @@ def write_performance_tab(book: Any, ws: Any, fmt: dict[str, Any], results: list
     ws.set_row(top + 2, 30)
     ws.insert_chart(chart_row, 0, charts.arl_chart(book, series, largest, widest), {"x_offset": 4})
     cells.print_setup(ws, "scheme performance")
+
+
+def shift_heading(perf: Performance) -> str:
+    """The shift column's heading in the unit the scheme's shifts are measured in."""
+    if perf.shift_unit == "process standard deviations":
+        return "Mean shift (sigma)"
+    return "Rate shift (standard errors)"
