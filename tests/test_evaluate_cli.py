@@ -122,3 +122,16 @@ def test_bundled_demo_matches_generator(tmp_path):
     write_demo(fresh)
     rows = [list(openpyxl.load_workbook(p).active.iter_rows(values_only=True)) for p in (BUNDLED, fresh)]
     assert rows[0] == rows[1]
+
+
+def test_output_is_an_ordinary_file_not_a_private_one(run_cli, demo_copy, tmp_path):
+    # The temporary file is private while it is written; the finished output follows the umask like any new
+    # file, so colleagues on a shared drive can open it (common practice for tools writing user files).
+    import os
+    import stat
+
+    out = tmp_path / "shared.xlsx"
+    assert run_cli("evaluate", demo_copy, "-o", out).code == 0
+    mask = os.umask(0)
+    os.umask(mask)
+    assert stat.S_IMODE(out.stat().st_mode) == 0o666 & ~mask

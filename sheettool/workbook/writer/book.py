@@ -38,6 +38,16 @@ class WriterOptions:
     timestamp: dt.datetime | None = None
 
 
+def _plain_file_mode() -> int:
+    """The mode a newly created file gets under this process's umask (0o666 less the umask)."""
+    mask = os.umask(0)
+    os.umask(mask)
+    return 0o666 & ~mask
+
+
+_PLAIN_FILE_MODE = _plain_file_mode()
+
+
 def write_atomically(path: Path, build: Callable[[str], None], protect: Path | None = None) -> None:
     """Build a workbook into a temporary file beside `path`, then rename it into place."""
     path = Path(path)
@@ -53,6 +63,7 @@ def write_atomically(path: Path, build: Callable[[str], None], protect: Path | N
         raise OutputError(f"{path}: cannot write in {folder} ({exc.strerror})") from None
     try:
         build(tmp)
+        os.chmod(tmp, _PLAIN_FILE_MODE)  # mkstemp makes the file private; an output is an ordinary file
         os.replace(tmp, path)
     except OSError as exc:
         raise OutputError(f"{path}: cannot write the output ({exc.strerror or exc})") from None
