@@ -42,21 +42,13 @@ def test_strongly_lognormal_readings_are_warned():
     assert 1.0 / (true.sf(m + 3 * s) + true.cdf(m - 3 * s)) < 0.7 * KNOWN_ARL
 
 
-def test_individuals_arl_under_a_large_lognormal_sample_matches_the_lognormal():
-    # 3,000 lognormal readings: the fitted shape's ARL for individuals is within 15% of the lognormal's own
-    # (scipy.stats.lognorm, limits at its mean +/- 3 standard deviations).
-    rng = np.random.default_rng(30)
-    check = shape_check(np.exp(rng.normal(0.0, 0.5, 3000)), 1)
-    true = stats.lognorm(0.5)
-    m, s = true.mean(), true.std()
-    assert check.arl_shape == pytest.approx(1.0 / (true.sf(m + 3 * s) + true.cdf(m - 3 * s)), rel=0.15)
-
-
-def test_a_very_large_base_period_is_thinned_and_still_matches_the_lognormal():
-    # 100,000 lognormal readings are fitted on 20,000 evenly spaced order statistics; the ARL for individuals
-    # still lands within 15% of scipy.stats.lognorm's own figure (limits at its mean +/- 3 standard deviations).
-    rng = np.random.default_rng(31)
-    check = shape_check(np.exp(rng.normal(0.0, 0.5, 100_000)), 1)
+@pytest.mark.parametrize(("readings", "seed"), [(3000, 30), (100_000, 31)])
+def test_individuals_arl_under_a_large_lognormal_sample_matches_the_lognormal(readings, seed):
+    # Lognormal readings: the fitted shape's ARL for individuals is within 15% of the lognormal's own
+    # (scipy.stats.lognorm, limits at its mean +/- 3 standard deviations); 100,000 readings are fitted on
+    # 20,000 evenly spaced order statistics and must land as close.
+    rng = np.random.default_rng(seed)
+    check = shape_check(np.exp(rng.normal(0.0, 0.5, readings)), 1)
     true = stats.lognorm(0.5)
     m, s = true.mean(), true.std()
     assert check.arl_shape == pytest.approx(1.0 / (true.sf(m + 3 * s) + true.cdf(m - 3 * s)), rel=0.15)
