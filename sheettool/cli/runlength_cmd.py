@@ -133,7 +133,7 @@ def _table(doc: dict[str, Any]) -> str:
     lines = [f"Scheme: {shown}", f"Method: {doc['method']}", f"In-control ARL: {_fmt(doc['arl_in_control'])}"]
     if doc["false_alarms_per_month"] is not None:
         lines.append(f"Expected false alarms per month: {doc['false_alarms_per_month']:.3g}")
-    head = ["rate" if attribute else "shift", "sigma x", "ARL", "SDRL", "5%", "50%", "95%", "steady ARL", "ATS h"]
+    head = ["rate" if attribute else "shift", "sigma ratio", "ARL", "SDRL", "5%", "50%", "95%", "steady ARL", "ATS h"]
     body = []
     for r in doc["results"]:
         pct = r["percentiles"] or {}
