@@ -151,11 +151,8 @@ def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: Charac
     rows.fact("Period covered", _period(result))
     rows.fact("Counts", _counts(result))
     _limits_table(book, rows, result, layout, live, used_names, out)
-    breaks = [rows.row] if has_checks(result) else []  # the block and capability start a printed page
-    write_trust_block(rows, result)
-    _capability(rows, result)
     rows.row += 1
-    breaks.append(rows.row)
+    breaks = [rows.row]  # the charts start a printed page, two to a page, right after the limits
     zones = zones_in_use(result)
     unit = ch.unit if isinstance(ch.data, Measurements) else ""
     for i, sc in enumerate(layout.stats.values()):
@@ -165,6 +162,11 @@ def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: Charac
                                      [s for s in result.signals if s.statistic == sc.stat.name])
         ws.insert_chart(rows.row, 0, chart, {"x_offset": 4, "y_offset": 4})
         rows.row += style.CHART_ROWS
+    if has_checks(result):
+        breaks.append(rows.row)  # then the trust block and capability on a page of their own
+    write_trust_block(rows, result)
+    _capability(rows, result)
+    rows.row += 1
     breaks.append(rows.row)
     ws.set_h_pagebreaks(breaks)
     _signals(rows, result, f"signals_{index}")
