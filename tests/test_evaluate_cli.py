@@ -90,18 +90,6 @@ def test_not_a_workbook(run_cli, tmp_path):
     assert sha256(bad) == before
 
 
-def test_workbook_without_numbers(run_cli, tmp_path):
-    path = tmp_path / "words.xlsx"
-    book = openpyxl.Workbook()
-    book.active.append(["Part", "Comment"])
-    book.active.append(["HF-220", "nothing measured yet"])
-    book.save(path)
-    before = sha256(path)
-    result = run_cli("evaluate", path)
-    assert result.code == 3 and "words.xlsx" in result.err and "no numeric data" in result.err
-    assert sha256(path) == before
-
-
 def test_bad_rules_is_a_usage_error(run_cli, demo_copy):
     result = run_cli("evaluate", demo_copy, "--rules", "7/3>2")
     assert result.code == 2 and "K must be" in result.err

@@ -60,7 +60,7 @@ def test_sheet_with_no_numbers(run_cli, tmp_path):
     book.active.append(["Part", "Comment"])
     book.active.append(["HF-220", "not measured"])
     book.save(path)
-    _refused(run_cli, path, 3, "no numeric data")
+    _refused(run_cli, path, 3, "words.xlsx", "no numeric data")
 
 
 def test_one_subgroup_only(run_cli, tmp_path):
