@@ -5,6 +5,7 @@ import pytest
 from sheettool.options import convert, options_for
 from sheettool.settings import Setting, setting_name
 from sheettool.workbook.reader.labels import SettingsSheet, read_settings_sheet
+from tests.workbooks import SheetSettings
 
 
 @pytest.mark.parametrize(("label", "name"), [
@@ -30,18 +31,14 @@ def test_values_are_converted(name, raw, value):
     ("usl", "twelve", "upper specification limit must be a number"), ("chart", "pie", "unknown chart 'pie'"),
     ("subgroup_size", 2.5, "whole number"), ("interval_hours", "2 days", "hours (h) or minutes (min)"),
     ("rules", "9/3>2", "rules '9/3>2'"), ("revise", "maybe", "yes or no"),
+    ("arl_in_control", "many", "must be a number"), ("arl_in_control", 0.5, "in-control ARL"),
+    ("shift", -1, "the shift must be"), ("detect_hours", "2 days", "hours (h) or minutes (min)"),
+    ("detect_arl", 0.5, "ARL at the shift"),
 ])
 def test_bad_values_name_their_origin(name, raw, words):
     with pytest.raises(ValueError, match=r"^'Bore'!B4: ") as caught:
         convert(Setting(name, raw, "'Bore'!B4"))
     assert words in str(caught.value)
-
-
-class _Read:
-    sheet = "Bore"
-
-    def __init__(self, settings):
-        self.settings = settings
 
 
 def test_priority_settings_sheet_then_section_then_cells_then_options():
@@ -51,7 +48,7 @@ def test_priority_settings_sheet_then_section_then_cells_then_options():
     assert not problems
     cells = {"lsl": Setting("lsl", 11.95, "'Bore'!B3")}
     cli = {"target": Setting("target", "12.001", "option --target")}
-    options, used = options_for(_Read(cells), book, cli)
+    options, used = options_for(SheetSettings(cells), book, cli)
     assert (options.usl, used["usl"].origin) == (12.08, "settings sheet row 6")
     assert (options.lsl, used["lsl"].origin) == (11.95, "'Bore'!B3")
     assert (options.target, used["target"].origin) == (12.001, "option --target")
@@ -61,7 +58,7 @@ def test_priority_settings_sheet_then_section_then_cells_then_options():
 def test_lsl_above_usl_names_both_cells():
     cells = {"lsl": Setting("lsl", 12.1, "'Bore'!B3"), "usl": Setting("usl", 12.0, "'Bore'!B4")}
     with pytest.raises(ValueError, match="'Bore'!B3 and 'Bore'!B4"):
-        options_for(_Read(cells), SettingsSheet(), {})
+        options_for(SheetSettings(cells), SettingsSheet(), {})
 
 
 def test_inline_label_with_an_invalid_value_is_no_setting():

@@ -14,6 +14,7 @@ from sheettool.core.design import REQUIREMENT_KEYS
 from sheettool.options import convert, options_for
 from sheettool.settings import KNOWN_SETTINGS, Setting, setting_name
 from sheettool.workbook.reader.labels import SettingsSheet, labelled_settings
+from tests.workbooks import SheetSettings
 
 
 def _book(path: Path, labels: list[tuple[str, object]], header: list[str], rows: list[list[float]],
@@ -92,31 +93,14 @@ def test_requirement_values_are_converted(name, raw, value):
     assert converted.value == pytest.approx(value, rel=1e-12)
 
 
-@pytest.mark.parametrize(("name", "raw", "words"), [
-    ("arl_in_control", "many", "must be a number"), ("arl_in_control", 0.5, "in-control ARL"),
-    ("shift", -1, "the shift must be"), ("detect_hours", "2 days", "hours (h) or minutes (min)"),
-    ("detect_arl", 0.5, "ARL at the shift")])
-def test_bad_requirement_values_name_their_cell(name, raw, words):
-    with pytest.raises(ValueError, match=r"^'Line'!E3: ") as caught:
-        convert(Setting(name, raw, "'Line'!E3"))
-    assert words in str(caught.value)
-
-
-class _Read:
-    sheet = "Line"
-
-    def __init__(self, settings):
-        self.settings = settings
-
-
 def test_the_shift_in_units_replaces_the_shift_in_sigmas_of_a_lower_layer():
     book = SettingsSheet(common={"shift": Setting("shift", 1.0, "settings sheet row 2")})
     cells = {"shift_units": Setting("shift_units", 0.02, "'Line'!B3")}
-    options, used = options_for(_Read(cells), book, {})
+    options, used = options_for(SheetSettings(cells, "Line"), book, {})
     assert options.requirements == {"shift_units": 0.02} and "shift" not in used
     both = {**cells, "shift": Setting("shift", 1.0, "'Line'!B4")}
     with pytest.raises(ValueError, match=r"'Line'!B[34] and 'Line'!B[34]: give the shift to detect") as caught:
-        options_for(_Read(both), book, {})
+        options_for(SheetSettings(both, "Line"), book, {})
     assert "not both" in str(caught.value)
 
 

@@ -102,3 +102,11 @@ def simple(path: Path, values: np.ndarray, title: str = "Bore", extra: dict[str,
         for r in rows:
             other.append(r)
     book.save(path)
+
+
+class SheetSettings:
+    """Stands in for a SheetRead where only the sheet's own labelled settings matter (options_for)."""
+
+    def __init__(self, settings, sheet: str = "Bore") -> None:
+        self.settings = settings
+        self.sheet = sheet
