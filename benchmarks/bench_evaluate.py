@@ -40,7 +40,7 @@ def make_input(path: Path, subgroups: int) -> None:
 
 def evaluate(source: Path, out: Path) -> None:
     """The real thing: read, evaluate, write (values, no formulas)."""
-    from sheettool.api import evaluate_file
+    from sheettool.app.api import evaluate_file
 
     evaluate_file(source, out)
 

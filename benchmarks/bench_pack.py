@@ -15,9 +15,8 @@ from pathlib import Path
 import numpy as np
 import xlsxwriter
 
-from sheettool.batch import Progress
-from sheettool.pack import build_pack
-from sheettool.workbook.writer.summary_tab import write_pack_workbook
+from sheettool.app.batch import Progress
+from sheettool.app.pack import build_pack, write_pack
 
 SUBGROUPS, SIZE = 125, 5
 
@@ -41,7 +40,7 @@ def make_inputs(folder: Path, count: int) -> None:
 def timed_pack(folder: Path, out: Path, jobs: int) -> float:
     start = time.perf_counter()
     pack = build_pack([folder], {}, jobs=jobs, progress=Progress(0, quiet=True), skip=(out,))
-    write_pack_workbook(pack, out)
+    write_pack(pack, out)
     return time.perf_counter() - start
 
 

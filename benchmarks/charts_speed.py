@@ -11,7 +11,8 @@ import time
 import numpy as np
 
 from sheettool.core.data import Characteristic, Counts, Measurements
-from sheettool.evaluation import EvaluationOptions, evaluate
+from sheettool.evaluation.evaluate import evaluate
+from sheettool.evaluation.options import EvaluationOptions
 
 
 def main(m: int = 10_000) -> None:

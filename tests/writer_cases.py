@@ -16,10 +16,11 @@ from sheettool.core.charts import ChartFit, PlottedStatistic
 from sheettool.core.constants import c4
 from sheettool.core.data import Characteristic, Counts, Measurements
 from sheettool.core.rules import parse_rules
-from sheettool.evaluation import CharacteristicResult, Performance, ShiftArl, find_signals
-from sheettool.report import EvaluationReport
+from sheettool.evaluation.evaluate import find_signals
+from sheettool.evaluation.results import CharacteristicResult, Performance, ShiftArl
 from sheettool.settings import Setting
 from sheettool.workbook.reader import SheetRead
+from sheettool.workbook.report import EvaluationReport
 
 START = dt.datetime(2026, 11, 2, 6, 0)
 

@@ -11,10 +11,10 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from sheettool.batch import default_jobs
-from sheettool.errors import UsageError
-from sheettool.options import convert
+from sheettool.app.batch import default_jobs
+from sheettool.base.errors import UsageError
 from sheettool.settings import Setting, setting_name
+from sheettool.settings.convert import convert
 from sheettool.workbook.writer import WriterOptions
 
 # option -> setting name; each overrides the workbook's settings sheet and labelled cells.

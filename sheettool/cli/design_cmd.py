@@ -9,10 +9,10 @@ from pathlib import Path
 from typing import Any
 
 from sheettool import TOOL_NAME, __version__
-from sheettool.api import design_schemes
+from sheettool.app.api import design_schemes
+from sheettool.base.errors import UsageError
 from sheettool.cli.common import number, number_list, print_json, write_stdout
 from sheettool.core.design import Candidate, DesignResult, Requirements, Sampling, SearchGrid
-from sheettool.errors import UsageError
 from sheettool.workbook.design_book import HEAD, candidate_row, requirement_lines
 
 

@@ -7,11 +7,11 @@ import sys
 from pathlib import Path
 
 from sheettool import TOOL_NAME, __version__
-from sheettool.api import default_output
-from sheettool.batch import FileJob, Progress, evaluate_job, run_parallel
+from sheettool.app.api import default_output
+from sheettool.app.batch import FileJob, Progress, evaluate_job, run_parallel
+from sheettool.app.json_form import report_json
+from sheettool.base.errors import UsageError
 from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, print_json, writer_options
-from sheettool.errors import UsageError
-from sheettool.report import report_json
 from sheettool.workbook.limits_block import read_limits_block
 from sheettool.workbook.reader import describe
 

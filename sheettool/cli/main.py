@@ -6,8 +6,8 @@ import argparse
 import sys
 
 from sheettool import TOOL_NAME, __version__
+from sheettool.base.errors import SheettoolError
 from sheettool.cli import design_cmd, evaluate_cmd, pack_cmd, runlength_cmd, template_cmd
-from sheettool.errors import SheettoolError
 
 COMMANDS = (evaluate_cmd, pack_cmd, runlength_cmd, design_cmd, template_cmd)
 

@@ -8,13 +8,12 @@ from pathlib import Path
 from typing import Any
 
 from sheettool import TOOL_NAME, __version__
-from sheettool.batch import Progress, collect_inputs
+from sheettool.app.batch import Progress, collect_inputs
+from sheettool.app.json_form import characteristic_json
+from sheettool.app.pack import Pack, Period, build_pack, write_pack
+from sheettool.base.errors import InputError, UsageError
 from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, print_json, writer_options
-from sheettool.errors import InputError, UsageError
-from sheettool.pack import Pack, Period, build_pack
-from sheettool.report import characteristic_json
 from sheettool.workbook.limits_block import read_limits_block
-from sheettool.workbook.writer.summary_tab import write_pack_workbook
 
 SOME_FAILED = 5  # the pack was written, but some inputs or sheets could not be evaluated
 
@@ -43,7 +42,7 @@ def run(args: argparse.Namespace) -> int:
                       skip=(args.output,))
     if not pack.evaluated:
         raise InputError("nothing could be evaluated: " + "; ".join(r.reason for r in pack.rows))
-    write_pack_workbook(pack, args.output, writer_options(args))
+    write_pack(pack, args.output, writer_options(args))
     failed = [r for r in pack.rows if "failed" in r.flags]
     if args.json:
         print_json(pack_json(pack, args.output))

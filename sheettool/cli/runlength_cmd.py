@@ -6,11 +6,11 @@ import argparse
 import math
 from typing import Any
 
+from sheettool.app.json_form import run_length_json
+from sheettool.base.errors import UsageError
 from sheettool.cli.common import number, number_list, print_json, write_stdout
 from sheettool.core.rules import parse_rules
 from sheettool.core.runlength.scheme import ATTRIBUTES, Scheme, SchemeResult, scheme_run_lengths
-from sheettool.errors import UsageError
-from sheettool.report import run_length_json
 
 _CHARTS = {"xbar": "xbar", "xbar-r": "xbar-r", "xbar-s": "xbar-s", "individuals": "individuals",
            "ewma": "ewma", "cusum": "cusum", "p": "p", "np": "np", "c": "c", "u": "u"}

@@ -6,7 +6,7 @@ import argparse
 import sys
 from pathlib import Path
 
-from sheettool.errors import UsageError
+from sheettool.base.errors import UsageError
 from sheettool.workbook.templates import TEMPLATE_KINDS, template_spec, write_template
 from sheettool.workbook.writer import write_atomically
 

@@ -9,8 +9,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from sheettool.errors import InputError
-from sheettool.problems import Problem
+from sheettool.base.errors import InputError
+from sheettool.base.problems import Problem
 from sheettool.settings import Setting
 from sheettool.workbook.reader.labels import SETTINGS_SHEET, SettingsSheet, read_settings_sheet
 from sheettool.workbook.reader.layout import EXCLUDE_WORDS, MIN_READINGS, MIN_SUBGROUPS, read_sheet

@@ -11,7 +11,7 @@ import re
 
 from openpyxl.utils import get_column_letter
 
-from sheettool.typed_text import date_text, number_text
+from sheettool.settings.typed_text import date_text, number_text
 
 BLANK, NUMBER, DATE, TEXT = 0, 1, 2, 3
 _TIME_TEXT = re.compile(r"^\s*(\d{1,2}):(\d{2})(?::\d{2})?\s*$")

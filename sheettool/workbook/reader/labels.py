@@ -17,9 +17,9 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass, field
 
-from sheettool.options import convert
-from sheettool.problems import Problem
+from sheettool.base.problems import Problem
 from sheettool.settings import Setting, label_key, setting_name
+from sheettool.settings.convert import convert
 from sheettool.workbook.reader.cells import address
 
 SETTINGS_SHEET = "settings"

@@ -20,11 +20,11 @@ from dataclasses import dataclass, replace
 import numpy as np
 from openpyxl.utils import get_column_letter
 
+from sheettool.base.errors import InputError
+from sheettool.base.problems import Problem
 from sheettool.core.data import Characteristic, Counts, Measurements
-from sheettool.errors import InputError
-from sheettool.options import merge
-from sheettool.problems import Problem
 from sheettool.settings import Setting
+from sheettool.settings.convert import merge
 from sheettool.workbook.reader.cells import (
     BLANK,
     DATE,

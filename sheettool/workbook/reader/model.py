@@ -5,8 +5,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from sheettool.base.problems import Problem
 from sheettool.core.data import Characteristic
-from sheettool.problems import Problem
 from sheettool.settings import Setting
 from sheettool.workbook.reader.labels import SettingsSheet
 

@@ -26,7 +26,7 @@ from openpyxl.utils import get_column_letter
 from openpyxl.utils.cell import coordinate_to_tuple
 from openpyxl.worksheet._reader import WorkSheetParser
 
-from sheettool.errors import InputError
+from sheettool.base.errors import InputError
 
 OLE_MAGIC = b"\xd0\xcf\x11\xe0"  # compound file: binary .xls, or any encrypted (password) workbook
 ZIP_MAGIC = b"PK\x03\x04"

@@ -17,11 +17,12 @@ from typing import Any
 import xlsxwriter
 
 from sheettool import TOOL_NAME, __version__
-from sheettool.errors import OutputError
-from sheettool.report import EvaluationReport
+from sheettool.base.errors import OutputError
+from sheettool.evaluation.carried import limits_entry
 from sheettool.workbook import style
-from sheettool.workbook.limits_block import LIMITS_SHEET, limits_entry, limits_rows
+from sheettool.workbook.limits_block import LIMITS_SHEET, limits_rows
 from sheettool.workbook.reader import SheetRead
+from sheettool.workbook.report import EvaluationReport
 from sheettool.workbook.writer import cells
 from sheettool.workbook.writer.charts import LINES_SHEET, LineSheet
 from sheettool.workbook.writer.data_tab import PRINT_ROWS, plan_data_tab, write_data_tab

@@ -16,7 +16,7 @@ from typing import Any
 import numpy as np
 
 from sheettool.core.charts import PlottedStatistic
-from sheettool.evaluation import Signal
+from sheettool.evaluation.results import Signal
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells
 from sheettool.workbook.writer.data_tab import DataLayout, StatColumns

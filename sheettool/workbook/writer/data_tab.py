@@ -17,7 +17,7 @@ from xlsxwriter.utility import xl_cell_to_rowcol
 
 from sheettool.core.charts import PlottedStatistic
 from sheettool.core.data import Measurements
-from sheettool.evaluation import CharacteristicResult
+from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook.reader import SheetRead
 from sheettool.workbook.writer import cells, formulas
 

@@ -12,7 +12,7 @@ import numpy as np
 
 from sheettool.core.capability import AttributeRate, Capability
 from sheettool.core.data import Measurements
-from sheettool.evaluation import CharacteristicResult
+from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells, charts, formulas
 from sheettool.workbook.writer.data_tab import DataLayout

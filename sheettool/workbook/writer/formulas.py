@@ -17,7 +17,7 @@ from xlsxwriter.utility import xl_rowcol_to_cell
 
 from sheettool.core.constants import constants
 from sheettool.core.data import Measurements
-from sheettool.evaluation import CharacteristicResult
+from sheettool.evaluation.results import CharacteristicResult
 
 TOLERANCE = 1e-9
 

@@ -13,9 +13,9 @@ from sheettool import TOOL_NAME, __version__
 from sheettool.core.constants import constants
 from sheettool.core.data import Measurements
 from sheettool.core.design import MET_TOLERANCE
-from sheettool.evaluation import CharacteristicResult
-from sheettool.report import EvaluationReport
+from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook.reader import SheetRead
+from sheettool.workbook.report import EvaluationReport
 from sheettool.workbook.writer import cells
 from sheettool.workbook.writer.methods import method
 

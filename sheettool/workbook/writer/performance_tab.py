@@ -8,7 +8,7 @@ import math
 from typing import Any
 
 from sheettool.core.runlength.results import Performance
-from sheettool.evaluation import CharacteristicResult
+from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells, charts
 

@@ -6,7 +6,8 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from sheettool.pack import STATUS_WORDS, Pack, pack_key
+from sheettool.evaluation.summary import STATUS_WORDS, PackRow, Period, pack_key
+from sheettool.workbook.report import EvaluationReport
 from sheettool.workbook.writer import cells
 from sheettool.workbook.writer.book import Summary, WriterOptions, write_workbook
 from sheettool.workbook.writer.notes_tab import CAUTION
@@ -17,31 +18,36 @@ COLUMNS = ("Source file", "Sheet", "Characteristic", "Chart", "Points in period"
 WIDTHS = (28, 18, 22, 8, 10, 8, 22, 8, 8, 8, 11, 11, 26, 50)
 
 
-def write_pack_workbook(pack: Pack, path: Path, options: WriterOptions | None = None) -> None:
-    """Write the pack: summary first, then every characteristic's tabs, then one audit for all inputs."""
-    sources = [(o.report, o.report.reads) for o in pack.evaluated]
-    keys = [pack_key(o.job.source, r.sheet) for o in pack.evaluated for r in o.report.characteristics]
+def write_pack_workbook(rows: list[PackRow], period: Period | None, evaluated: list[tuple[str, EvaluationReport]],
+                        path: Path, options: WriterOptions | None = None) -> None:
+    """Write the pack: summary first, then every characteristic's tabs, then one audit for all inputs.
+
+    evaluated: (source label, report) of every input that was evaluated, in the order of the summary rows.
+    """
+    sources = [(report, report.reads) for _, report in evaluated]
+    keys = [pack_key(source, r.sheet) for source, report in evaluated for r in report.characteristics]
     write_workbook(sources, path, options, Summary(SUMMARY_TAB, lambda book, ws, fmt, tabs:
-                                                   _write_summary(ws, fmt, pack, tabs)), block_keys=keys)
+                                                   _write_summary(ws, fmt, rows, period, tabs)), block_keys=keys)
 
 
-def _write_summary(ws: Any, fmt: dict[str, Any], pack: Pack, eval_tabs: list[str]) -> None:
+def _write_summary(ws: Any, fmt: dict[str, Any], rows: list[PackRow], period: Period | None,
+                   eval_tabs: list[str]) -> None:
     ws.write_string(0, 0, "Review summary", fmt["title"])
-    period = f"points dated {pack.period.label}" if pack.period else "all points of each workbook"
-    ws.write_string(1, 0, f"Period: {period}. Limits: each characteristic's base period, or the limits carried "
+    words = f"points dated {period.label}" if period else "all points of each workbook"
+    ws.write_string(1, 0, f"Period: {words}. Limits: each characteristic's base period, or the limits carried "
                           "from the previous pack where given (see each evaluation tab).", fmt["text"])
-    counts = {word: sum(1 for r in pack.rows if word in r.status.split("; ")) for word in STATUS_WORDS.values()}
+    counts = {word: sum(1 for r in rows if word in r.status.split("; ")) for word in STATUS_WORDS.values()}
     ws.write_string(2, 0, "; ".join(f"{n} {word}" for word, n in counts.items() if n) or "nothing evaluated",
                     fmt["label"])
     ws.merge_range(3, 0, 3, len(COLUMNS) - 1, CAUTION, fmt["caution"])
     ws.set_row(3, 30)
     top = 5
     ws.set_row(top, 30)
-    last = top + max(len(pack.rows), 1)
+    last = top + max(len(rows), 1)
     ws.add_table(top, 0, last, len(COLUMNS) - 1, {
         "name": "review_summary", "style": "Table Style Light 1",
         "columns": [{"header": c, "header_format": fmt["head"]} for c in COLUMNS]})
-    for i, row in enumerate(pack.rows, start=top + 1):
+    for i, row in enumerate(rows, start=top + 1):
         ws.write_string(i, 0, row.source, fmt["text"])
         ws.write_string(i, 1, row.sheet, fmt["text"])
         if row.tab is not None:

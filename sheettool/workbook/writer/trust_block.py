@@ -10,7 +10,7 @@ from typing import Any
 from sheettool.core.data_shape import DataShapeReport
 from sheettool.core.design import RequirementsCheck
 from sheettool.core.estimated_limits import EstimatedLimitsReport
-from sheettool.evaluation import CharacteristicResult
+from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook import style
 
 TITLE = "How far to trust these limits"

@@ -1,0 +1,94 @@
+"""The small Python API the command line calls, and scripts can call too."""
+
+from __future__ import annotations
+
+import hashlib
+from dataclasses import replace
+from pathlib import Path
+from typing import Any
+
+from sheettool.base.errors import InputError
+from sheettool.base.problems import Problem
+from sheettool.core.design import DesignResult, Requirements, Sampling, SearchGrid, design
+from sheettool.evaluation.evaluate import evaluate
+from sheettool.evaluation.options import options_for
+from sheettool.settings import Setting
+from sheettool.workbook.design_book import write_design_workbook
+from sheettool.workbook.reader import read_workbook
+from sheettool.workbook.report import EvaluationReport
+from sheettool.workbook.writer import WriterOptions, write_evaluated_workbook
+
+
+def default_output(input_path: Path) -> Path:
+    """IN.xlsx -> IN-evaluated.xlsx beside the input (always .xlsx, even for .xlsm input)."""
+    return input_path.with_name(f"{input_path.stem}-evaluated.xlsx")
+
+
+def file_digest(path: Path) -> tuple[str, int]:
+    """SHA-256 and size of a file, read in blocks."""
+    digest = hashlib.sha256()
+    size = 0
+    with open(path, "rb") as handle:
+        for block in iter(lambda: handle.read(1 << 20), b""):
+            digest.update(block)
+            size += len(block)
+    return digest.hexdigest(), size
+
+
+def evaluate_file(input_path: Path, output: Path | None = None,
+                  settings: dict[str, Setting] | None = None, write: bool = True,
+                  carried: dict[str, dict[str, Any]] | None = None, carried_from: str = "",
+                  writer: WriterOptions | None = None) -> EvaluationReport:
+    """Read a workbook, evaluate every characteristic in it and write the evaluated workbook.
+
+    `settings` (e.g. from the command line) override the workbook's own; each sheet gets its own
+    options from its settings sheet section and labelled cells. A sheet whose settings or data
+    cannot be evaluated is a problem; the others go on. carried: limits-block entries by sheet name
+    (from `read_limits_block`); a sheet with an entry gets those limits, a sheet without one its own
+    base period and a warning saying so. `writer` chooses live formulas and the fixed document date
+    of the output (see WriterOptions).
+    """
+    input_path = Path(input_path)
+    settings = settings or {}
+    read = read_workbook(input_path, settings)
+    try:
+        sha, size = file_digest(input_path)
+    except OSError as exc:
+        raise InputError(f"{input_path}: cannot be read ({exc.strerror})") from None
+    results, reads, problems = [], [], list(read.problems)
+    for sheet in read.sheets:
+        if carried is not None and sheet.sheet not in carried:
+            problems.append(Problem("warning", f"{input_path.name}, sheet '{sheet.sheet}'",
+                                    f"no carried limits for this sheet in {carried_from or 'the limits file'}; "
+                                    "its limits come from its own base period"))
+        try:
+            options, used = options_for(sheet, read.settings, settings)
+            if carried is not None:
+                options = replace(options, carried=carried.get(sheet.sheet))
+            result = evaluate(sheet.characteristic, sheet.sheet, options)
+            result.settings = used
+            place = f"{input_path.name}, sheet '{sheet.sheet}'"
+            result.problems = [replace(p, where=place) if p.where == sheet.sheet else p for p in result.problems]
+            results.append(result)
+            reads.append(sheet)
+        except ValueError as exc:
+            problems.append(Problem("error", f"{input_path.name}, sheet '{sheet.sheet}'", str(exc)))
+    if not results:
+        detail = "; ".join(f"{p.where}: {p.message}" for p in problems)
+        raise InputError(f"{input_path}: nothing could be evaluated ({detail})")
+    out = Path(output) if output else default_output(input_path)
+    report = EvaluationReport(input=input_path, input_sha256=sha, input_size=size,
+                              output=out if write else None, characteristics=results, problems=problems,
+                              reads=reads)
+    if write:
+        write_evaluated_workbook(report, reads, out, writer)
+    return report
+
+
+def design_schemes(requirements: Requirements, sampling: Sampling, grid: SearchGrid,
+                   output: Path | None = None) -> DesignResult:
+    """Search and rank monitoring schemes against the requirements; write the design workbook when asked."""
+    result = design(requirements, sampling, grid)
+    if output is not None:
+        write_design_workbook(result, Path(output))
+    return result

@@ -1,0 +1,1 @@
+"""What every floor shares: errors that carry an exit code, and problems reported to the technician."""

@@ -1,0 +1,58 @@
+"""Carried limits: what the limits block keeps of a characteristic, and those limits back as typed parameters.
+
+The block's sheet is read and written by sheettool.workbook.limits_block; this module holds only the entries.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from sheettool.evaluation.results import CharacteristicResult
+
+
+def _finite(value: float) -> float | None:
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+def limits_entry(result: CharacteristicResult) -> dict[str, Any]:
+    """What the block keeps of one characteristic: enough to apply the same limits next month.
+
+    process_mean and sigma_within (variables, EWMA, CUSUM) and the chart parameters (p0, c0, u0,
+    lambda, L, k, h, reference, n) rebuild the limits through `carried_parameters`; `limits`
+    (first point) and `limits_source` are for people reading the block.
+    """
+    fit = result.fit
+    return {
+        "sheet": result.sheet,
+        "chart": fit.chart,
+        "subgroup_size": fit.subgroup_size,
+        "process_mean": _finite(fit.process_mean),
+        "sigma_within": _finite(fit.sigma_within),
+        "sigma_method": fit.sigma_method,
+        "parameters": {k: _finite(v) for k, v in fit.parameters.items()},
+        "limits_source": fit.limits_source,
+        "set_by": fit.origin or fit.limits_source,
+        "limits": {s.name: {"center": _finite(s.center[0]), "lcl": _finite(s.lcl[0]), "ucl": _finite(s.ucl[0])}
+                   for s in fit.statistics},
+    }
+
+
+def carried_parameters(entry: dict[str, Any]) -> tuple[str, dict[str, float], str, str]:
+    """(chart, given parameters, words, origin) that apply a block entry's limits to new data.
+
+    origin says how the limits were first set, carried unchanged through every later month.
+    """
+    try:
+        chart = str(entry["chart"])
+        given = {k: float(v) for k, v in entry.get("parameters", {}).items() if v is not None and k != "n"}
+        for key, name in (("process_mean", "mean"), ("sigma_within", "sigma")):
+            if entry.get(key) is not None:
+                given[name] = float(entry[key])
+    except (KeyError, TypeError, ValueError, AttributeError):
+        raise ValueError("the carried limits entry is incomplete or damaged; evaluate with a base period "
+                         "instead") from None
+    where = f" from {entry['read_from']}" if entry.get("read_from") else ""
+    origin = str(entry.get("set_by") or entry.get("limits_source") or "")
+    return chart, given, f"carried{where}" + (f" (first set by {origin})" if origin else ""), origin

@@ -1,0 +1,124 @@
+"""The extra checks `evaluate` makes on a fitted chart: the cost of estimated limits, the data's own shape and
+whether the scheme in use meets the requirements of the settings. A failure in one becomes a note, never a crash.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from functools import lru_cache
+
+import numpy as np
+from scipy import stats
+
+from sheettool.base.problems import Problem
+from sheettool.core.charts import ChartFit
+from sheettool.core.data import Characteristic, Measurements
+from sheettool.core.data_shape import DataShapeReport, data_shape_report
+from sheettool.core.design import Requirements, RequirementsCheck, check_requirements
+from sheettool.core.estimated_limits import EstimatedLimitsReport, estimated_limits_report
+from sheettool.core.rules import Rule
+from sheettool.core.runlength.results import Performance
+from sheettool.core.runlength.scheme import ATTRIBUTES, scheme_of, scheme_run_lengths
+from sheettool.evaluation.options import EvaluationOptions
+
+# ChartFit.sigma_method words -> the estimator keys of core.estimated_limits.SIGMA_METHODS
+_SIGMA_KEYS = (("R-bar / d2", "range"), ("mean of R / d2(n)", "range"), ("S-bar / c4", "s-bar"),
+               ("pooled standard deviation", "pooled"), ("MR-bar / d2", "moving-range"))
+_SHEWHART_VARIABLES = ("xbar-r", "xbar-s", "i-mr")
+# the report depends on (m, n, estimator, target) only: one computation per base-period shape (results are read-only)
+_estimated_limits_report = lru_cache(maxsize=256)(estimated_limits_report)
+# Limits "meet" the target when their in-control ARL is at least 90% of it: the exceedance criterion of Goedhart,
+# Schoonhoven and Does (2017) with a tolerance; with none, no finite base period reaches even the known-parameter ARL.
+ASSURANCE_TOLERANCE = 0.1
+
+
+@dataclass
+class SchemeChecks:
+    """What the extra checks found for one characteristic, and the problems they raise."""
+
+    estimated_limits: EstimatedLimitsReport | None = None
+    data_shape: DataShapeReport | None = None
+    requirements: RequirementsCheck | None = None
+    problems: list[Problem] = field(default_factory=list)
+
+
+def sigma_method_key(words: str) -> str | None:
+    """The SIGMA_METHODS key of a fit's sigma words ("R-bar / d2" -> "range"), None when the sigma was given."""
+    return next((key for lead, key in _SIGMA_KEYS if words.startswith(lead)), None)
+
+
+def scheme_checks(characteristic: Characteristic, fit: ChartFit, rules: list[Rule], performance: Performance,
+                  options: EvaluationOptions, sheet: str) -> SchemeChecks:
+    """Run the three checks that apply to this chart; each failure is reported as a note problem."""
+    out = SchemeChecks()
+    steps = [("the cost of estimated limits", lambda: _estimated(fit, options)),
+             ("the data's shape", lambda: _shape(characteristic, fit)),
+             ("the requirements", lambda: _requirements(fit, rules, performance, options))]
+    for (what, step), name in zip(steps, ("estimated_limits", "data_shape", "requirements"), strict=True):
+        try:
+            setattr(out, name, step())
+        except ValueError as exc:
+            out.problems.append(Problem("note", sheet, f"{what} not computed: {exc}"))
+    if out.estimated_limits is not None:
+        out.problems.append(Problem("note", sheet, f"estimated limits: {out.estimated_limits.sentence}"))
+    for warning in out.data_shape.warnings if out.data_shape else []:
+        out.problems.append(Problem("warning", sheet, f"data shape: {warning}"))
+    for item in out.requirements.items if out.requirements else []:
+        if item.met is not True:
+            out.problems.append(Problem("warning", sheet, f"requirement {item.name}: {item.words}"))
+    return out
+
+
+def _estimated(fit: ChartFit, options: EvaluationOptions) -> EstimatedLimitsReport | None:
+    """For X-bar and individuals limits whose mean and sigma both came from this base period."""
+    given = set(options.standard) & {"mean", "sigma"}
+    key = sigma_method_key(fit.sigma_method)
+    if fit.chart not in _SHEWHART_VARIABLES or options.carried is not None or given or key is None:
+        return None
+    if not fit.base.any():
+        return None
+    return _estimated_limits_report(int(fit.base.sum()), int(fit.subgroup_size), key,
+                                    target=_in_control_target(options), tolerance=ASSURANCE_TOLERANCE)
+
+
+def _in_control_target(options: EvaluationOptions) -> float:
+    """The in-control ARL the limits should give: a required ARL, else the one implied by a false-alarms-per-month
+    requirement with the sampling interval and production hours, else that of 3-sigma limits with known mean and
+    sigma, 1 / (2 Phi(-3)) = 370.4 (common practice)."""
+    req = options.requirements
+    if "arl_in_control" in req:
+        return float(req["arl_in_control"])
+    if "false_alarms_per_month" in req and options.interval_hours and options.hours_per_month:
+        return options.hours_per_month / (options.interval_hours * float(req["false_alarms_per_month"]))
+    return float(1.0 / (2.0 * stats.norm.sf(3.0)))
+
+
+def _shape(characteristic: Characteristic, fit: ChartFit) -> DataShapeReport | None:
+    """For variables charts: the base period's readings (all subgroups in use when limits were not estimated)."""
+    data = characteristic.data
+    if not isinstance(data, Measurements):
+        return None
+    rows = fit.base if fit.base.any() else ~np.asarray(characteristic.excluded, dtype=bool)
+    values = data.values[rows]
+    if fit.subgroup_size == 1:
+        values = values[:, 0]
+        values = values[np.isfinite(values)]
+    return data_shape_report(values, int(fit.subgroup_size))
+
+
+def _requirements(fit: ChartFit, rules: list[Rule], performance: Performance,
+                  options: EvaluationOptions) -> RequirementsCheck | None:
+    """Whether the scheme in use meets the requirements of the settings, by the engine's ARL at their shift."""
+    if not options.requirements:
+        return None
+    req = Requirements.from_mapping(options.requirements, hours_per_month=options.hours_per_month,
+                                    sigma=fit.sigma_within if fit.sigma_within > 0 else None)
+    shift = req.delta()
+    known = [s for s in performance.shifts if s.shift == shift]
+    if known:
+        arl = known[0].arl
+    else:
+        scheme = scheme_of(fit, rules)
+        condition = scheme.count_model.rate_at(shift) if scheme.chart in ATTRIBUTES else shift
+        arl = scheme_run_lengths(scheme, [(condition, 1.0)], full=False).results[0].arl
+    return check_requirements(req, performance.arl_in_control, arl, options.interval_hours, shift)

@@ -1,0 +1,166 @@
+"""Evaluate one characteristic: fit its chart, find signals, describe the scheme's run lengths.
+
+Pure computation over the core: a Characteristic in, a CharacteristicResult out.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from sheettool.base.problems import Problem
+from sheettool.core.capability import AttributeRate, Capability, attribute_rate, check_specs, process_capability
+from sheettool.core.charts import CHART_KINDS, ChartFit, ChartKind, chart_kind
+from sheettool.core.charts.base import typical_size
+from sheettool.core.charts.variables import within_sigma
+from sheettool.core.data import Characteristic, Counts, Measurements
+from sheettool.core.limits import fit_limits
+from sheettool.core.rules import Rule, find_hits, parse_rules
+from sheettool.core.runlength.scheme import performance_of
+from sheettool.evaluation.carried import carried_parameters
+from sheettool.evaluation.checks import scheme_checks
+from sheettool.evaluation.options import EvaluationOptions
+from sheettool.evaluation.results import CharacteristicResult, Signal
+
+
+def chart_choice(characteristic: Characteristic) -> tuple[str, str]:
+    """The chart kind the data calls for, and why in words (stated in the output).
+
+    Variables: one reading per subgroup -> i-mr, 2 to 9 -> xbar-r, 10 or more -> xbar-s, by the
+    usual subgroup size (Montgomery 2009, sec. 6.3). Counts: with the same number inspected in
+    every subgroup the count itself is plotted (np, c), which reads directly; otherwise the
+    proportion or rate (p, u) with limits per point.
+    """
+    data = characteristic.data
+    if isinstance(data, Counts):
+        seen = data.inspected[~np.isnan(data.counts)]
+        same = bool(seen.size and np.ptp(seen) == 0)
+        if data.kind == "defectives":
+            if same:
+                return "np", f"np chart: defectives counted among {seen[0]:g} unit(s) inspected each time"
+            return "p", "p chart: defectives with a varying number inspected (limits per point)"
+        if data.kind == "defects":
+            if same:
+                return "c", f"c chart: defects counted on {seen[0]:g} unit(s) inspected each time"
+            return "u", "u chart: defects with a varying number inspected (limits per point)"
+        raise ValueError(f"counts of kind '{data.kind}' are not known; use defectives or defects")
+    n = typical_size(data.sizes)
+    if n == 1:
+        return "i-mr", "individuals and moving range chart: one reading per subgroup"
+    if n < 10:
+        return "xbar-r", f"X-bar and R chart: subgroups of {n} readings (2 to 9)"
+    return "xbar-s", f"X-bar and S chart: subgroups of {n} readings (10 or more)"
+
+
+def _standard_values(kind: ChartKind, standard: dict[str, float]) -> tuple[dict[str, float], list[str]]:
+    """The standard values that apply to `kind` (c0 stands for u0 on a u chart), and the unused names."""
+    values = dict(standard)
+    if "u0" in kind.needs and "u0" not in values and "c0" in values:
+        values["u0"] = values.pop("c0")
+    if "sigma" in values and not float(values["sigma"]) > 0:
+        raise ValueError(f"the standard sigma must be positive, got {values['sigma']}")
+    used = {k: float(v) for k, v in values.items() if k in kind.needs}
+    return used, sorted(k for k in values if k not in kind.needs)
+
+
+def evaluate(characteristic: Characteristic, sheet: str,
+             options: EvaluationOptions | None = None) -> CharacteristicResult:
+    """Fit the chart with limits from their source, apply the rules, compute capability and performance."""
+    options = options or EvaluationOptions()
+    check_specs(options.lsl, options.usl)
+    given: dict[str, float] = {}
+    words, origin, notes = "", "", []
+    if options.carried is not None:
+        chart, given, words, origin = carried_parameters(options.carried)
+        if options.chart and options.chart.strip().lower() != chart:
+            raise ValueError(f"the carried limits are for a {chart} chart but the chart setting is "
+                             f"{options.chart}; remove one of the two")
+        why = f"{chart} chart, as in the carried limits"
+    elif options.chart:
+        chart, why = options.chart, f"{options.chart} chart, as set"
+    else:
+        chart, why = chart_choice(characteristic)
+    kind = chart_kind(chart)
+    if options.carried is None and options.standard:
+        given, unused = _standard_values(kind, options.standard)
+        words = "standard values: " + ", ".join(f"{k} = {v:g}" for k, v in given.items()) if given else ""
+        if unused:
+            notes.append(f"standard value(s) {', '.join(unused)} do not apply to a {kind.title} chart; not used")
+    chosen = {p: getattr(options, a) for p, a in kind.settings.items() if getattr(options, a) is not None}
+    fit = fit_limits(kind, characteristic, options.limits_from, {**chosen, **given}, words, options.revise)
+    fit.notes[:0] = [why, *notes]
+    fit.origin = origin
+    if kind.time_weighted:
+        rules = parse_rules(kind.signal_rule(fit))
+        if options.rules.strip().lower() != "limits":
+            fit.notes.append(f"pattern rules are not applied to a {kind.title} chart (its points are not "
+                             "independent); it signals when a point crosses a limit")
+    else:
+        rules = parse_rules(options.rules)
+    signals = find_signals(fit, rules, characteristic.labels)
+    capability = capability_of(characteristic, fit, bool(signals), options)
+    carried_n = (options.carried or {}).get("subgroup_size")
+    if carried_n is not None and carried_n != fit.subgroup_size and isinstance(characteristic.data, Measurements):
+        fit.notes.append(f"the carried limits were set on subgroups of {carried_n}, these have {fit.subgroup_size}: "
+                         "the limits follow each subgroup's size from the carried mean and sigma")
+    problems = [Problem("note", sheet, note) for note in fit.notes]
+    if fit.sigma_within == 0:
+        collapse = ("every subgroup has zero spread: the limits collapse onto the center line; check the gauge "
+                    "resolution") if isinstance(characteristic.data, Measurements) else (
+                    "no count in the base period: the limits collapse onto zero; give a standard value (p0, c0) "
+                    "or a longer base period")
+        problems.append(Problem("warning", sheet, collapse))
+    for note in getattr(capability, "notes", []):
+        warn = note.startswith(("normality is doubtful", "the chart signals"))
+        problems.append(Problem("warning" if warn else "note", sheet, f"capability: {note}"))
+    performance = performance_of(fit, rules, options)
+    checks = scheme_checks(characteristic, fit, rules, performance, options, sheet)
+    return CharacteristicResult(
+        characteristic=characteristic,
+        sheet=sheet,
+        fit=fit,
+        rules=rules,
+        signals=signals,
+        performance=performance,
+        capability=capability,
+        problems=problems + checks.problems,
+        estimated_limits=checks.estimated_limits,
+        data_shape=checks.data_shape,
+        requirements_check=checks.requirements,
+    )
+
+
+def capability_of(characteristic: Characteristic, fit: ChartFit, signals: bool,
+                  options: EvaluationOptions) -> Capability | AttributeRate | None:
+    """Capability of this evaluation's data (excluded subgroups left out): indices when specs are
+    given for measurements, the average proportion or rate for counts, else None."""
+    use = ~np.asarray(characteristic.excluded, dtype=bool)
+    data = characteristic.data
+    if isinstance(data, Counts):
+        ok = use & ~np.isnan(data.counts)
+        kind = "proportion" if data.kind == "defectives" else "rate"
+        return attribute_rate(float(np.sum(data.counts[ok])), float(np.sum(data.inspected[ok])), kind,
+                              options.confidence)
+    if options.lsl is None and options.usl is None:
+        return None
+    sigma, words = within_sigma(data.values, use, CHART_KINDS[fit.chart].sigma_estimator)
+    return process_capability(data.values[use], sigma, options.lsl, options.usl, options.target,
+                              options.confidence, stable=not signals, sigma_method=words)
+
+
+def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Signal]:
+    """Apply the rules to each plotted statistic in standard-error units."""
+    signals: list[Signal] = []
+    for stat in fit.statistics:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            z = (stat.values - stat.center) / stat.sigma
+        for hit in find_hits(z, rules):
+            signals.append(Signal(
+                subgroup=hit.point + 1,
+                label=labels[hit.point],
+                statistic=stat.name,
+                rule=hit.rule.text,
+                words=hit.rule.words,
+                points=tuple(p + 1 for p in hit.points),
+            ))
+    signals.sort(key=lambda s: (s.subgroup, s.statistic))
+    return signals

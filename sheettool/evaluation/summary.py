@@ -1,0 +1,134 @@
+"""One summary row per characteristic over a reporting period: points, signals, capability, status words.
+
+The review pack's summary tab shows these rows; an input or sheet that could not be evaluated gets a row too.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from sheettool.core.capability import Capability
+from sheettool.evaluation.results import CharacteristicResult
+
+MIN_BASE_SUBGROUPS = 20  # fewer subgroups than this set the limits: "too little data" (common practice: 20-25)
+CAPABILITY_TARGET = 1.33  # Cpk below this: "below capability target" (common practice minimum)
+
+STATUS_WORDS = {
+    "steady": "in control",
+    "signals": "signals to review",
+    "capability": "below capability target",
+    "little": "too little data",
+    "failed": "not evaluated",
+}
+
+
+@dataclass(frozen=True)
+class Period:
+    """The reporting window: points dated from `start` (inclusive) to `end` (exclusive)."""
+
+    start: dt.datetime
+    end: dt.datetime
+    label: str
+
+    @classmethod
+    def month(cls, text: str) -> Period:
+        """Parse YYYY-MM; ValueError with a plain message otherwise."""
+        try:
+            start = dt.datetime.strptime(text.strip(), "%Y-%m")
+        except ValueError:
+            raise ValueError(f"period '{text}' is not a month; write it as YYYY-MM, e.g. 2026-11") from None
+        end = start.replace(year=start.year + (start.month == 12), month=start.month % 12 + 1)
+        return cls(start, end, text.strip())
+
+    @classmethod
+    def between(cls, start: str | None, end: str | None) -> Period:
+        """Parse --from and --to dates (YYYY-MM-DD, both inclusive; either may be open)."""
+        def day(text: str | None, default: dt.datetime) -> dt.datetime:
+            if text is None:
+                return default
+            try:
+                return dt.datetime.strptime(text.strip(), "%Y-%m-%d")
+            except ValueError:
+                raise ValueError(f"date '{text}' is not understood; write it as YYYY-MM-DD") from None
+        low = day(start, dt.datetime.min)
+        high = day(end, dt.datetime.max - dt.timedelta(days=1)) + dt.timedelta(days=1)
+        if high <= low:
+            raise ValueError("--to is before --from")
+        return cls(low, high, f"{start or '...'} to {end or '...'}")
+
+    def mask(self, dates: list[dt.datetime | None]) -> np.ndarray:
+        """True for the points dated inside the period."""
+        return np.array([d is not None and self.start <= d < self.end for d in dates], dtype=bool)
+
+
+@dataclass
+class PackRow:
+    """One summary row: a characteristic, or a file or sheet that could not be evaluated."""
+
+    source: str
+    sheet: str
+    characteristic: str
+    chart: str = ""
+    points: int = 0
+    signals: int = 0
+    latest_signal: str = ""
+    cpk: float | None = None
+    cpk_low: float | None = None
+    cpk_high: float | None = None
+    arl_in_control: float | None = None
+    false_alarms_per_month: float | None = None
+    status: str = ""
+    reason: str = ""
+    flags: list[str] = field(default_factory=list)
+    tab: int | None = None  # position of the characteristic's evaluation tab in the pack
+
+
+def period_points(result: CharacteristicResult, period: Period | None) -> np.ndarray:
+    """Which plotted points belong to the period (all points without a period, or without dates)."""
+    dates = result.characteristic.dates
+    if period is None or not any(d is not None for d in dates):
+        return np.ones(result.characteristic.data.subgroups, dtype=bool)
+    return period.mask(dates)
+
+
+def summary_row(source: str, result: CharacteristicResult, period: Period | None) -> PackRow:
+    """The summary of one evaluated characteristic over the period."""
+    inside = period_points(result, period)
+    signals = [s for s in result.signals if inside[s.subgroup - 1]]
+    row = PackRow(source=source, sheet=result.sheet, characteristic=result.characteristic.name,
+                  chart=result.fit.chart, points=int(inside.sum()), signals=len(signals))
+    if signals:
+        last = max(signals, key=lambda s: s.subgroup)
+        row.latest_signal = f"point {last.subgroup} ({last.label})" if last.label != str(last.subgroup) \
+            else f"point {last.subgroup}"
+    cap = result.capability
+    if isinstance(cap, Capability) and cap.cpk is not None:
+        row.cpk = cap.cpk
+        interval = cap.ci.get("cpk")
+        if interval is not None:
+            row.cpk_low, row.cpk_high = interval.low, interval.high
+    perf = result.performance
+    row.arl_in_control = perf.arl_in_control if np.isfinite(perf.arl_in_control) else None
+    row.false_alarms_per_month = perf.false_alarms_per_month
+    if int(result.fit.base.sum()) < MIN_BASE_SUBGROUPS:
+        row.flags.append("little")
+    if signals:
+        row.flags.append("signals")
+    if row.cpk is not None and row.cpk < CAPABILITY_TARGET:
+        row.flags.append("capability")
+    row.status = "; ".join(STATUS_WORDS[f] for f in row.flags) or STATUS_WORDS["steady"]
+    return row
+
+
+def failed_row(source: str, sheet: str, reason: str) -> PackRow:
+    """The row of a file or sheet that could not be evaluated."""
+    return PackRow(source=source, sheet=sheet, characteristic="", status=STATUS_WORDS["failed"],
+                   reason=reason, flags=["failed"])
+
+
+def pack_key(source: str, sheet: str) -> str:
+    """How a characteristic is named in the pack's limits block: source file and sheet."""
+    return f"{source} :: {sheet}"
