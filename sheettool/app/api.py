@@ -58,21 +58,20 @@ def evaluate_file(input_path: Path, output: Path | None = None,
     results, reads, problems = [], [], list(read.problems)
     for sheet in read.sheets:
         if carried is not None and sheet.sheet not in carried:
-            problems.append(Problem("warning", f"{input_path.name}, sheet '{sheet.sheet}'",
-                                    f"no carried limits for this sheet in {carried_from or 'the limits file'}; "
-                                    "its limits come from its own base period"))
+            source = carried_from or "the limits file"
+            problems.append(Problem("warning", f"no carried limits for this sheet in {source}; its limits come from "
+                                    "its own base period", input_path.name, sheet.sheet))
         try:
             options, used = options_for(sheet, read.settings, settings)
             if carried is not None:
                 options = replace(options, carried=carried.get(sheet.sheet))
             result = evaluate(sheet.characteristic, sheet.sheet, options)
             result.settings = used
-            place = f"{input_path.name}, sheet '{sheet.sheet}'"
-            result.problems = [replace(p, where=place) if p.where == sheet.sheet else p for p in result.problems]
+            result.problems = [p.located(input_path.name, sheet.sheet) for p in result.problems]
             results.append(result)
             reads.append(sheet)
         except ValueError as exc:
-            problems.append(Problem("error", f"{input_path.name}, sheet '{sheet.sheet}'", str(exc)))
+            problems.append(Problem("error", str(exc), input_path.name, sheet.sheet))
     if not results:
         detail = "; ".join(f"{p.where}: {p.message}" for p in problems)
         raise InputError(f"{input_path}: nothing could be evaluated ({detail})")

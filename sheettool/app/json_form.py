@@ -8,6 +8,7 @@ from typing import Any
 import numpy as np
 
 from sheettool import TOOL_NAME, __version__
+from sheettool.base.problems import Problem
 from sheettool.core.capability import AttributeRate, Capability
 from sheettool.core.charts import PlottedStatistic
 from sheettool.core.data_shape import DataShapeReport
@@ -155,7 +156,7 @@ def report_json(report: EvaluationReport) -> dict[str, Any]:
         "output": str(report.output) if report.output else None,
         "characteristics": [{**characteristic_json(c), **reader_json(c.settings, r)}
                             for c, r in zip(report.characteristics, _reads(report), strict=True)],
-        "problems": [{"severity": p.severity, "where": p.where, "message": p.message} for p in problems],
+        "problems": [problem_json(p) for p in problems],
     }
 
 
@@ -181,3 +182,10 @@ def reader_json(settings: dict[str, Setting], read: SheetRead | None) -> dict[st
             "formulas_without_value": read.formulas_without_value, "unit": ch.unit or None,
         }
     return out
+
+
+def problem_json(problem: Problem, source: str = "") -> dict[str, Any]:
+    """A problem: its severity, its place in words and as fields, and the message."""
+    where = f"{source}: {problem.where}" if source else problem.where
+    return {"severity": problem.severity, "where": where, "file": problem.file or None,
+            "sheet": problem.sheet or None, "cell": problem.cell or None, "message": problem.message}

@@ -83,14 +83,8 @@ def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period |
             tab += 1
         for problem in outcome.report.problems:
             if problem.severity == "error":
-                rows.append(failed_row(source, _sheet_of(problem.where), problem.message))
+                rows.append(failed_row(source, problem.sheet, problem.message))
     return Pack(outcomes=outcomes, rows=rows, period=period)
-
-
-def _sheet_of(where: str) -> str:
-    """The sheet named in a problem's place ("file, sheet 'X'"), or ""."""
-    marker = "sheet '"
-    return where.split(marker, 1)[1].rstrip("'") if marker in where else ""
 
 
 def write_pack(pack: Pack, path: Path, options: WriterOptions | None = None) -> None:

@@ -9,7 +9,7 @@ from typing import Any
 
 from sheettool import TOOL_NAME, __version__
 from sheettool.app.batch import Progress, collect_inputs
-from sheettool.app.json_form import characteristic_json
+from sheettool.app.json_form import characteristic_json, problem_json
 from sheettool.app.pack import Pack, Period, build_pack, write_pack
 from sheettool.base.errors import InputError, UsageError
 from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, print_json, writer_options
@@ -67,7 +67,7 @@ def pack_json(pack: Pack, output: Path) -> dict[str, Any]:
                           "summary": {"points_in_period": row.points, "signals_in_period": row.signals,
                                       "latest_signal": row.latest_signal or None, "status": row.status}})
             characteristics.append(entry)
-        problems += [{"severity": p.severity, "where": f"{outcome.job.source}: {p.where}", "message": p.message}
+        problems += [problem_json(p, outcome.job.source)
                      for p in report.problems + [p for c in report.characteristics for p in c.problems]]
     return {
         "tool": {"name": TOOL_NAME, "version": __version__},

@@ -58,14 +58,14 @@ def scheme_checks(characteristic: Characteristic, fit: ChartFit, rules: list[Rul
         try:
             setattr(out, name, step())
         except ValueError as exc:
-            out.problems.append(Problem("note", sheet, f"{what} not computed: {exc}"))
+            out.problems.append(Problem("note", f"{what} not computed: {exc}", sheet=sheet))
     if out.estimated_limits is not None:
-        out.problems.append(Problem("note", sheet, f"estimated limits: {out.estimated_limits.sentence}"))
+        out.problems.append(Problem("note", f"estimated limits: {out.estimated_limits.sentence}", sheet=sheet))
     for warning in out.data_shape.warnings if out.data_shape else []:
-        out.problems.append(Problem("warning", sheet, f"data shape: {warning}"))
+        out.problems.append(Problem("warning", f"data shape: {warning}", sheet=sheet))
     for item in out.requirements.items if out.requirements else []:
         if item.met is not True:
-            out.problems.append(Problem("warning", sheet, f"requirement {item.name}: {item.words}"))
+            out.problems.append(Problem("warning", f"requirement {item.name}: {item.words}", sheet=sheet))
     return out
 
 

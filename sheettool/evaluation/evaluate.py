@@ -102,16 +102,16 @@ def evaluate(characteristic: Characteristic, sheet: str,
     if carried_n is not None and carried_n != fit.subgroup_size and isinstance(characteristic.data, Measurements):
         fit.notes.append(f"the carried limits were set on subgroups of {carried_n}, these have {fit.subgroup_size}: "
                          "the limits follow each subgroup's size from the carried mean and sigma")
-    problems = [Problem("note", sheet, note) for note in fit.notes]
+    problems = [Problem("note", note, sheet=sheet) for note in fit.notes]
     if fit.sigma_within == 0:
         collapse = ("every subgroup has zero spread: the limits collapse onto the center line; check the gauge "
                     "resolution") if isinstance(characteristic.data, Measurements) else (
                     "no count in the base period: the limits collapse onto zero; give a standard value (p0, c0) "
                     "or a longer base period")
-        problems.append(Problem("warning", sheet, collapse))
+        problems.append(Problem("warning", collapse, sheet=sheet))
     for note in getattr(capability, "notes", []):
         warn = note.startswith(("normality is doubtful", "the chart signals"))
-        problems.append(Problem("warning" if warn else "note", sheet, f"capability: {note}"))
+        problems.append(Problem("warning" if warn else "note", f"capability: {note}", sheet=sheet))
     performance = performance_of(fit, rules, options)
     checks = scheme_checks(characteristic, fit, rules, performance, options, sheet)
     return CharacteristicResult(

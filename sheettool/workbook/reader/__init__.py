@@ -36,21 +36,20 @@ def _read(path: Path, cli_settings: dict[str, Setting] | None) -> WorkbookRead:
     settings = SettingsSheet()
     for raw in raws:
         if raw.title.strip().lower() == SETTINGS_SHEET:
-            settings, found = read_settings_sheet(raw.rows, f"{path.name}, settings sheet")
+            settings, found = read_settings_sheet(raw.rows, raw.title)
             problems.extend(found)
     sheets: list[SheetRead] = []
     for raw in raws:
         if raw.title.strip().lower() == SETTINGS_SHEET:
             continue
-        where = f"{path.name}, sheet '{raw.title}'"
         try:
             sheet = read_sheet(raw, settings.for_sheet(raw.title), cli_settings or {})
         except InputError as exc:
-            problems.append(Problem("warning", where, f"{exc}; sheet not evaluated"))
+            problems.append(Problem("warning", f"{exc}; sheet not evaluated", path.name, raw.title))
             continue
         if raw.hidden:
-            problems.append(Problem("note", where, "the sheet is hidden; it was read like the others"))
-        problems.extend(Problem(p.severity, f"{path.name}, {p.where}", p.message) for p in sheet.problems)
+            problems.append(Problem("note", "the sheet is hidden; it was read like the others", path.name, raw.title))
+        problems.extend(p.located(path.name) for p in sheet.problems)
         sheets.append(sheet)
     if not sheets:
         detail = "; ".join(f"{p.where}: {p.message}" for p in problems) or "the workbook has no sheets"

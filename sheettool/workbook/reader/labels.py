@@ -83,8 +83,8 @@ def _converts(setting: Setting) -> bool:
     return True
 
 
-def read_settings_sheet(rows: list[list[object]], where: str) -> tuple[SettingsSheet, list[Problem]]:
-    """Read the settings sheet; unknown names are reported by row and otherwise left alone."""
+def read_settings_sheet(rows: list[list[object]], title: str) -> tuple[SettingsSheet, list[Problem]]:
+    """Read the settings sheet (its tab named `title`); unknown names are reported by row and otherwise left alone."""
     sheet = SettingsSheet()
     problems: list[Problem] = []
     target = sheet.common
@@ -101,9 +101,11 @@ def read_settings_sheet(rows: list[list[object]], where: str) -> tuple[SettingsS
         if r == 1 and text.lower() == "name":
             continue
         if name is None:
-            problems.append(Problem("warning", f"{where} row {r}", f"unknown setting '{text}' was not used"))
+            problems.append(Problem("warning", f"unknown setting '{text}' was not used", sheet=title,
+                                    cell=f"row {r}"))
         elif _blank(value):
-            problems.append(Problem("warning", f"{where} row {r}", f"setting '{text}' has no value in column B"))
+            problems.append(Problem("warning", f"setting '{text}' has no value in column B", sheet=title,
+                                    cell=f"row {r}"))
         else:
             target[name] = Setting(name, value, f"settings sheet row {r}")
     return sheet, problems

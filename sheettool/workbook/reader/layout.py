@@ -191,7 +191,6 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
     date_col = next((c for c in range(width) if roles[c] == "date"), None)
     time_col = next((c for c in range(width) if roles[c] == "time"), None)
     problems: list[Problem] = []
-    where = f"sheet '{title}'"
 
     # Measurement (or count) cells: numbers, blanks and cells that are not numbers.
     value_cols = [count_col] + ([inspected_col] if inspected_col is not None else []) if count_col is not None \
@@ -208,14 +207,14 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
     blanks = int(((sub == BLANK) & has_reading[:, None]).sum())
     if not_numbers:
         shown = ", ".join(not_numbers[:10]) + (f" and {len(not_numbers) - 10} more" if len(not_numbers) > 10 else "")
-        problems.append(Problem("warning", where, f"{len(not_numbers)} cell(s) are not numbers and were treated "
-                                f"as missing: {shown}"))
+        problems.append(Problem("warning", f"{len(not_numbers)} cell(s) are not numbers and were treated "
+                                f"as missing: {shown}", sheet=title))
     if not keep:
         raise InputError("no readings found in the measurement columns")
     if len(keep) < len(data_idx):
         passed = sorted(set(data_idx) - set(keep))
-        problems.append(Problem("note", where, f"{len(passed)} row(s) without readings were passed over: rows "
-                                f"{_ranges([i + 1 for i in passed][:50])}"))
+        problems.append(Problem("note", f"{len(passed)} row(s) without readings were passed over: rows "
+                                f"{_ranges([i + 1 for i in passed][:50])}", sheet=title))
 
     notes = [text_of(v) for v in _column(rows, keep, note_col)] if note_col is not None else [""] * len(keep)
     dates = _dates(rows, keep, date_col, time_col)
@@ -228,7 +227,7 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
                     notes=notes, dates=dates, rows=[(*rows[i], *(None,) * (width - len(rows[i]))) for i in keep],
                     header=names[:], starts=keep)
     if layout == "attribute counts":
-        shape = _counts(across, values, roles[count_col], count_col, inspected_col is not None, problems, where)
+        shape = _counts(across, values, roles[count_col], count_col, inspected_col is not None, problems, title)
     elif layout == "readings down":
         lead = names[key_col] if key_col is not None else names[date_col] if date_col is not None else "Subgroup"
         shape = _down(across, values[:, 0], keys, subgroup_size, lead or "Subgroup", names[measure[0]] or "Reading")
@@ -249,32 +248,32 @@ def _build(raw: RawSheet, rows: list[list[object]], kinds: np.ndarray, numbers: 
             notes[i] = "; ".join(x for x in (notes[i], f"only {sizes[i]} reading: kept out of the limits") if x)
         excluded |= few
         if short:
-            problems.append(Problem("note", where, f"{short} subgroup(s) have fewer than {data.values.shape[1]} "
+            problems.append(Problem("note", f"{short} subgroup(s) have fewer than {data.values.shape[1]} "
                                     f"readings: plotted with their real size; those with fewer than {MIN_READINGS} "
-                                    "readings are kept out of the limits"))
+                                    "readings are kept out of the limits", sheet=title))
     if excluded.any():
         shown = ", ".join(labels[i] for i in np.flatnonzero(excluded)[:10])
-        problems.append(Problem("note", where, f"{int(excluded.sum())} subgroup(s) kept out of the limits by their "
-                                f"note or size (still plotted): {shown}"))
+        problems.append(Problem("note", f"{int(excluded.sum())} subgroup(s) kept out of the limits by their "
+                                f"note or size (still plotted): {shown}", sheet=title))
     if data.subgroups < 20:
-        problems.append(Problem("note", where, f"only {data.subgroups} subgroups: 20 or more are usual before "
-                                "limits are trusted"))
+        problems.append(Problem("note", f"only {data.subgroups} subgroups: 20 or more are usual before "
+                                "limits are trusted", sheet=title))
     columns = columns_meaning(names, roles, layout)
     used = sorted({c for c, r in enumerate(roles) if r not in ("empty", "text")})
     hidden_columns = [get_column_letter(c + 1) for c in used if c + 1 in raw.hidden_columns]
     first, last = data_idx[0] + 1, data_idx[-1] + 1
     hidden_rows = sorted(r for r in raw.hidden_rows if first <= r <= last)
     if hidden_rows or hidden_columns:
-        problems.append(Problem("note", where, "hidden cells were read like the others: "
+        problems.append(Problem("note", "hidden cells were read like the others: "
                                 + "; ".join(x for x in (f"rows {_ranges(hidden_rows)}" if hidden_rows else "",
                                                         f"columns {', '.join(hidden_columns)}" if hidden_columns
-                                                        else "") if x)))
+                                                        else "") if x), sheet=title))
     uncached = [f"{address(title, 1, 1).rsplit('!', 1)[0]}!{ref}" for ref in raw.uncached]
     if uncached:
         shown = ", ".join(uncached[:10]) + (f" and {len(uncached) - 10} more" if len(uncached) > 10 else "")
-        problems.append(Problem("warning", where, f"{len(uncached)} formula cell(s) have no saved value (the file "
+        problems.append(Problem("warning", f"{len(uncached)} formula cell(s) have no saved value (the file "
                                 f"was written by a program that does not calculate): {shown}; open and save the "
-                                "file in a spreadsheet application to store the values"))
+                                "file in a spreadsheet application to store the values", sheet=title))
     unit = resolved["unit"].value if "unit" in resolved else unit_of(names, rows, units_row,
                                                                      value_cols if count_col is None else [])
     characteristic = Characteristic(name=title, data=data, labels=labels, unit=str(unit), excluded=excluded,
@@ -304,14 +303,14 @@ class _Shape:
 
 
 def _counts(across: _Shape, values: np.ndarray, kind: str, count_col: int, has_inspected: bool,
-            problems: list[Problem], where: str) -> _Shape:
+            problems: list[Problem], title: str) -> _Shape:
     """Attribute counts: the count column, the units inspected (one unit a row for defects without it)."""
     inspected = values[:, 1] if has_inspected else np.ones(len(values))
     if not has_inspected and kind == "defectives":
         raise InputError(f"column {get_column_letter(count_col + 1)} counts defectives but no column gives "
                          "the number inspected; add one headed 'inspected'")
     if not has_inspected:
-        problems.append(Problem("note", where, "no column of units inspected: each row counts as one unit"))
+        problems.append(Problem("note", "no column of units inspected: each row counts as one unit", sheet=title))
     counts = values[:, 0]
     impossible = np.isnan(counts) | (counts < 0) | np.isnan(inspected) | (inspected <= 0)
     if kind == "defectives":
@@ -319,9 +318,9 @@ def _counts(across: _Shape, values: np.ndarray, kind: str, count_col: int, has_i
     notes = list(across.notes)
     if impossible.any():
         shown = ", ".join(str(across.starts[i] + 1) for i in np.flatnonzero(impossible)[:10])
-        problems.append(Problem("warning", where, f"rows {shown}: the count is missing or negative, exceeds the "
+        problems.append(Problem("warning", f"rows {shown}: the count is missing or negative, exceeds the "
                                 "units inspected, or no units inspected are given; those rows are kept out of the "
-                                "limits"))
+                                "limits", sheet=title))
         for i in np.flatnonzero(impossible):
             notes[i] = "; ".join(x for x in (notes[i], "count impossible: excluded") if x)
     return replace(across, data=Counts(counts, inspected, kind=kind), readings=len(values), notes=notes)
