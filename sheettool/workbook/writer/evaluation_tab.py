@@ -4,9 +4,7 @@ a small performance table, in that order, laid out to print landscape one page w
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
-from typing import Any
 
 import numpy as np
 
@@ -15,21 +13,15 @@ from sheettool.core.data import Measurements
 from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells, charts, formulas
+from sheettool.workbook.writer.book_writer import BookWriter
 from sheettool.workbook.writer.data_tab import DataLayout
 from sheettool.workbook.writer.methods import method
 from sheettool.workbook.writer.notes_tab import CAUTION
 from sheettool.workbook.writer.performance_tab import shift_heading
+from sheettool.workbook.writer.tab import Tab
 from sheettool.workbook.writer.trust_block import has_checks, write_trust_block
 
 LIMIT_KEYS = (("center", "Center line"), ("lcl", "LCL"), ("ucl", "UCL"))
-
-
-@dataclass
-class Links:
-    """Tabs the evaluation tab links to."""
-
-    performance: str
-    notes: str
 
 
 @dataclass
@@ -38,36 +30,6 @@ class EvaluationWritten:
 
     limit_names: dict[tuple[str, str], str] = field(default_factory=dict)
     as_values: list[str] = field(default_factory=list)
-
-
-class _Rows:
-    """A cursor over the tab's rows, so sections follow each other without counting by hand."""
-
-    def __init__(self, ws: Any, fmt: dict[str, Any]) -> None:
-        self.ws, self.fmt, self.row = ws, fmt, 0
-
-    def fact(self, label: str, value: str, wrap: bool = False) -> None:
-        self.ws.write_string(self.row, 0, label, self.fmt["label"])
-        if wrap:
-            self.ws.merge_range(self.row, 1, self.row, 4, "", self.fmt["wrap"])
-            lines = max(1, math.ceil(len(value) / 105))
-            if lines > 1:
-                self.ws.set_row(self.row, 15 * lines)
-        self.ws.write_string(self.row, 1, value, self.fmt["wrap"] if wrap else None)
-        self.row += 1
-
-    def section(self, title: str) -> None:
-        self.row += 1
-        self.ws.merge_range(self.row, 0, self.row, 4, "", self.fmt["section"])
-        self.ws.write_string(self.row, 0, title, self.fmt["section"])
-        self.row += 1
-
-    def head(self, titles: list[str], numeric: tuple[int, ...] = (), centered: tuple[int, ...] = ()) -> None:
-        for c, t in enumerate(titles):
-            role = ("head_number" if c in numeric else "head_center" if c in centered else
-                    "head_note" if c == 4 else "head")
-            self.ws.write_string(self.row, c, t, self.fmt[role])
-        self.row += 1
 
 
 def _spans(mask: np.ndarray) -> str:
@@ -122,17 +84,20 @@ def zones_in_use(result: CharacteristicResult) -> bool:
     return any(r.is_zone and not (r.k == 1 and r.m == 1 and r.z >= 3) for r in result.rules)
 
 
-def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: CharacteristicResult,
-                         layout: DataLayout, lines: charts.LineSheet, links: Links, live: bool,
-                         used_names: set[str], index: int) -> EvaluationWritten:
-    """Write the evaluation tab; return the names of its constant limits (for the data tab's formulas)."""
+def write_evaluation_tab(out: BookWriter, rows: Tab, result: CharacteristicResult, layout: DataLayout,
+                         table: str) -> EvaluationWritten:
+    """Write the evaluation tab; return the names of its constant limits (for the data tab's formulas).
+
+    `table` names the tab's signal table (unique in the workbook).
+    """
     fit, ch = result.fit, result.characteristic
+    ws, fmt = rows.ws, rows.fmt
     about = method(fit.chart)
     for c, w in enumerate(style.EVAL_COLUMNS):
         ws.set_column(c, c, w)
-    out = EvaluationWritten()
-    rows = _Rows(ws, fmt)
+    written = EvaluationWritten()
     ws.write_string(0, 0, f"{ch.name}: {about.words}", fmt["title"])
+    links = out.links
     for c, (text, target) in enumerate((("Data and statistics", layout.tab), ("Scheme performance", links.performance),
                                         ("Method and audit", links.notes)), start=1):
         ws.write_url(1, c, cells.internal_link(target), fmt["link"], string=text)
@@ -150,7 +115,7 @@ def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: Charac
     rows.fact("Rules in use", "; ".join(f"{r.text}: {r.words}" for r in result.rules), wrap=True)
     rows.fact("Period covered", _period(result))
     rows.fact("Counts", _counts(result))
-    _limits_table(book, rows, result, layout, live, used_names, out)
+    _limits_table(out, rows, result, layout, written)
     rows.row += 1
     breaks = [rows.row]  # the charts start a printed page, two to a page, right after the limits
     zones = zones_in_use(result)
@@ -158,7 +123,7 @@ def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: Charac
     for i, sc in enumerate(layout.stats.values()):
         if i and i % 2 == 0:
             breaks.append(rows.row)
-        chart = charts.control_chart(book, layout, sc, lines, zones, f"{sc.stat.label}: {ch.name}", unit,
+        chart = charts.control_chart(out, layout, sc, zones, f"{sc.stat.label}: {ch.name}", unit,
                                      [s for s in result.signals if s.statistic == sc.stat.name])
         ws.insert_chart(rows.row, 0, chart, {"x_offset": 4, "y_offset": 4})
         rows.row += style.CHART_ROWS
@@ -169,19 +134,18 @@ def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: Charac
     rows.row += 1
     breaks.append(rows.row)
     ws.set_h_pagebreaks(breaks)
-    _signals(rows, result, f"signals_{index}")
-    _performance(rows, result, links)
+    _signals(rows, result, table)
+    _performance(rows, result, links.performance)
     rows.row += 1
-    ws.merge_range(rows.row, 0, rows.row, 4, "", fmt["caution"])
-    ws.set_row(rows.row, 45)
-    ws.write_string(rows.row, 0, CAUTION, fmt["caution"])
+    rows.across(0, 4, CAUTION, "caution")
+    rows.fit(CAUTION, sum(style.EVAL_COLUMNS), least=3)  # room around the caution, whatever its length
     cells.print_setup(ws, ch.name)
-    return out
+    return written
 
 
-def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: DataLayout, live: bool,
-                  used_names: set[str], out: EvaluationWritten) -> None:
-    ws, fmt = rows.ws, rows.fmt
+def _limits_table(out: BookWriter, rows: Tab, result: CharacteristicResult, layout: DataLayout,
+                  written: EvaluationWritten) -> None:
+    ws, fmt, live = rows.ws, rows.fmt, out.live
     rows.section("Control limits")
     rows.head(["Statistic", "Center line", "LCL", "UCL", "Note"], (1, 2, 3))
     first = rows.row
@@ -215,11 +179,7 @@ def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: 
                 else:
                     cells.number(ws, rows.row, c, float(arr[0]), limit_fmt)
                 name = cells.defined_name(layout.eval_tab, stat.name, word.replace(" ", "_"))
-                while name.lower() in used_names:
-                    name += "_"
-                used_names.add(name.lower())
-                book.define_name(name, "=" + cells.cell(layout.eval_tab, rows.row, c))
-                out.limit_names[(stat.name, key)] = name
+                written.limit_names[(stat.name, key)] = out.define(name, cells.cell(layout.eval_tab, rows.row, c))
             elif finite.size == 0:
                 ws.write_string(rows.row, c, "none", fmt["text_right"])
             else:
@@ -229,13 +189,12 @@ def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: 
         text = ("varies by point: see data tab; " + ", ".join(notes)) if notes else "the same at every point"
         if stat.lcl_floored:
             text += "; LCL below zero by formula, shown as 0"
-        ws.write_string(rows.row, 4, text, fmt["note"])
-        if len(text) > style.EVAL_COLUMNS[4]:
-            ws.set_row(rows.row, 15 * math.ceil(len(text) / (style.EVAL_COLUMNS[4] - 4)))
+        rows.text(4, text, "note")
+        rows.fit(text, style.EVAL_COLUMNS[4], per_line=style.EVAL_COLUMNS[4] - 4)
         rows.row += 1
     if live:
-        out.as_values = [f"{sc.stat.label} {word}" for sc in stats for key, word in LIMIT_KEYS
-                         if (sc.stat.name, key) in out.limit_names and (sc.stat.name, key) not in live_cells]
+        written.as_values = [f"{sc.stat.label} {word}" for sc in stats for key, word in LIMIT_KEYS
+                             if (sc.stat.name, key) in written.limit_names and (sc.stat.name, key) not in live_cells]
     if const_at:
         rows.row = const_row
         rows.head(["Constant", "Value", "What it is"], (1,))
@@ -247,7 +206,7 @@ def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: 
         rows.row = const_row + 1 + len(const_at)
 
 
-def _signals(rows: _Rows, result: CharacteristicResult, table: str) -> None:
+def _signals(rows: Tab, result: CharacteristicResult, table: str) -> None:
     ws = rows.ws
     rows.section(f"Signals ({len(result.signals)})")
     if not result.signals:
@@ -270,7 +229,7 @@ def _signals(rows: _Rows, result: CharacteristicResult, table: str) -> None:
     rows.row = top + len(result.signals) + 1
 
 
-def _capability(rows: _Rows, result: CharacteristicResult) -> None:
+def _capability(rows: Tab, result: CharacteristicResult) -> None:
     ws, fmt = rows.ws, rows.fmt
     cap = result.capability
     rows.section("Capability")
@@ -321,7 +280,7 @@ def _capability(rows: _Rows, result: CharacteristicResult) -> None:
         rows.fact("Note", note, wrap=True)
 
 
-def _performance(rows: _Rows, result: CharacteristicResult, links: Links) -> None:
+def _performance(rows: Tab, result: CharacteristicResult, performance_tab: str) -> None:
     ws, fmt = rows.ws, rows.fmt
     perf = result.performance
     rows.section("How this scheme behaves")
@@ -344,6 +303,6 @@ def _performance(rows: _Rows, result: CharacteristicResult, links: Links) -> Non
         cells.number(ws, rows.row, 1, s.arl, fmt["arl"])
         cells.number(ws, rows.row, 2, s.ats_hours, fmt["hours"])
         rows.row += 1
-    ws.write_url(rows.row, 0, cells.internal_link(links.performance), fmt["link"],
+    ws.write_url(rows.row, 0, cells.internal_link(performance_tab), fmt["link"],
                  string="ARL over a finer grid of shifts: Scheme performance")
     rows.row += 1

@@ -5,13 +5,15 @@ and dependence, and the requirements check, each shown only when the evaluation 
 from __future__ import annotations
 
 import math
-from typing import Any
+
+from xlsxwriter.format import Format
 
 from sheettool.core.data_shape import DataShapeReport
 from sheettool.core.design import RequirementsCheck
 from sheettool.core.estimated_limits import EstimatedLimitsReport
 from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook import style
+from sheettool.workbook.writer.tab import Tab
 
 TITLE = "How far to trust these limits"
 NO_VALUE = "—"
@@ -30,8 +32,8 @@ def has_checks(result: CharacteristicResult) -> bool:
     return any(x is not None for x in (result.estimated_limits, result.data_shape, result.requirements_check))
 
 
-def write_trust_block(rows: Any, result: CharacteristicResult) -> None:
-    """Write the block at the evaluation tab's row cursor (an evaluation_tab._Rows), when there is something."""
+def write_trust_block(rows: Tab, result: CharacteristicResult) -> None:
+    """Write the block at the evaluation tab's row cursor, when there is something to show."""
     if not has_checks(result):
         return
     rows.section(TITLE)
@@ -43,7 +45,7 @@ def write_trust_block(rows: Any, result: CharacteristicResult) -> None:
         _requirements(rows, result.requirements_check)
 
 
-def _value(rows: Any, col: int, value: float | None, fmt: Any) -> None:
+def _value(rows: Tab, col: int, value: float | None, fmt: Format) -> None:
     """A number, or a word where there is none: infinite -> 'unbounded', None or NaN -> a dash."""
     ws = rows.ws
     if value is None or math.isnan(value):
@@ -54,28 +56,20 @@ def _value(rows: Any, col: int, value: float | None, fmt: Any) -> None:
         ws.write_number(rows.row, col, float(value), fmt)
 
 
-def _note(rows: Any, text: str) -> None:
+def _note(rows: Tab, text: str) -> None:
     """The note column of the current row, the row made tall enough to show it all."""
-    rows.ws.write_string(rows.row, 4, text, rows.fmt["note"])
-    _height(rows, text, _NOTE_CHARS)
+    rows.text(4, text, "note")
+    rows.fit(text, _NOTE_CHARS)
 
 
-def _height(rows: Any, text: str, chars: int) -> None:
-    lines = max(1, math.ceil(len(text) / chars))
-    if lines > 1:
-        rows.ws.set_row(rows.row, 15 * lines)
-
-
-def _wide(rows: Any, text: str, role: str) -> None:
+def _wide(rows: Tab, text: str, role: str) -> None:
     """One line of text across the tab's full width, wrapped (the lead sentence, a warning)."""
-    ws, fmt = rows.ws, rows.fmt
-    ws.merge_range(rows.row, 0, rows.row, 4, "", fmt[role])
-    ws.write_string(rows.row, 0, text, fmt[role])
-    _height(rows, text, _FULL_CHARS)
+    rows.across(0, 4, text, role)
+    rows.fit(text, _FULL_CHARS)
     rows.row += 1
 
 
-def _line(rows: Any, label: str, values: tuple[tuple[float | None, str], ...], note: str) -> None:
+def _line(rows: Tab, label: str, values: tuple[tuple[float | None, str], ...], note: str) -> None:
     rows.ws.write_string(rows.row, 0, label, rows.fmt["text"])
     for col, (value, role) in enumerate(values, start=1):
         if role:
@@ -84,7 +78,7 @@ def _line(rows: Any, label: str, values: tuple[tuple[float | None, str], ...], n
     rows.row += 1
 
 
-def _estimated(rows: Any, rep: EstimatedLimitsReport) -> None:
+def _estimated(rows: Tab, rep: EstimatedLimitsReport) -> None:
     dist, what = rep.distribution, ("points" if rep.distribution.n == 1 else "subgroups")
     _wide(rows, rep.sentence, "lead")
     rows.head(["Estimated limits", "In-control ARL", "", "", "What it means"], (1,))
@@ -116,7 +110,7 @@ def _estimated(rows: Any, rep: EstimatedLimitsReport) -> None:
         _wide(rows, f"Note: {text}", "wrap")
 
 
-def _shape(rows: Any, rep: DataShapeReport) -> None:
+def _shape(rows: Tab, rep: DataShapeReport) -> None:
     shape, dep = rep.shape, rep.dependence
     rows.row += 1
     rows.head(["Shape and dependence", "This data", "Normal model", "", "Note"], (1, 2))
@@ -143,7 +137,7 @@ def _ratio(value: float) -> str:
     return UNBOUNDED if math.isinf(value) else NO_VALUE if math.isnan(value) else f"{value:.2f}"
 
 
-def _requirements(rows: Any, check: RequirementsCheck) -> None:
+def _requirements(rows: Tab, check: RequirementsCheck) -> None:
     rows.row += 1
     rows.head(["Requirement", "Required", "Achieved", "Met", "In words"], (1, 2), centered=(3,))
     for item in check.items:
