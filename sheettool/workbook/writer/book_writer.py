@@ -21,8 +21,7 @@ from sheettool.workbook.writer.tab import Tab
 # Text is always text (never a formula, a link or a number); NaN and infinities are never written as numbers.
 _WORKBOOK_OPTIONS = {"strings_to_formulas": False, "strings_to_urls": False, "strings_to_numbers": False,
                      "nan_inf_to_errors": False}
-
-
+# the evaluated workbook's fixed tabs that every evaluation tab links to
 PERFORMANCE_TAB = "Scheme performance"
 NOTES_TAB = "Method and audit"
 
@@ -38,13 +37,12 @@ class Links:
 class BookWriter:
     """One output workbook being written: workbook, formats, tab names, defined names, chart lines and links."""
 
-    def __init__(self, path: str, live: bool = False, links: Links | None = None,
-                 reserved: tuple[str, ...] = ()) -> None:
+    def __init__(self, path: str, live: bool = False, reserved: tuple[str, ...] = ()) -> None:
         """Open the workbook at `path`; `reserved` are tab names kept for fixed tabs added later."""
         self.book = xlsxwriter.Workbook(path, _WORKBOOK_OPTIONS)
         self.fmt = style.formats(self.book)
         self.live = live
-        self.links = links or Links()
+        self.links = Links()
         self.lines = LineSheet()
         self._tab_names = {name.lower() for name in reserved}
         self._defined: set[str] = set()
