@@ -20,7 +20,7 @@ from sheettool.evaluation.evaluate import find_signals
 from sheettool.evaluation.results import CharacteristicResult, Performance, ShiftArl
 from sheettool.settings import Setting
 from sheettool.workbook.reader import SheetRead
-from sheettool.workbook.report import EvaluationReport
+from sheettool.workbook.report import EvaluationReport, SheetEvaluation
 
 START = dt.datetime(2026, 11, 2, 6, 0)
 
@@ -109,14 +109,14 @@ def attribute_case(m: int = 25, seed: int = 9) -> tuple[CharacteristicResult, Sh
     return result, read
 
 
-def report_for(tmp: Path, cases: list[tuple[CharacteristicResult, SheetRead]]) -> tuple[EvaluationReport, list]:
+def report_for(tmp: Path, cases: list[tuple[CharacteristicResult, SheetRead]]) -> EvaluationReport:
     """A report over an (empty, stand-in) input file in tmp."""
     source = tmp / "built-input.xlsx"
     source.write_bytes(b"stand-in input for writer tests")
     digest = hashlib.sha256(source.read_bytes()).hexdigest()
     report = EvaluationReport(input=source, input_sha256=digest, input_size=source.stat().st_size,
-                              output=None, characteristics=[c[0] for c in cases])
-    return report, [c[1] for c in cases]
+                              output=None, sheets=[SheetEvaluation(read, result) for result, read in cases])
+    return report
 
 
 def cusum_ewma_case(m: int = 60, seed: int = 13) -> tuple[CharacteristicResult, SheetRead]:

@@ -15,7 +15,7 @@ from sheettool.evaluation.options import options_for
 from sheettool.settings import Setting
 from sheettool.workbook.design_book import write_design_workbook
 from sheettool.workbook.reader import read_workbook
-from sheettool.workbook.report import EvaluationReport
+from sheettool.workbook.report import EvaluationReport, SheetEvaluation
 from sheettool.workbook.writer import WriterOptions, write_evaluated_workbook
 
 
@@ -55,7 +55,7 @@ def evaluate_file(input_path: Path, output: Path | None = None,
         sha, size = file_digest(input_path)
     except OSError as exc:
         raise InputError(f"{input_path}: cannot be read ({exc.strerror})") from None
-    results, reads, problems = [], [], list(read.problems)
+    sheets, problems = [], list(read.problems)
     for sheet in read.sheets:
         if carried is not None and sheet.sheet not in carried:
             source = carried_from or "the limits file"
@@ -68,19 +68,17 @@ def evaluate_file(input_path: Path, output: Path | None = None,
             result = evaluate(sheet.characteristic, sheet.sheet, options)
             result.settings = used
             result.problems = [p.located(input_path.name, sheet.sheet) for p in result.problems]
-            results.append(result)
-            reads.append(sheet)
+            sheets.append(SheetEvaluation(sheet, result))
         except ValueError as exc:
             problems.append(Problem("error", str(exc), input_path.name, sheet.sheet))
-    if not results:
+    if not sheets:
         detail = "; ".join(f"{p.where}: {p.message}" for p in problems)
         raise InputError(f"{input_path}: nothing could be evaluated ({detail})")
     out = Path(output) if output else default_output(input_path)
     report = EvaluationReport(input=input_path, input_sha256=sha, input_size=size,
-                              output=out if write else None, characteristics=results, problems=problems,
-                              reads=reads)
+                              output=out if write else None, sheets=sheets, problems=problems)
     if write:
-        write_evaluated_workbook(report, reads, out, writer)
+        write_evaluated_workbook(report, out, writer)
     return report
 
 

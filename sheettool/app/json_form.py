@@ -154,15 +154,10 @@ def report_json(report: EvaluationReport) -> dict[str, Any]:
         "input": str(report.input),
         "input_sha256": report.input_sha256,
         "output": str(report.output) if report.output else None,
-        "characteristics": [{**characteristic_json(c), **reader_json(c.settings, r)}
-                            for c, r in zip(report.characteristics, _reads(report), strict=True)],
+        "characteristics": [{**characteristic_json(s.result), **reader_json(s.result.settings, s.read)}
+                            for s in report.sheets],
         "problems": [problem_json(p) for p in problems],
     }
-
-
-def _reads(report: EvaluationReport) -> list[SheetRead | None]:
-    return list(report.reads) if len(report.reads) == len(report.characteristics) else [None] * len(
-        report.characteristics)
 
 
 def reader_json(settings: dict[str, Setting], read: SheetRead | None) -> dict[str, Any]:

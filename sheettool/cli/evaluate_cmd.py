@@ -47,9 +47,10 @@ def run(args: argparse.Namespace) -> int:
         if outcome.report is None:
             continue
         if args.verbose:
-            for read, result in zip(outcome.report.reads, outcome.report.characteristics, strict=True):
-                given = [f"{s.name} {s.value} ({s.origin})" for s in result.settings.values() if s.origin != "default"]
-                sys.stderr.write(describe(read) + (f"; settings: {', '.join(given)}" if given else "") + "\n")
+            for sheet in outcome.report.sheets:
+                given = [f"{s.name} {s.value} ({s.origin})" for s in sheet.result.settings.values()
+                         if s.origin != "default"]
+                sys.stderr.write(describe(sheet.read) + (f"; settings: {', '.join(given)}" if given else "") + "\n")
         if not args.json:
             for result in outcome.report.characteristics:
                 sys.stderr.write(f"{result.sheet}: {len(result.signals)} signal(s)\n")

@@ -1,21 +1,23 @@
 """Write a scheme design as a workbook: the ranked comparison, ARL curves of the leading schemes, the notes.
 
-Native xlsxwriter charts; written atomically through the evaluated workbook's writer.
+Native xlsxwriter charts; written atomically through the evaluated workbook's BookWriter and Tab cursor.
 """
 
 from __future__ import annotations
 
 import math
 from pathlib import Path
-from typing import Any
 
-import xlsxwriter
+from xlsxwriter.format import Format
 from xlsxwriter.utility import xl_rowcol_to_cell
+from xlsxwriter.worksheet import Worksheet
 
 from sheettool import TOOL_NAME, __version__
 from sheettool.core.design import CURVE_SHIFTS, Candidate, DesignResult, arl_curve, leading
 from sheettool.workbook import style
 from sheettool.workbook.writer import write_atomically
+from sheettool.workbook.writer.book_writer import BookWriter
+from sheettool.workbook.writer.tab import Tab
 
 CAUTION = (
     "The design figures support, and never replace, engineering judgement, the site's quality procedures, customer "
@@ -23,19 +25,18 @@ CAUTION = (
     "known mean and sigma; check those assumptions before a characteristic that bears on safety is monitored with it."
 )
 LEADING = 5  # schemes drawn in the ARL chart: the best of each chart kind, then the next best
+NOTE_WIDTH = 100  # characters: the notes tab's text column
 
 
 def write_design_workbook(result: DesignResult, path: Path) -> None:
     """Write the design to `path` (temporary file, then renamed into place)."""
     def build(tmp: str) -> None:
-        book = xlsxwriter.Workbook(tmp, {"strings_to_formulas": False, "strings_to_urls": False,
-                                         "nan_inf_to_errors": True})
-        book.set_properties({"title": "Monitoring scheme design", "author": f"{TOOL_NAME} {__version__}"})
-        fmt = style.formats(book)
-        _comparison(book.add_worksheet("Scheme comparison"), fmt, result)
-        _curves(book, book.add_worksheet("ARL by shift"), fmt, leading(result.candidates, LEADING))
-        _notes(book.add_worksheet("About this design"), fmt, result)
-        book.close()
+        out = BookWriter(tmp)
+        out.book.set_properties({"title": "Monitoring scheme design", "author": f"{TOOL_NAME} {__version__}"})
+        _comparison(out.add_tab("Scheme comparison"), result)
+        _curves(out, out.add_tab("ARL by shift"), leading(result.candidates, LEADING))
+        _notes(out.add_tab("About this design"), result)
+        out.close()
 
     write_atomically(Path(path), build)
 
@@ -66,13 +67,13 @@ HEAD = ("Rank", "Scheme", "n", "Every (h)", "Measurements per hour", "In-control
         "ARL at the shift", "Time to catch (h)", "Meets every requirement", "Not met")
 
 
-def candidate_row(rank: int, c: Candidate) -> list[Any]:
+def candidate_row(rank: int, c: Candidate) -> list[str | float | None]:
     """One row of the comparison table (numbers stay numbers; None where there is no figure)."""
     return [rank, c.label, c.n, c.interval_hours, c.measurements_per_hour, c.arl_in_control, c.false_alarms_per_month,
             c.arl_at_shift, c.ats_hours, "yes" if c.meets else "no", "; ".join(i.words for i in c.check.missed)]
 
 
-def _cell(ws: Any, row: int, col: int, value: Any, fmt: Any = None) -> None:
+def _cell(ws: Worksheet, row: int, col: int, value: str | float | None, fmt: Format | None = None) -> None:
     if value is None:
         return
     if isinstance(value, str):
@@ -83,12 +84,13 @@ def _cell(ws: Any, row: int, col: int, value: Any, fmt: Any = None) -> None:
         ws.write_string(row, col, "never" if value > 0 else "-", fmt)
 
 
-def _print_wide(ws: Any) -> None:
+def _print_wide(ws: Worksheet) -> None:
     ws.set_landscape()
     ws.fit_to_pages(1, 0)  # one page wide, as many long as needed
 
 
-def _comparison(ws: Any, fmt: dict[str, Any], result: DesignResult) -> None:
+def _comparison(tab: Tab, result: DesignResult) -> None:
+    ws, fmt = tab.ws, tab.fmt
     _print_wide(ws)
     ws.set_column(0, 0, 32)
     ws.set_column(1, 1, 30)
@@ -127,13 +129,14 @@ def _comparison(ws: Any, fmt: dict[str, Any], result: DesignResult) -> None:
     ws.freeze_panes(top + 1, 2)
 
 
-def _curves(book: Any, ws: Any, fmt: dict[str, Any], leading: list[Candidate]) -> None:
+def _curves(out: BookWriter, tab: Tab, leading: list[Candidate]) -> None:
+    ws, fmt = tab.ws, tab.fmt
     _print_wide(ws)
     ws.set_column(0, len(leading), 18)
     ws.write_string(0, 0, "Shift (sigma)", fmt["head"])
     for r, s in enumerate(CURVE_SHIFTS, start=1):
         ws.write_number(r, 0, s)
-    chart = book.add_chart({"type": "scatter", "subtype": "straight"})
+    chart = out.scatter_chart("straight")
     last = len(CURVE_SHIFTS)
     for col, c in enumerate(leading, start=1):
         name = f"{c.label}, {c.sampling_words}"
@@ -158,13 +161,15 @@ def _curves(book: Any, ws: Any, fmt: dict[str, Any], leading: list[Candidate]) -
                     "time on the comparison tab.", fmt["text"])
 
 
-def _notes(ws: Any, fmt: dict[str, Any], result: DesignResult) -> None:
-    ws.set_column(0, 0, 26)
-    ws.set_column(1, 1, 100)
-    ws.write_string(0, 0, "About this design", fmt["title"])
+def _notes(tab: Tab, result: DesignResult) -> None:
+    tab.ws.set_column(0, 0, 26)
+    tab.ws.set_column(1, 1, NOTE_WIDTH)
+    tab.text(0, "About this design", "title")
     lines = [("Caution", CAUTION), ("Method", result.method), ("Schemes searched", str(len(result.candidates))),
              ("Written by", f"{TOOL_NAME} {__version__}")]
     lines += [("Note", n) for n in result.notes]
-    for r, (label, text) in enumerate(lines, start=2):
-        ws.write_string(r, 0, label, fmt["label"])
-        ws.write_string(r, 1, text, fmt["caution"] if label == "Caution" else fmt["wrap"])
+    for row, (label, text) in enumerate(lines, start=2):
+        tab.row = row
+        tab.text(0, label, "label")
+        tab.text(1, text, "caution" if label == "Caution" else "wrap")
+        tab.fit(text, NOTE_WIDTH)

@@ -8,9 +8,13 @@ light dotted hairlines; signals are large diamonds with a light fill and a heavy
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
-import xlsxwriter.workbook
+from xlsxwriter.format import Format
+from xlsxwriter.workbook import Workbook
+
+Formats = dict[str, Format]  # the workbook's cell formats by role
 
 SLATE = "#263548"  # plotted statistic, titles
 PINE = "#6B8E7B"  # center line (mid-tone)
@@ -31,6 +35,28 @@ EVAL_COLUMNS = (24, 18, 18, 14, 62)
 PERFORMANCE_COLORS = (SLATE, UMBER, PINE, "#7D5BA6", "#B0761C", "#3F7FA8")
 PERFORMANCE_MARKERS = ("square", "diamond", "triangle", "circle", "x", "star")
 PERFORMANCE_DASHES = ("solid", "long_dash", "dash_dot", "round_dot", "dash", "long_dash_dot")
+FONT_SIZE = 11  # points: the workbook's body text
+LINE_HEIGHT = 15  # points: one line of body text, the default row height
+HEAD_HEIGHT = 2 * LINE_HEIGHT  # points: a table head whose words wrap to two lines
+
+
+def line_height(font_size: float = FONT_SIZE) -> float:
+    """The height (points) of one line of text in a cell, in proportion to the font size."""
+    return LINE_HEIGHT * font_size / FONT_SIZE
+
+
+def row_height(text: str, width: float, font_size: float = FONT_SIZE, per_line: float | None = None,
+               least: int = 1) -> float:
+    """The height (points) of a row whose cell wraps `text` in `width` characters, the one rule for every tab.
+
+    A character is counted as wide as a digit of the body font. A text no longer than the width stays on one
+    line; a longer one takes one line per `per_line` characters (default the width; fewer where an indent
+    takes room), and never fewer than `least` lines. A larger font fits fewer characters and needs taller lines.
+    """
+    scale = FONT_SIZE / font_size
+    fits = width * scale
+    lines = 1 if len(text) <= fits else math.ceil(len(text) / ((per_line or width) * scale))
+    return line_height(font_size) * max(least, lines)
 
 
 def marker_size(points: int) -> int:
@@ -78,7 +104,7 @@ def number_format(decimals: int) -> str:
     return "0" if decimals <= 0 else "0." + "0" * decimals
 
 
-def formats(book: xlsxwriter.workbook.Workbook, decimals: int = 4) -> dict[str, Any]:
+def formats(book: Workbook, decimals: int = 4) -> Formats:
     """Create the workbook's cell formats once and hand them out by role."""
     fmt = {
         "title": book.add_format({"bold": True, "font_size": 14, "font_color": SLATE}),

@@ -11,10 +11,9 @@ import datetime as dt
 from dataclasses import dataclass
 from pathlib import Path
 
-import xlsxwriter
-
 from sheettool import TOOL_NAME
 from sheettool.workbook import style
+from sheettool.workbook.writer.book_writer import BookWriter
 
 TEMPLATE_KINDS = ("subgroups", "individuals", "proportions", "counts")
 ENTRY_ROWS = 500  # rows prepared with validation under the header
@@ -68,13 +67,13 @@ def template_spec(kind: str, n: int = 5) -> TemplateSpec:
 
 def write_template(spec: TemplateSpec, path: Path) -> None:
     """Write the data-entry workbook for `spec` to `path`."""
-    book = xlsxwriter.Workbook(str(path))
+    out = BookWriter(str(path))
+    book, fmt = out.book, out.fmt
     book.set_properties({"title": f"{TOOL_NAME} data-entry sheet: {spec.kind}",
                          "author": TOOL_NAME, "created": FIXED_DATE})  # no version: a template outlives releases
-    fmt = style.formats(book)
     entry = book.add_format({"bg_color": "#FFFFFF", "border": 1, "border_color": style.HAIRLINE})
     when = book.add_format({"num_format": "yyyy-mm-dd hh:mm"})
-    ws = book.add_worksheet(spec.sheet)
+    ws = out.add_tab(spec.sheet).ws
     ws.write_string(0, 0, f"Data-entry sheet ({spec.kind}) for {TOOL_NAME}", fmt["title"])
     for r, label in enumerate(spec.settings, start=2):
         ws.write_string(r, 0, label, fmt["label"])
@@ -119,7 +118,7 @@ def write_template(spec: TemplateSpec, path: Path) -> None:
     ws.set_landscape()
     ws.fit_to_pages(1, 0)
     ws.repeat_rows(header_row)
-    book.close()
+    out.close()
 
 
 def bundled_templates() -> dict[str, TemplateSpec]:

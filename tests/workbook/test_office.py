@@ -68,8 +68,8 @@ def outputs(tmp_path_factory) -> dict[str, Path]:
                   writer=WriterOptions(formulas=True))
     files["pack"] = tmp / "pack.xlsx"
     write_pack(build_pack([demo, BUNDLED], {}), files["pack"])
-    report, reads = report_for(tmp, [varying_sizes_case(), attribute_case(), cusum_ewma_case()])
-    write_evaluated_workbook(report, reads, files["built-formulas"],
+    report = report_for(tmp, [varying_sizes_case(), attribute_case(), cusum_ewma_case()])
+    write_evaluated_workbook(report, files["built-formulas"],
                              WriterOptions(formulas=True, timestamp=dt.datetime(2026, 12, 1)))
     probe = tmp / "probe.xlsx"
     book = xlsxwriter.Workbook(str(probe))

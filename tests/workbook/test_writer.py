@@ -23,9 +23,9 @@ from tests.writer_cases import attribute_case, cusum_ewma_case, report_for, vary
 
 @pytest.fixture
 def built(tmp_path: Path) -> Path:
-    report, reads = report_for(tmp_path, [varying_sizes_case(), attribute_case()])
+    report = report_for(tmp_path, [varying_sizes_case(), attribute_case()])
     out = tmp_path / "built.xlsx"
-    write_evaluated_workbook(report, reads, out, WriterOptions(formulas=True, timestamp=dt.datetime(2026, 12, 1, 8)))
+    write_evaluated_workbook(report, out, WriterOptions(formulas=True, timestamp=dt.datetime(2026, 12, 1, 8)))
     return out
 
 
@@ -142,22 +142,22 @@ def test_formulas_checked_and_cached(built):
 
 
 def test_without_formulas_only_values(tmp_path):
-    report, reads = report_for(tmp_path, [varying_sizes_case()])
+    report = report_for(tmp_path, [varying_sizes_case()])
     out = tmp_path / "values.xlsx"
-    write_evaluated_workbook(report, reads, out)
+    write_evaluated_workbook(report, out)
     assert not any("<f>" in x for x in _xml(out, r"xl/worksheets/sheet\d+\.xml").values())
 
 
 def test_reproducible_bytes(tmp_path):
-    report, reads = report_for(tmp_path, [varying_sizes_case(), attribute_case()])
+    report = report_for(tmp_path, [varying_sizes_case(), attribute_case()])
     a, b = tmp_path / "a.xlsx", tmp_path / "b.xlsx"
     when = dt.datetime(2026, 11, 30, 17, 5, tzinfo=dt.UTC).timestamp()
     os.utime(report.input, (when, when))
-    write_evaluated_workbook(report, reads, a, WriterOptions(formulas=True))
-    write_evaluated_workbook(report, reads, b, WriterOptions(formulas=True))  # a re-run: same input, same time
+    write_evaluated_workbook(report, a, WriterOptions(formulas=True))
+    write_evaluated_workbook(report, b, WriterOptions(formulas=True))  # a re-run: same input, same time
     c = tmp_path / "c.xlsx"
     os.utime(report.input, (when + 3600, when + 3600))
-    write_evaluated_workbook(report, reads, c, WriterOptions(formulas=True))
+    write_evaluated_workbook(report, c, WriterOptions(formulas=True))
     with zipfile.ZipFile(b) as zb, zipfile.ZipFile(c) as zc:
         differ = [n for n in zb.namelist() if zb.read(n) != zc.read(n)]
     # only the document date follows the input's time: in the properties and in the audit notes
@@ -166,15 +166,15 @@ def test_reproducible_bytes(tmp_path):
     assert "<f>" in "".join(_xml(a, r"xl/worksheets/sheet\d+\.xml").values())
     d, e = tmp_path / "d.xlsx", tmp_path / "e.xlsx"
     for path in (d, e):
-        write_evaluated_workbook(report, reads, path, WriterOptions(timestamp=dt.datetime(2026, 12, 1)))
+        write_evaluated_workbook(report, path, WriterOptions(timestamp=dt.datetime(2026, 12, 1)))
     assert d.read_bytes() == e.read_bytes()
 
 
 def test_output_is_never_macro_enabled(tmp_path):
-    report, reads = report_for(tmp_path, [varying_sizes_case()])
+    report = report_for(tmp_path, [varying_sizes_case()])
     with pytest.raises(OutputError, match=r"\.xlsx"):
-        write_evaluated_workbook(report, reads, tmp_path / "out.xlsm")
-    write_evaluated_workbook(report, reads, tmp_path / "out.xlsx")
+        write_evaluated_workbook(report, tmp_path / "out.xlsm")
+    write_evaluated_workbook(report, tmp_path / "out.xlsx")
     with zipfile.ZipFile(tmp_path / "out.xlsx") as z:
         names = z.namelist()
         types = z.read("[Content_Types].xml").decode()
@@ -197,10 +197,10 @@ def test_atomic_write_keeps_old_file_on_failure(tmp_path):
 
 
 def test_never_over_the_input(tmp_path):
-    report, reads = report_for(tmp_path, [varying_sizes_case()])
+    report = report_for(tmp_path, [varying_sizes_case()])
     before = sha256(report.input)
     with pytest.raises(OutputError, match="over the input"):
-        write_evaluated_workbook(report, reads, report.input.with_suffix(".xlsx"))
+        write_evaluated_workbook(report, report.input.with_suffix(".xlsx"))
     assert sha256(report.input) == before
 
 
@@ -282,9 +282,9 @@ def test_long_charts_stay_readable(tmp_path):
 
 
 def test_three_statistics_with_missing_and_varying_limits(tmp_path):
-    report, reads = report_for(tmp_path, [cusum_ewma_case()])
+    report = report_for(tmp_path, [cusum_ewma_case()])
     out = tmp_path / "three.xlsx"
-    write_evaluated_workbook(report, reads, out, WriterOptions(formulas=True))
+    write_evaluated_workbook(report, out, WriterOptions(formulas=True))
     book = openpyxl.load_workbook(out)
     rows = {r[0]: r[1:5] for r in book["Torque chart"].iter_rows(values_only=True) if r[0]}
     assert rows["EWMA"][1] == "varies" and rows["EWMA"][0] == pytest.approx(50.0)

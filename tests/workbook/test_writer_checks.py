@@ -41,9 +41,9 @@ def checked(tmp_path_factory: pytest.TempPathFactory):
     req = Requirements(arl_in_control=500.0, false_alarms_per_month=1.0, detect_arl=5.0)
     result.requirements_check = check_requirements(req, 370.4, 8.0, None, 1.0)
     plain, plain_read = attribute_case()
-    report, reads = report_for(tmp, [(result, read), (plain, plain_read)])
+    report = report_for(tmp, [(result, read), (plain, plain_read)])
     out = tmp / "checked.xlsx"
-    write_evaluated_workbook(report, reads, out, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
+    write_evaluated_workbook(report, out, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
     return result, out
 
 
@@ -115,9 +115,9 @@ def test_infinite_and_missing_values_are_words(tmp_path):
     rep = dataclasses.replace(rep, distribution=dataclasses.replace(rep.distribution, mean=math.inf),
                               needed=dataclasses.replace(rep.needed, subgroups=None, reachable=True))
     result.estimated_limits = rep
-    report, reads = report_for(tmp_path, [(result, read)])
+    report = report_for(tmp_path, [(result, read)])
     out = tmp_path / "words.xlsx"
-    write_evaluated_workbook(report, reads, out, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
+    write_evaluated_workbook(report, out, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
     rows = _rows(out, "Sleeve length chart")
     assert _row(rows, "Average over base periods")[1] == "unbounded"
     assert _row(rows, "Subgroups needed, 3-sigma")[1] == "more than 10,000"
@@ -130,9 +130,9 @@ def test_unreachable_target_in_words(tmp_path):
     # be reached by more subgroups, only by a wider factor
     result.estimated_limits = rep = estimated_limits_report(20, 5, "range", target=400.0)
     assert not rep.needed.reachable and rep.needed.subgroups is None
-    report, reads = report_for(tmp_path, [(result, read)])
+    report = report_for(tmp_path, [(result, read)])
     out = tmp_path / "unreachable.xlsx"
-    write_evaluated_workbook(report, reads, out, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
+    write_evaluated_workbook(report, out, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
     row = _row(_rows(out, "Sleeve length chart"), "Subgroups needed, 3-sigma")
     assert row[1] == "none is enough" and "even with known mean and sigma" in row[4]
 
@@ -177,9 +177,9 @@ def test_long_text_gets_rows_tall_enough(checked, tmp_path):
             assert _lines_shown(ws, i) >= math.ceil(len(row[4]) / ws.column_dimensions["E"].width)
     case, read = varying_sizes_case()
     case.performance = dataclasses.replace(case.performance, method="Markov chain of the rule windows, " * 12)
-    report, reads = report_for(tmp_path, [(case, read)])
+    report = report_for(tmp_path, [(case, read)])
     long = tmp_path / "long.xlsx"
-    write_evaluated_workbook(report, reads, long, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
+    write_evaluated_workbook(report, long, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
     perf = openpyxl.load_workbook(long)["Scheme performance"]
     at = next(i for i, r in enumerate(perf.iter_rows(values_only=True)) if r[0] == case.performance.method)
     width = sum(perf.column_dimensions[c].width for c in "ABC")

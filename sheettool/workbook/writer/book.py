@@ -12,23 +12,20 @@ import tempfile
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
-
-import xlsxwriter
 
 from sheettool import TOOL_NAME, __version__
 from sheettool.base.errors import OutputError
 from sheettool.evaluation.carried import limits_entry
-from sheettool.workbook import style
+from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook.limits_block import LIMITS_SHEET, limits_rows
-from sheettool.workbook.reader import SheetRead
 from sheettool.workbook.report import EvaluationReport
-from sheettool.workbook.writer import cells
-from sheettool.workbook.writer.charts import LINES_SHEET, LineSheet
-from sheettool.workbook.writer.data_tab import PRINT_ROWS, plan_data_tab, write_data_tab
-from sheettool.workbook.writer.evaluation_tab import Links, write_evaluation_tab
-from sheettool.workbook.writer.notes_tab import NOTES_TAB, stamp_for, write_notes_tab
-from sheettool.workbook.writer.performance_tab import PERFORMANCE_TAB, write_performance_tab
+from sheettool.workbook.writer.book_writer import NOTES_TAB, PERFORMANCE_TAB, BookWriter
+from sheettool.workbook.writer.data_tab import plan_data_tab, write_data_tab
+from sheettool.workbook.writer.evaluation_tab import write_evaluation_tab
+from sheettool.workbook.writer.lines import LINES_SHEET
+from sheettool.workbook.writer.notes_tab import Stamp, stamp_for, write_notes_tab
+from sheettool.workbook.writer.performance_tab import write_performance_tab
+from sheettool.workbook.writer.tab import Tab
 
 
 @dataclass
@@ -75,21 +72,19 @@ def write_atomically(path: Path, build: Callable[[str], None], protect: Path | N
 
 @dataclass
 class Summary:
-    """A tab written first, before the evaluation tabs (the pack's summary); it gets the tab names."""
+    """A tab written first, before the evaluation tabs (the pack's summary); it gets the evaluation tab names."""
 
     name: str
-    write: Callable[[Any, Any, dict[str, Any], list[str]], None]  # (book, ws, fmt, evaluation tab names)
+    write: Callable[[Tab, list[str]], None]  # (its tab, the evaluation tab names)
 
 
-def write_evaluated_workbook(report: EvaluationReport, reads: list[SheetRead], path: Path,
-                             options: WriterOptions | None = None) -> None:
+def write_evaluated_workbook(report: EvaluationReport, path: Path, options: WriterOptions | None = None) -> None:
     """Write the report's workbook to `path` (.xlsx, never macro-enabled) atomically, never over the input."""
-    write_workbook([(report, reads)], path, options)
+    write_workbook([report], path, options)
 
 
-def write_workbook(sources: list[tuple[EvaluationReport, list[SheetRead]]], path: Path,
-                   options: WriterOptions | None = None, summary: Summary | None = None,
-                   block_keys: list[str] | None = None) -> None:
+def write_workbook(reports: list[EvaluationReport], path: Path, options: WriterOptions | None = None,
+                   summary: Summary | None = None, block_keys: list[str] | None = None) -> None:
     """Write the evaluated workbook of one or more inputs (a pack) atomically, never over an input.
 
     block_keys names each characteristic in the limits block (default: its sheet name).
@@ -99,71 +94,76 @@ def write_workbook(sources: list[tuple[EvaluationReport, list[SheetRead]]], path
     if path.suffix.lower() != ".xlsx":
         raise OutputError(f"{path}: the output is always an .xlsx workbook without macros; "
                           "choose a name ending in .xlsx with -o")
-    for report, _ in sources:
+    for report in reports:
         if path.resolve() == report.input.resolve():
             raise OutputError(f"{path}: refusing to write the output over the input; choose another name with -o")
-    reports = [report for report, _ in sources]
     stamp = stamp_for(reports, options.timestamp)
-    live = options.formulas
-    pairs = [(result, read) for report, reads in sources for result, read in zip(report.characteristics, reads,
-                                                                                   strict=True)]
-    results = [result for result, _ in pairs]
 
     def build(tmp: str) -> None:
-        book = xlsxwriter.Workbook(tmp, {"strings_to_formulas": False, "strings_to_urls": False,
-                                         "strings_to_numbers": False, "nan_inf_to_errors": False})
-        inputs = ", ".join(r.input.name for r in reports)
-        book.set_properties({
-            "title": f"Evaluation of {inputs}" if len(reports) == 1 else f"Review pack of {len(reports)} workbooks",
-            "subject": "Control charts, signals, capability and scheme performance of "
-                       + ", ".join(dict.fromkeys(c.characteristic.name for c in results)),
-            "author": f"{TOOL_NAME} {__version__}", "manager": "", "company": "",
-            "comments": f"Written by {TOOL_NAME} {__version__} from "
-                        + "; ".join(f"{r.input.name} (SHA-256 {r.input_sha256})" for r in reports),
-            "created": stamp.when})
-        book.set_calc_mode("auto")
-        fmt = style.formats(book)
-        used: set[str] = {NOTES_TAB.lower(), LIMITS_SHEET.lower(), PERFORMANCE_TAB.lower(), LINES_SHEET.lower()}
-        if summary is not None:
-            used.add(summary.name.lower())
-        names = [(cells.tab_name(r.characteristic.name, "chart", used), cells.tab_name(r.characteristic.name,
-                                                                                        "data", used))
-                 for r in results]
-        summary_ws = book.add_worksheet(summary.name) if summary is not None else None
-        eval_ws = [book.add_worksheet(e) for e, _ in names]
-        perf_ws = book.add_worksheet(PERFORMANCE_TAB)
-        data_ws = [book.add_worksheet(d) for _, d in names]
-        notes_ws = book.add_worksheet(NOTES_TAB)
-        block_ws = book.add_worksheet(LIMITS_SHEET)
-        lines_ws = book.add_worksheet(LINES_SHEET)
-        lines = LineSheet()
-        links = Links(performance=PERFORMANCE_TAB, notes=NOTES_TAB)
-        defined: set[str] = set()
-        as_values: list[str] = []
-        for i, (result, read) in enumerate(pairs):
-            eval_tab, data_tab = names[i]
-            layout = plan_data_tab(result, read, data_tab, eval_tab, live)
-            written = write_evaluation_tab(book, eval_ws[i], fmt, result, layout, lines, links, live, defined, i + 1)
-            limit_names = written.limit_names if live else {}
-            stats_as_values = write_data_tab(data_ws[i], fmt, layout, result, read, limit_names, live, f"data_{i + 1}")
-            as_values += [f"{result.characteristic.name}: {what}" for what in stats_as_values + written.as_values]
-        eval_tabs = [e for e, _ in names]
-        if summary is not None:
-            summary.write(book, summary_ws, fmt, eval_tabs)
-        write_performance_tab(book, perf_ws, fmt, results, eval_tabs)
-        write_notes_tab(notes_ws, fmt, sources, stamp, live, as_values, PRINT_ROWS, eval_tabs)
-        entries = [limits_entry(c) for c in results]
-        for entry, key in zip(entries, block_keys or [], strict=False):
-            entry["key"] = key
-        for r, row in enumerate(limits_rows(entries)):
-            for c, value in enumerate(row):
-                if isinstance(value, str):
-                    block_ws.write_string(r, c, value)
-                else:
-                    block_ws.write_number(r, c, value)
-        block_ws.hide()
-        lines.write(lines_ws)
-        (summary_ws or eval_ws[0]).activate()
-        book.close()
+        fixed = (NOTES_TAB, LIMITS_SHEET, PERFORMANCE_TAB, LINES_SHEET) + ((summary.name,) if summary else ())
+        out = BookWriter(tmp, live=options.formulas, reserved=fixed)
+        _properties(out, reports, stamp)
+        out.book.set_calc_mode("auto")
+        _tabs(out, reports, stamp, summary, block_keys or [])
+        out.close()
 
     write_atomically(path, build)
+
+
+def _properties(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp) -> None:
+    """Document properties: what was evaluated, by which version, from which inputs (with their digests)."""
+    inputs = ", ".join(r.input.name for r in reports)
+    names = dict.fromkeys(c.characteristic.name for r in reports for c in r.characteristics)
+    out.book.set_properties({
+        "title": f"Evaluation of {inputs}" if len(reports) == 1 else f"Review pack of {len(reports)} workbooks",
+        "subject": "Control charts, signals, capability and scheme performance of " + ", ".join(names),
+        "author": f"{TOOL_NAME} {__version__}", "manager": "", "company": "",
+        "comments": f"Written by {TOOL_NAME} {__version__} from "
+                    + "; ".join(f"{r.input.name} (SHA-256 {r.input_sha256})" for r in reports),
+        "created": stamp.when})
+
+
+def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summary: Summary | None,
+          block_keys: list[str]) -> None:
+    """Add the tabs in their order, then write each: evaluation and data tabs per characteristic, then the rest."""
+    sheets = [sheet for report in reports for sheet in report.sheets]
+    names = [(out.tab_name(s.result.characteristic.name, "chart"), out.tab_name(s.result.characteristic.name, "data"))
+             for s in sheets]
+    summary_tab = out.add_tab(summary.name) if summary is not None else None
+    eval_tabs = [out.add_tab(chart) for chart, _ in names]
+    performance_tab = out.add_tab(PERFORMANCE_TAB)
+    data_tabs = [out.add_tab(data) for _, data in names]
+    notes_tab = out.add_tab(NOTES_TAB)
+    block_tab = out.add_tab(LIMITS_SHEET)
+    lines_tab = out.add_tab(LINES_SHEET)
+    as_values: list[str] = []
+    for i, (sheet, eval_tab, data_tab) in enumerate(zip(sheets, eval_tabs, data_tabs, strict=True), start=1):
+        result = sheet.result
+        layout = plan_data_tab(result, sheet.read, data_tab.name, eval_tab.name, out.live)
+        written = write_evaluation_tab(out, eval_tab, result, layout, f"signals_{i}")
+        stats_as_values = write_data_tab(out, data_tab, layout, sheet, written.limit_names if out.live else {},
+                                         f"data_{i}")
+        as_values += [f"{result.characteristic.name}: {what}" for what in stats_as_values + written.as_values]
+    tab_names = [tab.name for tab in eval_tabs]
+    results = [sheet.result for sheet in sheets]
+    if summary is not None and summary_tab is not None:
+        summary.write(summary_tab, tab_names)
+    write_performance_tab(out, performance_tab, results, tab_names)
+    write_notes_tab(out, notes_tab, reports, stamp, as_values, tab_names)
+    _limits_block(block_tab, results, block_keys)
+    out.lines.write(lines_tab.ws)
+    (summary_tab or eval_tabs[0]).ws.activate()
+
+
+def _limits_block(tab: Tab, results: list[CharacteristicResult], keys: list[str]) -> None:
+    """The hidden machine-readable limits block next month's run reads back; keys name its entries in a pack."""
+    entries = [limits_entry(c) for c in results]
+    for entry, key in zip(entries, keys, strict=False):
+        entry["key"] = key
+    for r, row in enumerate(limits_rows(entries)):
+        for c, value in enumerate(row):
+            if isinstance(value, str):
+                tab.ws.write_string(r, c, value)
+            else:
+                tab.ws.write_number(r, c, value)
+    tab.ws.hide()

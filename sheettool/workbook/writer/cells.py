@@ -5,15 +5,16 @@ from __future__ import annotations
 import datetime as dt
 import math
 import re
-from typing import Any
 
 import numpy as np
+from xlsxwriter.format import Format
 from xlsxwriter.utility import xl_col_to_name, xl_rowcol_to_cell
+from xlsxwriter.worksheet import Worksheet
 
 EXCEL_EPOCH = dt.datetime(1899, 12, 30)
 
 
-def put(ws: Any, row: int, col: int, value: object, fmt: Any = None) -> None:
+def put(ws: Worksheet, row: int, col: int, value: object, fmt: Format | None = None) -> None:
     """Write a copied input value: numbers as numbers, dates as dates, everything else as text.
 
     Text always goes through write_string, so a cell that begins with =, +, - or @ stays text and
@@ -32,7 +33,7 @@ def put(ws: Any, row: int, col: int, value: object, fmt: Any = None) -> None:
         ws.write_string(row, col, str(value), fmt)
 
 
-def number(ws: Any, row: int, col: int, value: float | None, fmt: Any = None) -> None:
+def number(ws: Worksheet, row: int, col: int, value: float | None, fmt: Format | None = None) -> None:
     """Write a computed number; NaN, infinities and None leave the cell empty."""
     if value is not None and math.isfinite(value):
         ws.write_number(row, col, float(value), fmt)
@@ -118,7 +119,7 @@ def unique_headers(names: list[str], first_letter: int = 0) -> list[str]:
     return out
 
 
-def print_setup(ws: Any, what: str) -> None:
+def print_setup(ws: Worksheet, what: str) -> None:
     """Landscape, one page wide, header with what is shown and the date, footer with the page."""
     safe = what.replace("&", "&&")[:80]
     ws.set_landscape()

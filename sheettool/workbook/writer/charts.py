@@ -2,9 +2,7 @@
 
 Charts are xlsxwriter scatter charts with straight lines, so the x axis can be subgroup numbers or
 real dates and the limit lines can be drawn as steps. The geometry of center lines, limits and
-zone lines lives on a hidden tab (LINES_SHEET): a constant line is two points from the first to
-the last subgroup, a varying one a staircase of two points per subgroup (each limit holds from half
-way after the previous subgroup to half way before the next).
+zone lines lives on the hidden chart-lines tab (lines.LineSheet, owned by the BookWriter).
 """
 
 from __future__ import annotations
@@ -14,64 +12,16 @@ import re
 from typing import Any
 
 import numpy as np
+from xlsxwriter.chart_scatter import ChartScatter
 
 from sheettool.core.charts import PlottedStatistic
 from sheettool.evaluation.results import Signal
 from sheettool.workbook import style
-from sheettool.workbook.writer import cells
+from sheettool.workbook.writer.book_writer import BookWriter
 from sheettool.workbook.writer.data_tab import DataLayout, StatColumns
+from sheettool.workbook.writer.lines import bounds
 
-LINES_SHEET = "chart-lines"
 ZONES = (2.0, 1.0, -1.0, -2.0)  # zone lines, in standard errors from the center line
-
-
-class LineSheet:
-    """Collects the line geometry column by column and writes it row by row at the end."""
-
-    def __init__(self) -> None:
-        self.columns: list[tuple[str, list[float | None]]] = []
-        self._x: dict[tuple[str, bool], int] = {}
-
-    def add(self, header: str, values: list[float | None]) -> int:
-        """Add a column; return its index."""
-        self.columns.append((header, values))
-        return len(self.columns) - 1
-
-    def ref(self, col: int) -> str:
-        """Reference to a column's values (rows 2.. of the hidden tab)."""
-        return cells.column_range(LINES_SHEET, col, 1, max(1, len(self.columns[col][1])))
-
-    def line(self, layout: DataLayout, header: str, y: np.ndarray) -> tuple[str, str]:
-        """(x reference, y reference) of a center, limit or zone line over a layout's subgroups."""
-        bounds = _bounds(layout.x)
-        finite = y[np.isfinite(y)]
-        stepped = not (finite.size == y.size and np.ptp(y) == 0)
-        key = (layout.tab, stepped)
-        if key not in self._x:
-            xs = np.repeat(bounds, 2)[1:-1] if stepped else bounds[[0, -1]]
-            self._x[key] = self.add(f"{layout.tab}: x{' (steps)' if stepped else ''}", xs.tolist())
-        ys = np.repeat(y, 2) if stepped else np.array([y[0], y[0]])
-        col = self.add(header, [v if math.isfinite(v) else None for v in ys.tolist()])
-        return self.ref(self._x[key]), self.ref(col)
-
-    def write(self, ws: Any) -> None:
-        """Write the collected columns (header row, then values) and hide the tab."""
-        for c, (header, _) in enumerate(self.columns):
-            ws.write_string(0, c, header)
-        longest = max((len(v) for _, v in self.columns), default=0)
-        for r in range(longest):
-            for c, (_, values) in enumerate(self.columns):
-                if r < len(values) and values[r] is not None:
-                    ws.write_number(r + 1, c, values[r])
-        ws.hide()
-
-
-def _bounds(x: np.ndarray) -> np.ndarray:
-    """Edges half way between neighbouring subgroups, extended by half a step at both ends."""
-    if x.size == 1:
-        return np.array([x[0] - 0.5, x[0] + 0.5])
-    mids = (x[:-1] + x[1:]) / 2.0
-    return np.concatenate([[2 * x[0] - mids[0]], mids, [2 * x[-1] - mids[-1]]])
 
 
 _LOOKS_LIKE_REFERENCE = re.compile(r"^=?[^!]+!\$?[A-Z]+\$?\d+")  # what xlsxwriter takes for a cell reference
@@ -111,8 +61,8 @@ _DATE_UNITS = (1 / 24, 2 / 24, 3 / 24, 4 / 24, 6 / 24, 12 / 24, 1, 2, 7, 14, 28,
 
 def subgroup_axis(layout: DataLayout) -> dict[str, Any]:
     """x axis by subgroup number, or by date and time when every subgroup has a date."""
-    bounds = _bounds(layout.x)
-    lo, hi = float(bounds[0]), float(bounds[-1])
+    edges = bounds(layout.x)
+    lo, hi = float(edges[0]), float(edges[-1])
     font = {"size": 8}
     if layout.x_is_date:
         unit = next((u for u in _DATE_UNITS if u >= (hi - lo) / 10), 365.0)
@@ -126,27 +76,27 @@ def subgroup_axis(layout: DataLayout) -> dict[str, Any]:
             "num_format": "0", "num_font": font, "name_font": {"size": 9}}
 
 
-def control_chart(book: Any, layout: DataLayout, sc: StatColumns, lines: LineSheet, zones: bool,
-                  title: str, unit: str, signals: list[Signal]) -> Any:
+def control_chart(out: BookWriter, layout: DataLayout, sc: StatColumns, zones: bool, title: str, unit: str,
+                  signals: list[Signal]) -> ChartScatter:
     """The control chart of one statistic: zones, limits, center, the points and its signals on top."""
-    stat = sc.stat
+    stat, lines = sc.stat, out.lines
     m = layout.m
-    chart = book.add_chart({"type": "scatter", "subtype": "straight"})
+    chart = out.scatter_chart("straight")
     x_ref = layout.range(layout.x_col)
     legend_off: list[int] = []
     if zones:
         for i, z in enumerate(ZONES):
-            xs, ys = lines.line(layout, f"{stat.label}: {z:+g} standard errors", _zone(stat, z))
+            xs, ys = lines.line(layout.tab, layout.x, f"{stat.label}: {z:+g} standard errors", _zone(stat, z))
             chart.add_series({"name": "zone lines (1 and 2 standard errors)", "categories": xs, "values": ys,
                               **style.series_look("zone", m)})
             if i:
                 legend_off.append(i)
     first_limit = len(chart.series)
     for key, arr in (("ucl", stat.ucl), ("lcl", stat.lcl)):
-        xs, ys = lines.line(layout, f"{stat.label}: {key.upper()}", arr)
+        xs, ys = lines.line(layout.tab, layout.x, f"{stat.label}: {key.upper()}", arr)
         chart.add_series({"name": "UCL and LCL", "categories": xs, "values": ys, **style.series_look("limit", m)})
     legend_off.append(first_limit + 1)
-    xs, ys = lines.line(layout, f"{stat.label}: center line", stat.center)
+    xs, ys = lines.line(layout.tab, layout.x, f"{stat.label}: center line", stat.center)
     chart.add_series({"name": "center line", "categories": xs, "values": ys, **style.series_look("center", m)})
     chart.add_series({"name": chart_text(stat.label), "categories": x_ref, "values": layout.range(sc.value),
                       **style.series_look("values", m)})
@@ -187,9 +137,9 @@ def _axis_decimals(step: float) -> int:
     return max(0, extra - power)
 
 
-def arl_chart(book: Any, series: list[tuple[str, str, str]], largest: float, widest: float) -> Any:
+def arl_chart(out: BookWriter, series: list[tuple[str, str, str]], largest: float, widest: float) -> ChartScatter:
     """ARL against mean shift, one line per scheme, logarithmic y axis. series: (name, x ref, y ref)."""
-    chart = book.add_chart({"type": "scatter", "subtype": "straight_with_markers"})
+    chart = out.scatter_chart("straight_with_markers")
     for i, (name, xs, ys) in enumerate(series):
         chart.add_series({"name": chart_text(name), "categories": xs, "values": ys, **style.performance_look(i)})
     top = 10 ** math.ceil(math.log10(max(largest, 10.0)))

@@ -10,18 +10,24 @@ from __future__ import annotations
 import datetime as dt
 from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import Any
 
 import numpy as np
+from xlsxwriter.format import Format
 from xlsxwriter.utility import xl_cell_to_rowcol
+from xlsxwriter.worksheet import Worksheet
 
 from sheettool.core.charts import PlottedStatistic
 from sheettool.core.data import Measurements
 from sheettool.evaluation.results import CharacteristicResult
+from sheettool.workbook import style
 from sheettool.workbook.reader import SheetRead
+from sheettool.workbook.report import SheetEvaluation
 from sheettool.workbook.writer import cells, formulas
+from sheettool.workbook.writer.book_writer import BookWriter
+from sheettool.workbook.writer.tab import Tab
 
 HEADER_ROW = 2  # title in row 0, note in row 1, table header in row 2
+HEADER_HEIGHT = 48  # points: the table head's words wrap to three lines in the narrow computed columns
 PRINT_ROWS = 60
 
 
@@ -127,9 +133,11 @@ def _as_float(value: object) -> float:
     return np.nan
 
 
-def write_data_tab(ws: Any, fmt: dict[str, Any], layout: DataLayout, result: CharacteristicResult,
-                   read: SheetRead, limit_names: dict[tuple[str, str], str], live: bool, table: str) -> list[str]:
+def write_data_tab(out: BookWriter, tab: Tab, layout: DataLayout, sheet: SheetEvaluation,
+                   limit_names: dict[tuple[str, str], str], table: str) -> list[str]:
     """Write the tab; return the statistics that were written as values although --formulas was asked."""
+    result, read, live = sheet.result, sheet.read, out.live
+    ws, fmt = tab.ws, tab.fmt
     ch = result.characteristic
     ws.write_string(0, 0, f"Data of {ch.name}", fmt["title"])
     ws.write_url(0, 4, cells.internal_link(layout.eval_tab), fmt["link"], string="Back to the evaluation")
@@ -151,7 +159,7 @@ def write_data_tab(ws: Any, fmt: dict[str, Any], layout: DataLayout, result: Cha
     signalled = {name: {s.subgroup - 1 for s in result.signals if s.statistic == name} for name in layout.stats}
     # One job per computed column: (column, values, format, formula builder or None); the loop below is
     # the hot path for large files, so it is kept free of lookups.
-    jobs: list[tuple[int, list[float], Any, Callable[[int], str] | None]] = []
+    jobs: list[tuple[int, list[float], Format, Callable[[int], str] | None]] = []
     for name, sc in layout.stats.items():
         jobs.append((sc.value, sc.stat.values.tolist(), stat_fmt, builders[name]))
         for key, col in (("center", sc.center), ("lcl", sc.lcl), ("ucl", sc.ucl)):
@@ -193,7 +201,7 @@ def write_data_tab(ws: Any, fmt: dict[str, Any], layout: DataLayout, result: Cha
         "name": table, "style": "Table Style Light 1",
         "columns": [{"header": h, "header_format": fmt["head"]} for h in layout.headers]})
     ws.freeze_panes(layout.first_row, 1)
-    _widths(ws, layout, read)
+    _widths(tab, layout, read)
     cells.print_setup(ws, f"data of {ch.name}")
     ws.repeat_rows(HEADER_ROW)
     ws.print_area(0, 0, min(layout.last_row, layout.first_row + PRINT_ROWS - 1), last)
@@ -204,7 +212,7 @@ def _constant(text: str) -> Callable[[int], str]:
     return lambda row: text
 
 
-def _copy(ws: Any, row: int, col: int, value: object, fmt: dict[str, Any]) -> None:
+def _copy(ws: Worksheet, row: int, col: int, value: object, fmt: style.Formats) -> None:
     """The slow path of copying: dates with a date format, everything else through cells.put."""
     if isinstance(value, dt.datetime | dt.date):
         ws.write_datetime(row, col, value, fmt["date"])
@@ -220,8 +228,9 @@ def _signal_flags(result: CharacteristicResult) -> dict[int, str]:
     return {i: "; ".join(v) for i, v in out.items()}
 
 
-def _widths(ws: Any, layout: DataLayout, read: SheetRead) -> None:
+def _widths(tab: Tab, layout: DataLayout, read: SheetRead) -> None:
     """Copied columns fit their content; computed columns fit a number (their headers wrap)."""
+    ws = tab.ws
     sample = read.rows[:200]
     for col in range(len(layout.headers)):
         c = col - layout.copy_col
@@ -236,7 +245,7 @@ def _widths(ws: Any, layout: DataLayout, read: SheetRead) -> None:
         else:
             size = max(10, layout.decimals + 6)
         ws.set_column(col, col, size)
-    ws.set_row(HEADER_ROW, 48)
+    tab.height(HEADER_HEIGHT, HEADER_ROW)
 
 
 def _shown(value: object, decimals: int) -> str:

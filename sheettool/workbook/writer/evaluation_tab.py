@@ -4,9 +4,7 @@ a small performance table, in that order, laid out to print landscape one page w
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
-from typing import Any
 
 import numpy as np
 
@@ -15,21 +13,15 @@ from sheettool.core.data import Measurements
 from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells, charts, formulas
+from sheettool.workbook.writer.book_writer import BookWriter
 from sheettool.workbook.writer.data_tab import DataLayout
 from sheettool.workbook.writer.methods import method
 from sheettool.workbook.writer.notes_tab import CAUTION
 from sheettool.workbook.writer.performance_tab import shift_heading
+from sheettool.workbook.writer.tab import Tab
 from sheettool.workbook.writer.trust_block import has_checks, write_trust_block
 
 LIMIT_KEYS = (("center", "Center line"), ("lcl", "LCL"), ("ucl", "UCL"))
-
-
-@dataclass
-class Links:
-    """Tabs the evaluation tab links to."""
-
-    performance: str
-    notes: str
 
 
 @dataclass
@@ -38,36 +30,6 @@ class EvaluationWritten:
 
     limit_names: dict[tuple[str, str], str] = field(default_factory=dict)
     as_values: list[str] = field(default_factory=list)
-
-
-class _Rows:
-    """A cursor over the tab's rows, so sections follow each other without counting by hand."""
-
-    def __init__(self, ws: Any, fmt: dict[str, Any]) -> None:
-        self.ws, self.fmt, self.row = ws, fmt, 0
-
-    def fact(self, label: str, value: str, wrap: bool = False) -> None:
-        self.ws.write_string(self.row, 0, label, self.fmt["label"])
-        if wrap:
-            self.ws.merge_range(self.row, 1, self.row, 4, "", self.fmt["wrap"])
-            lines = max(1, math.ceil(len(value) / 105))
-            if lines > 1:
-                self.ws.set_row(self.row, 15 * lines)
-        self.ws.write_string(self.row, 1, value, self.fmt["wrap"] if wrap else None)
-        self.row += 1
-
-    def section(self, title: str) -> None:
-        self.row += 1
-        self.ws.merge_range(self.row, 0, self.row, 4, "", self.fmt["section"])
-        self.ws.write_string(self.row, 0, title, self.fmt["section"])
-        self.row += 1
-
-    def head(self, titles: list[str], numeric: tuple[int, ...] = (), centered: tuple[int, ...] = ()) -> None:
-        for c, t in enumerate(titles):
-            role = ("head_number" if c in numeric else "head_center" if c in centered else
-                    "head_note" if c == 4 else "head")
-            self.ws.write_string(self.row, c, t, self.fmt[role])
-        self.row += 1
 
 
 def _spans(mask: np.ndarray) -> str:
@@ -122,69 +84,71 @@ def zones_in_use(result: CharacteristicResult) -> bool:
     return any(r.is_zone and not (r.k == 1 and r.m == 1 and r.z >= 3) for r in result.rules)
 
 
-def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: CharacteristicResult,
-                         layout: DataLayout, lines: charts.LineSheet, links: Links, live: bool,
-                         used_names: set[str], index: int) -> EvaluationWritten:
-    """Write the evaluation tab; return the names of its constant limits (for the data tab's formulas)."""
+def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult, layout: DataLayout,
+                         table: str) -> EvaluationWritten:
+    """Write the evaluation tab; return the names of its constant limits (for the data tab's formulas).
+
+    `table` names the tab's signal table (unique in the workbook).
+    """
     fit, ch = result.fit, result.characteristic
+    ws, fmt = tab.ws, tab.fmt
     about = method(fit.chart)
     for c, w in enumerate(style.EVAL_COLUMNS):
         ws.set_column(c, c, w)
-    out = EvaluationWritten()
-    rows = _Rows(ws, fmt)
+    written = EvaluationWritten()
     ws.write_string(0, 0, f"{ch.name}: {about.words}", fmt["title"])
+    links = out.links
     for c, (text, target) in enumerate((("Data and statistics", layout.tab), ("Scheme performance", links.performance),
                                         ("Method and audit", links.notes)), start=1):
         ws.write_url(1, c, cells.internal_link(target), fmt["link"], string=text)
     ws.write_string(1, 0, "Go to:", fmt["label"])
-    rows.row = 2
-    rows.section("About this chart")
-    rows.fact("Characteristic", ch.name)
-    rows.fact("Sheet read", result.sheet)
-    rows.fact("Unit", ch.unit or "not given")
-    rows.fact("Specification limits", _spec_words(result))
-    rows.fact("Chart", f"{about.words}; subgroups of {fit.subgroup_size}")
-    rows.fact("Limits from", fit.limits_source)
-    rows.fact("Points that set the limits", _spans(np.asarray(fit.base, dtype=bool)), wrap=True)
-    rows.fact("Sigma within", f"{fit.sigma_within:.6g} ({fit.sigma_method})")
-    rows.fact("Rules in use", "; ".join(f"{r.text}: {r.words}" for r in result.rules), wrap=True)
-    rows.fact("Period covered", _period(result))
-    rows.fact("Counts", _counts(result))
-    _limits_table(book, rows, result, layout, live, used_names, out)
-    rows.row += 1
-    breaks = [rows.row]  # the charts start a printed page, two to a page, right after the limits
+    tab.row = 2
+    tab.section("About this chart")
+    tab.fact("Characteristic", ch.name)
+    tab.fact("Sheet read", result.sheet)
+    tab.fact("Unit", ch.unit or "not given")
+    tab.fact("Specification limits", _spec_words(result))
+    tab.fact("Chart", f"{about.words}; subgroups of {fit.subgroup_size}")
+    tab.fact("Limits from", fit.limits_source)
+    tab.fact("Points that set the limits", _spans(np.asarray(fit.base, dtype=bool)), wrap=True)
+    tab.fact("Sigma within", f"{fit.sigma_within:.6g} ({fit.sigma_method})")
+    tab.fact("Rules in use", "; ".join(f"{r.text}: {r.words}" for r in result.rules), wrap=True)
+    tab.fact("Period covered", _period(result))
+    tab.fact("Counts", _counts(result))
+    _limits_table(out, tab, result, layout, written)
+    tab.row += 1
+    breaks = [tab.row]  # the charts start a printed page, two to a page, right after the limits
     zones = zones_in_use(result)
     unit = ch.unit if isinstance(ch.data, Measurements) else ""
     for i, sc in enumerate(layout.stats.values()):
         if i and i % 2 == 0:
-            breaks.append(rows.row)
-        chart = charts.control_chart(book, layout, sc, lines, zones, f"{sc.stat.label}: {ch.name}", unit,
+            breaks.append(tab.row)
+        chart = charts.control_chart(out, layout, sc, zones, f"{sc.stat.label}: {ch.name}", unit,
                                      [s for s in result.signals if s.statistic == sc.stat.name])
-        ws.insert_chart(rows.row, 0, chart, {"x_offset": 4, "y_offset": 4})
-        rows.row += style.CHART_ROWS
+        ws.insert_chart(tab.row, 0, chart, {"x_offset": 4, "y_offset": 4})
+        tab.row += style.CHART_ROWS
     if has_checks(result):
-        breaks.append(rows.row)  # then the trust block and capability on a page of their own
-    write_trust_block(rows, result)
-    _capability(rows, result)
-    rows.row += 1
-    breaks.append(rows.row)
+        breaks.append(tab.row)  # then the trust block and capability on a page of their own
+    write_trust_block(tab, result)
+    _capability(tab, result)
+    tab.row += 1
+    breaks.append(tab.row)
     ws.set_h_pagebreaks(breaks)
-    _signals(rows, result, f"signals_{index}")
-    _performance(rows, result, links)
-    rows.row += 1
-    ws.merge_range(rows.row, 0, rows.row, 4, "", fmt["caution"])
-    ws.set_row(rows.row, 45)
-    ws.write_string(rows.row, 0, CAUTION, fmt["caution"])
+    _signals(tab, result, table)
+    _performance(tab, result, links.performance)
+    tab.row += 1
+    tab.across(0, 4, CAUTION, "caution")
+    tab.fit(CAUTION, sum(style.EVAL_COLUMNS), least=3)  # room around the caution, whatever its length
     cells.print_setup(ws, ch.name)
-    return out
+    return written
 
 
-def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: DataLayout, live: bool,
-                  used_names: set[str], out: EvaluationWritten) -> None:
-    ws, fmt = rows.ws, rows.fmt
-    rows.section("Control limits")
-    rows.head(["Statistic", "Center line", "LCL", "UCL", "Note"], (1, 2, 3))
-    first = rows.row
+def _limits_table(out: BookWriter, tab: Tab, result: CharacteristicResult, layout: DataLayout,
+                  written: EvaluationWritten) -> None:
+    ws, fmt, live = tab.ws, tab.fmt, out.live
+    tab.section("Control limits")
+    tab.head(["Statistic", "Center line", "LCL", "UCL", "Note"], (1, 2, 3))
+    first = tab.row
     stats = list(layout.stats.values())
     place = {sc.stat.name: first + i for i, sc in enumerate(stats)}
     const_row = first + len(stats) + 1  # constants (live formulas only) below the limits
@@ -203,7 +167,7 @@ def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: 
     limit_fmt = fmt[f"dec{min(10, layout.decimals + 2)}"]
     for sc in stats:
         stat = sc.stat
-        ws.write_string(rows.row, 0, stat.label, fmt["text"])
+        ws.write_string(tab.row, 0, stat.label, fmt["text"])
         notes = []
         for c, (key, word) in enumerate(LIMIT_KEYS, start=1):
             arr = getattr(stat, key)
@@ -211,53 +175,48 @@ def _limits_table(book: Any, rows: _Rows, result: CharacteristicResult, layout: 
             if finite.size == arr.size and np.ptp(arr) == 0:
                 live_cell = live_cells.get((stat.name, key))
                 if live_cell is not None and live_cell.formula is not None:
-                    ws.write_formula(rows.row, c, "=" + live_cell.formula, limit_fmt, live_cell.value)
+                    ws.write_formula(tab.row, c, "=" + live_cell.formula, limit_fmt, live_cell.value)
                 else:
-                    cells.number(ws, rows.row, c, float(arr[0]), limit_fmt)
+                    cells.number(ws, tab.row, c, float(arr[0]), limit_fmt)
                 name = cells.defined_name(layout.eval_tab, stat.name, word.replace(" ", "_"))
-                while name.lower() in used_names:
-                    name += "_"
-                used_names.add(name.lower())
-                book.define_name(name, "=" + cells.cell(layout.eval_tab, rows.row, c))
-                out.limit_names[(stat.name, key)] = name
+                written.limit_names[(stat.name, key)] = out.define(name, cells.cell(layout.eval_tab, tab.row, c))
             elif finite.size == 0:
-                ws.write_string(rows.row, c, "none", fmt["text_right"])
+                ws.write_string(tab.row, c, "none", fmt["text_right"])
             else:
-                ws.write_string(rows.row, c, "varies", fmt["text_right"])
+                ws.write_string(tab.row, c, "varies", fmt["text_right"])
                 d = layout.decimals + 2
                 notes.append(f"{word} {float(finite.min()):.{d}f} to {float(finite.max()):.{d}f}")
         text = ("varies by point: see data tab; " + ", ".join(notes)) if notes else "the same at every point"
         if stat.lcl_floored:
             text += "; LCL below zero by formula, shown as 0"
-        ws.write_string(rows.row, 4, text, fmt["note"])
-        if len(text) > style.EVAL_COLUMNS[4]:
-            ws.set_row(rows.row, 15 * math.ceil(len(text) / (style.EVAL_COLUMNS[4] - 4)))
-        rows.row += 1
+        tab.text(4, text, "note")
+        tab.fit(text, style.EVAL_COLUMNS[4], per_line=style.EVAL_COLUMNS[4] - 4)
+        tab.row += 1
     if live:
-        out.as_values = [f"{sc.stat.label} {word}" for sc in stats for key, word in LIMIT_KEYS
-                         if (sc.stat.name, key) in out.limit_names and (sc.stat.name, key) not in live_cells]
+        written.as_values = [f"{sc.stat.label} {word}" for sc in stats for key, word in LIMIT_KEYS
+                             if (sc.stat.name, key) in written.limit_names and (sc.stat.name, key) not in live_cells]
     if const_at:
-        rows.row = const_row
-        rows.head(["Constant", "Value", "What it is"], (1,))
+        tab.row = const_row
+        tab.head(["Constant", "Value", "What it is"], (1,))
         for name, row in sorted(const_at.items(), key=lambda kv: kv[1]):
             value, meaning = consts[name]
             ws.write_string(row, 0, name)
             ws.write_number(row, 1, value, fmt["dec6"])
             ws.write_string(row, 2, meaning, fmt["note"])
-        rows.row = const_row + 1 + len(const_at)
+        tab.row = const_row + 1 + len(const_at)
 
 
-def _signals(rows: _Rows, result: CharacteristicResult, table: str) -> None:
-    ws = rows.ws
-    rows.section(f"Signals ({len(result.signals)})")
+def _signals(tab: Tab, result: CharacteristicResult, table: str) -> None:
+    ws = tab.ws
+    tab.section(f"Signals ({len(result.signals)})")
     if not result.signals:
-        ws.write_string(rows.row, 0, "No signals under the rules in use.")
-        rows.row += 1
+        ws.write_string(tab.row, 0, "No signals under the rules in use.")
+        tab.row += 1
         return
     labels = {s.name: s.label for s in result.fit.statistics}
-    top = rows.row
+    top = tab.row
     for i, s in enumerate(result.signals, start=1):
-        ws.write_number(top + i, 0, s.subgroup, rows.fmt["point"])
+        ws.write_number(top + i, 0, s.subgroup, tab.fmt["point"])
         ws.write_string(top + i, 1, s.label)
         ws.write_string(top + i, 2, labels.get(s.statistic, s.statistic))
         ws.write_string(top + i, 3, s.rule)
@@ -265,50 +224,50 @@ def _signals(rows: _Rows, result: CharacteristicResult, table: str) -> None:
     ws.add_table(top, 0, top + len(result.signals), 4, {
         "name": table,
         "style": "Table Style Light 1",
-        "columns": [{"header": h, "header_format": rows.fmt["head"]}
+        "columns": [{"header": h, "header_format": tab.fmt["head"]}
                     for h in ("Point", "Label", "Chart", "Rule", "What the rule looks for")]})
-    rows.row = top + len(result.signals) + 1
+    tab.row = top + len(result.signals) + 1
 
 
-def _capability(rows: _Rows, result: CharacteristicResult) -> None:
-    ws, fmt = rows.ws, rows.fmt
+def _capability(tab: Tab, result: CharacteristicResult) -> None:
+    ws, fmt = tab.ws, tab.fmt
     cap = result.capability
-    rows.section("Capability")
+    tab.section("Capability")
     if cap is None:
-        ws.write_string(rows.row, 0, "Not computed: no specification limits were given for this characteristic."
+        ws.write_string(tab.row, 0, "Not computed: no specification limits were given for this characteristic."
                         if isinstance(result.characteristic.data, Measurements) else "Not computed.")
-        rows.row += 1
+        tab.row += 1
         return
     if isinstance(cap, AttributeRate):
         what = "proportion defective" if cap.kind == "proportion" else "defects per unit"
-        rows.head(["Estimate", "Value", f"{cap.confidence:.0%} interval: low", "high", ""], (1, 2, 3))
-        ws.write_string(rows.row, 0, f"Average {what}")
+        tab.head(["Estimate", "Value", f"{cap.confidence:.0%} interval: low", "high", ""], (1, 2, 3))
+        ws.write_string(tab.row, 0, f"Average {what}")
         for c, v in enumerate((cap.estimate, cap.ci.low, cap.ci.high), start=1):
-            cells.number(ws, rows.row, c, v, fmt["dec6"])
-        rows.row += 1
+            cells.number(ws, tab.row, c, v, fmt["dec6"])
+        tab.row += 1
         return
     if not cap.stable:
-        ws.merge_range(rows.row, 0, rows.row, 4, "", fmt["warn"])
-        ws.write_string(rows.row, 0, "Not a stable process: the chart signals, so these indices describe the "
+        ws.merge_range(tab.row, 0, tab.row, 4, "", fmt["warn"])
+        ws.write_string(tab.row, 0, "Not a stable process: the chart signals, so these indices describe the "
                         "data seen, not what the process will make.", fmt["warn"])
-        rows.row += 1
-    rows.head(["Index", "Estimate", f"{cap.confidence:.0%} interval: low", "high", "Note"], (1, 2, 3))
+        tab.row += 1
+    tab.head(["Index", "Estimate", f"{cap.confidence:.0%} interval: low", "high", "Note"], (1, 2, 3))
     for name, value, key, note in (
             ("Cp", cap.cp, "cp", "spread against the tolerance, sigma within"),
             ("Cpk", cap.cpk, "cpk", "nearer specification limit, sigma within"),
             ("Pp", cap.pp, "pp", "spread against the tolerance, overall sigma"),
             ("Ppk", cap.ppk, "ppk", "nearer specification limit, overall sigma"),
             ("Cpm", cap.cpm, "cpm", "against the target")):
-        ws.write_string(rows.row, 0, name)
+        ws.write_string(tab.row, 0, name)
         if value is None:
-            ws.write_string(rows.row, 1, "not defined")
+            ws.write_string(tab.row, 1, "not defined")
         else:
-            cells.number(ws, rows.row, 1, value, fmt["ratio"])
+            cells.number(ws, tab.row, 1, value, fmt["ratio"])
         if key in cap.ci:
-            cells.number(ws, rows.row, 2, cap.ci[key].low, fmt["ratio"])
-            cells.number(ws, rows.row, 3, cap.ci[key].high, fmt["ratio"])
-        ws.write_string(rows.row, 4, note, fmt["note"])
-        rows.row += 1
+            cells.number(ws, tab.row, 2, cap.ci[key].low, fmt["ratio"])
+            cells.number(ws, tab.row, 3, cap.ci[key].high, fmt["ratio"])
+        ws.write_string(tab.row, 4, note, fmt["note"])
+        tab.row += 1
     facts = [("Mean", f"{cap.mean:.6g}"), ("Sigma within", f"{cap.sigma_within:.6g}"),
              ("Sigma overall", f"{cap.sigma_overall:.6g}")]
     if cap.ppm_out is not None:
@@ -316,34 +275,34 @@ def _capability(rows: _Rows, result: CharacteristicResult) -> None:
     if cap.normality_p is not None:
         facts.append(("Normality test p-value", f"{cap.normality_p:.4f}"))
     for label, value in facts:
-        rows.fact(label, value)
+        tab.fact(label, value)
     for note in cap.notes:
-        rows.fact("Note", note, wrap=True)
+        tab.fact("Note", note, wrap=True)
 
 
-def _performance(rows: _Rows, result: CharacteristicResult, links: Links) -> None:
-    ws, fmt = rows.ws, rows.fmt
+def _performance(tab: Tab, result: CharacteristicResult, performance_tab: str) -> None:
+    ws, fmt = tab.ws, tab.fmt
     perf = result.performance
-    rows.section("How this scheme behaves")
-    rows.fact("Method", perf.method, wrap=True)
-    ws.write_string(rows.row, 0, "In-control ARL (points)", fmt["label"])
-    cells.number(ws, rows.row, 1, perf.arl_in_control, fmt["arl"])
-    rows.row += 1
+    tab.section("How this scheme behaves")
+    tab.fact("Method", perf.method, wrap=True)
+    ws.write_string(tab.row, 0, "In-control ARL (points)", fmt["label"])
+    cells.number(ws, tab.row, 1, perf.arl_in_control, fmt["arl"])
+    tab.row += 1
     if perf.components:
-        rows.fact("Each chart alone", "; ".join(f"{k}: {v:,.1f}" for k, v in perf.components.items()))
-    ws.write_string(rows.row, 0, "False alarms per month", fmt["label"])
+        tab.fact("Each chart alone", "; ".join(f"{k}: {v:,.1f}" for k, v in perf.components.items()))
+    ws.write_string(tab.row, 0, "False alarms per month", fmt["label"])
     if perf.false_alarms_per_month is not None:
-        cells.number(ws, rows.row, 1, perf.false_alarms_per_month, fmt["ratio"])
+        cells.number(ws, tab.row, 1, perf.false_alarms_per_month, fmt["ratio"])
     else:
-        ws.write_string(rows.row, 1, "sampling interval not given")
-    rows.row += 1
-    rows.row += 1
-    rows.head([shift_heading(perf), "ARL (points)", "ATS (hours)", "", ""], (0, 1, 2))
+        ws.write_string(tab.row, 1, "sampling interval not given")
+    tab.row += 1
+    tab.row += 1
+    tab.head([shift_heading(perf), "ARL (points)", "ATS (hours)", "", ""], (0, 1, 2))
     for s in perf.shifts:
-        cells.number(ws, rows.row, 0, s.shift, fmt["dec2"])
-        cells.number(ws, rows.row, 1, s.arl, fmt["arl"])
-        cells.number(ws, rows.row, 2, s.ats_hours, fmt["hours"])
-        rows.row += 1
-    ws.write_url(rows.row, 0, cells.internal_link(links.performance), fmt["link"],
+        cells.number(ws, tab.row, 0, s.shift, fmt["dec2"])
+        cells.number(ws, tab.row, 1, s.arl, fmt["arl"])
+        cells.number(ws, tab.row, 2, s.ats_hours, fmt["hours"])
+        tab.row += 1
+    ws.write_url(tab.row, 0, cells.internal_link(performance_tab), fmt["link"],
                  string="ARL over a finer grid of shifts: Scheme performance")
-    rows.row += 1
+    tab.row += 1

@@ -5,9 +5,7 @@ went wrong, and the caution that the statistics support and never replace engine
 from __future__ import annotations
 
 import datetime as dt
-import math
 from dataclasses import dataclass
-from typing import Any
 
 from sheettool import TOOL_NAME, __version__
 from sheettool.core.constants import constants
@@ -17,9 +15,11 @@ from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook.reader import SheetRead
 from sheettool.workbook.report import EvaluationReport
 from sheettool.workbook.writer import cells
+from sheettool.workbook.writer.book_writer import BookWriter
+from sheettool.workbook.writer.data_tab import PRINT_ROWS
 from sheettool.workbook.writer.methods import method
+from sheettool.workbook.writer.tab import Tab
 
-NOTES_TAB = "Method and audit"
 NOTE_CHARS = 100  # characters per line of the 100-wide text column (a little below what fits: nothing is cut)
 CAUTION = (
     "These statistics support, and never replace, engineering judgement, the site's quality "
@@ -43,43 +43,40 @@ class Stamp:
     origin: str
 
 
-def write_notes_tab(ws: Any, fmt: dict[str, Any], sources: list[tuple[EvaluationReport, list[SheetRead]]],
-                    stamp: Stamp, live: bool, as_values: list[str], print_rows: int, eval_tabs: list[str]) -> None:
+def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], stamp: Stamp,
+                    as_values: list[str], eval_tabs: list[str]) -> None:
     """Write the method and audit notes as label / text rows, for one input or a pack of them."""
-    reports = [report for report, _ in sources]
+    ws, fmt, live = tab.ws, tab.fmt, out.live
     results = [result for report in reports for result in report.characteristics]
     ws.set_column(0, 0, 30)
     ws.set_column(1, 1, 100)
     ws.write_string(0, 0, "Method and audit", fmt["title"])
-    row = 2
+    tab.row = 2
 
-    def line(label: str, text: str, style: str = "wrap") -> None:
-        nonlocal row
-        ws.write_string(row, 0, label, fmt["label"])
-        ws.write_string(row, 1, text, fmt[style])
-        if len(text) > NOTE_CHARS:
-            ws.set_row(row, 15 * math.ceil(len(text) / NOTE_CHARS))
-        row += 1
+    def line(label: str, text: str, role: str = "wrap") -> None:
+        tab.text(0, label, "label")
+        tab.text(1, text, role)
+        tab.fit(text, NOTE_CHARS)
+        tab.row += 1
 
     def section(title: str) -> None:
-        nonlocal row
-        row += 1
-        ws.write_string(row, 0, title, fmt["section"])
-        ws.write_string(row, 1, "", fmt["section"])
-        row += 1
+        tab.row += 1
+        tab.text(0, title, "section")
+        tab.text(1, "", "section")
+        tab.row += 1
 
     line("Caution", CAUTION, "caution")
-    for result, tab in zip(results, eval_tabs, strict=True):
-        ws.write_string(row, 0, "Evaluation", fmt["label"])
-        ws.write_url(row, 1, cells.internal_link(tab), fmt["link"], string=result.characteristic.name)
-        row += 1
-    for report, reads in sources:
-        section("Input" if len(sources) == 1 else f"Input: {report.input.name}")
-        line("Input file", str(report.input) if len(sources) > 1 else report.input.name)
+    for result, eval_tab in zip(results, eval_tabs, strict=True):
+        tab.text(0, "Evaluation", "label")
+        ws.write_url(tab.row, 1, cells.internal_link(eval_tab), fmt["link"], string=result.characteristic.name)
+        tab.row += 1
+    for report in reports:
+        section("Input" if len(reports) == 1 else f"Input: {report.input.name}")
+        line("Input file", str(report.input) if len(reports) > 1 else report.input.name)
         line("Size (bytes)", f"{report.input_size:,}")
         line("SHA-256", report.input_sha256)
-        for read in reads:
-            line(f"Sheet '{read.sheet}'", _read_words(read))
+        for sheet in report.sheets:
+            line(f"Sheet '{sheet.read.sheet}'", _read_words(sheet.read))
     section("This file")
     line("Written by", f"{TOOL_NAME} {__version__}")
     line("Document date", f"{stamp.when:%Y-%m-%d %H:%M:%S} ({stamp.origin})")
@@ -88,7 +85,7 @@ def write_notes_tab(ws: Any, fmt: dict[str, Any], sources: list[tuple[Evaluation
                            "no: every number is a value (run with --formulas to get formulas)"))
     if live and as_values:
         line("Written as values", "no checked formula for: " + "; ".join(as_values))
-    line("Printing", f"evaluation tabs print landscape, one page wide; data tabs print their first {print_rows} "
+    line("Printing", f"evaluation tabs print landscape, one page wide; data tabs print their first {PRINT_ROWS} "
                      "subgroups only (select rows and print the selection for more)")
     line("Hidden tabs", "limits-block (the machine-readable limits next month's run reads back) and chart-lines "
                         "(the line geometry of the charts)")

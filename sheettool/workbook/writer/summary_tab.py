@@ -4,13 +4,14 @@ row per file or sheet that could not be evaluated."""
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any
 
 from sheettool.evaluation.summary import STATUS_WORDS, PackRow, Period, pack_key
+from sheettool.workbook import style
 from sheettool.workbook.report import EvaluationReport
 from sheettool.workbook.writer import cells
 from sheettool.workbook.writer.book import Summary, WriterOptions, write_workbook
 from sheettool.workbook.writer.notes_tab import CAUTION
+from sheettool.workbook.writer.tab import Tab
 
 SUMMARY_TAB = "Review summary"
 COLUMNS = ("Source file", "Sheet", "Characteristic", "Chart", "Points in period", "Signals", "Latest signal",
@@ -24,14 +25,14 @@ def write_pack_workbook(rows: list[PackRow], period: Period | None, evaluated: l
 
     evaluated: (source label, report) of every input that was evaluated, in the order of the summary rows.
     """
-    sources = [(report, report.reads) for _, report in evaluated]
+    reports = [report for _, report in evaluated]
     keys = [pack_key(source, r.sheet) for source, report in evaluated for r in report.characteristics]
-    write_workbook(sources, path, options, Summary(SUMMARY_TAB, lambda book, ws, fmt, tabs:
-                                                   _write_summary(ws, fmt, rows, period, tabs)), block_keys=keys)
+    write_workbook(reports, path, options, Summary(SUMMARY_TAB, lambda tab, eval_tabs:
+                                                   _write_summary(tab, rows, period, eval_tabs)), block_keys=keys)
 
 
-def _write_summary(ws: Any, fmt: dict[str, Any], rows: list[PackRow], period: Period | None,
-                   eval_tabs: list[str]) -> None:
+def _write_summary(tab: Tab, rows: list[PackRow], period: Period | None, eval_tabs: list[str]) -> None:
+    ws, fmt = tab.ws, tab.fmt
     ws.write_string(0, 0, "Review summary", fmt["title"])
     words = f"points dated {period.label}" if period else "all points of each workbook"
     ws.write_string(1, 0, f"Period: {words}. Limits: each characteristic's base period, or the limits carried "
@@ -40,9 +41,9 @@ def _write_summary(ws: Any, fmt: dict[str, Any], rows: list[PackRow], period: Pe
     ws.write_string(2, 0, "; ".join(f"{n} {word}" for word, n in counts.items() if n) or "nothing evaluated",
                     fmt["label"])
     ws.merge_range(3, 0, 3, len(COLUMNS) - 1, CAUTION, fmt["caution"])
-    ws.set_row(3, 30)
+    tab.fit(CAUTION, sum(WIDTHS), row=3)
     top = 5
-    ws.set_row(top, 30)
+    tab.height(style.HEAD_HEIGHT, top)
     last = top + max(len(rows), 1)
     ws.add_table(top, 0, last, len(COLUMNS) - 1, {
         "name": "review_summary", "style": "Table Style Light 1",
@@ -65,8 +66,7 @@ def _write_summary(ws: Any, fmt: dict[str, Any], rows: list[PackRow], period: Pe
         cells.number(ws, i, 11, row.false_alarms_per_month, fmt["dec2"])
         ws.write_string(i, 12, row.status, fmt["label"] if row.flags else fmt["text"])
         ws.write_string(i, 13, row.reason, fmt["wrap"])
-        if len(row.reason) > WIDTHS[13]:
-            ws.set_row(i, 15 * (len(row.reason) // WIDTHS[13] + 1))
+        tab.fit(row.reason, WIDTHS[13], row=i)
     for col, width in enumerate(WIDTHS):
         ws.set_column(col, col, width)
     ws.freeze_panes(top + 1, 3)

@@ -5,13 +5,15 @@ and dependence, and the requirements check, each shown only when the evaluation 
 from __future__ import annotations
 
 import math
-from typing import Any
+
+from xlsxwriter.format import Format
 
 from sheettool.core.data_shape import DataShapeReport
 from sheettool.core.design import RequirementsCheck
 from sheettool.core.estimated_limits import EstimatedLimitsReport
 from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook import style
+from sheettool.workbook.writer.tab import Tab
 
 TITLE = "How far to trust these limits"
 NO_VALUE = "—"
@@ -30,129 +32,121 @@ def has_checks(result: CharacteristicResult) -> bool:
     return any(x is not None for x in (result.estimated_limits, result.data_shape, result.requirements_check))
 
 
-def write_trust_block(rows: Any, result: CharacteristicResult) -> None:
-    """Write the block at the evaluation tab's row cursor (an evaluation_tab._Rows), when there is something."""
+def write_trust_block(tab: Tab, result: CharacteristicResult) -> None:
+    """Write the block at the evaluation tab's row cursor, when there is something to show."""
     if not has_checks(result):
         return
-    rows.section(TITLE)
+    tab.section(TITLE)
     if result.estimated_limits is not None:
-        _estimated(rows, result.estimated_limits)
+        _estimated(tab, result.estimated_limits)
     if result.data_shape is not None:
-        _shape(rows, result.data_shape)
+        _shape(tab, result.data_shape)
     if result.requirements_check is not None:
-        _requirements(rows, result.requirements_check)
+        _requirements(tab, result.requirements_check)
 
 
-def _value(rows: Any, col: int, value: float | None, fmt: Any) -> None:
+def _value(tab: Tab, col: int, value: float | None, fmt: Format) -> None:
     """A number, or a word where there is none: infinite -> 'unbounded', None or NaN -> a dash."""
-    ws = rows.ws
+    ws = tab.ws
     if value is None or math.isnan(value):
-        ws.write_string(rows.row, col, NO_VALUE, rows.fmt["text_right"])
+        ws.write_string(tab.row, col, NO_VALUE, tab.fmt["text_right"])
     elif math.isinf(value):
-        ws.write_string(rows.row, col, UNBOUNDED, rows.fmt["text_right"])
+        ws.write_string(tab.row, col, UNBOUNDED, tab.fmt["text_right"])
     else:
-        ws.write_number(rows.row, col, float(value), fmt)
+        ws.write_number(tab.row, col, float(value), fmt)
 
 
-def _note(rows: Any, text: str) -> None:
+def _note(tab: Tab, text: str) -> None:
     """The note column of the current row, the row made tall enough to show it all."""
-    rows.ws.write_string(rows.row, 4, text, rows.fmt["note"])
-    _height(rows, text, _NOTE_CHARS)
+    tab.text(4, text, "note")
+    tab.fit(text, _NOTE_CHARS)
 
 
-def _height(rows: Any, text: str, chars: int) -> None:
-    lines = max(1, math.ceil(len(text) / chars))
-    if lines > 1:
-        rows.ws.set_row(rows.row, 15 * lines)
-
-
-def _wide(rows: Any, text: str, role: str) -> None:
+def _wide(tab: Tab, text: str, role: str) -> None:
     """One line of text across the tab's full width, wrapped (the lead sentence, a warning)."""
-    ws, fmt = rows.ws, rows.fmt
-    ws.merge_range(rows.row, 0, rows.row, 4, "", fmt[role])
-    ws.write_string(rows.row, 0, text, fmt[role])
-    _height(rows, text, _FULL_CHARS)
-    rows.row += 1
+    tab.across(0, 4, text, role)
+    tab.fit(text, _FULL_CHARS)
+    tab.row += 1
 
 
-def _line(rows: Any, label: str, values: tuple[tuple[float | None, str], ...], note: str) -> None:
-    rows.ws.write_string(rows.row, 0, label, rows.fmt["text"])
+def _line(tab: Tab, label: str, values: tuple[tuple[float | None, str], ...], note: str) -> None:
+    tab.ws.write_string(tab.row, 0, label, tab.fmt["text"])
     for col, (value, role) in enumerate(values, start=1):
         if role:
-            _value(rows, col, value, rows.fmt[role])
-    _note(rows, note)
-    rows.row += 1
+            _value(tab, col, value, tab.fmt[role])
+    _note(tab, note)
+    tab.row += 1
 
 
-def _estimated(rows: Any, rep: EstimatedLimitsReport) -> None:
+def _estimated(tab: Tab, rep: EstimatedLimitsReport) -> None:
     dist, what = rep.distribution, ("points" if rep.distribution.n == 1 else "subgroups")
-    _wide(rows, rep.sentence, "lead")
-    rows.head(["Estimated limits", "In-control ARL", "", "", "What it means"], (1,))
+    _wide(tab, rep.sentence, "lead")
+    tab.head(["Estimated limits", "In-control ARL", "", "", "What it means"], (1,))
     known = f"known mean and sigma give {dist.known_arl:,.1f}"
-    _line(rows, "Average over base periods", ((dist.mean, "arl"),),
+    _line(tab, "Average over base periods", ((dist.mean, "arl"),),
           f"over all the base periods of {dist.m} {what} the process could give; {known}")
-    _line(rows, "10th percentile", ((dist.p10, "arl"),),
+    _line(tab, "10th percentile", ((dist.p10, "arl"),),
           "one base period in ten gives limits with fewer points than this between false alarms")
-    _line(rows, "50th percentile", ((dist.p50, "arl"),), "half the base periods give fewer, half more")
-    _line(rows, f"Factor for {rep.exceed:.0%} assurance", ((rep.adjusted.factor, "ratio"),),
+    _line(tab, "50th percentile", ((dist.p50, "arl"),), "half the base periods give fewer, half more")
+    _line(tab, f"Factor for {rep.exceed:.0%} assurance", ((rep.adjusted.factor, "ratio"),),
           f"center +/- this many sigma gives an in-control ARL of at least {rep.floor:,.0f} in {rep.exceed:.0%} "
           "of base periods (3 is the usual factor)")
     needed = rep.needed
-    ws = rows.ws
-    ws.write_string(rows.row, 0, f"{what.capitalize()} needed, 3-sigma", rows.fmt["text"])
+    ws = tab.ws
+    ws.write_string(tab.row, 0, f"{what.capitalize()} needed, 3-sigma", tab.fmt["text"])
     if needed.subgroups is not None:
-        ws.write_number(rows.row, 1, needed.subgroups, rows.fmt["count_right"])
+        ws.write_number(tab.row, 1, needed.subgroups, tab.fmt["count_right"])
         enough = "enough already" if needed.subgroups <= dist.m else f"{dist.m} in use"
         note = f"fewest {what} for that assurance with the usual factor 3; {enough}"
     elif needed.reachable:
-        ws.write_string(rows.row, 1, f"more than {needed.max_searched:,}", rows.fmt["text_right"])
+        ws.write_string(tab.row, 1, f"more than {needed.max_searched:,}", tab.fmt["text_right"])
         note = f"even {needed.max_searched:,} {what} would not give that assurance with the usual factor 3"
     else:
-        ws.write_string(rows.row, 1, "none is enough", rows.fmt["text_right"])
+        ws.write_string(tab.row, 1, "none is enough", tab.fmt["text_right"])
         note = f"3-sigma cannot reach {rep.floor:,.0f} even with known mean and sigma"
-    _note(rows, note)
-    rows.row += 1
+    _note(tab, note)
+    tab.row += 1
     for text in dist.notes:
-        _wide(rows, f"Note: {text}", "wrap")
+        _wide(tab, f"Note: {text}", "wrap")
 
 
-def _shape(rows: Any, rep: DataShapeReport) -> None:
+def _shape(tab: Tab, rep: DataShapeReport) -> None:
     shape, dep = rep.shape, rep.dependence
-    rows.row += 1
-    rows.head(["Shape and dependence", "This data", "Normal model", "", "Note"], (1, 2))
-    ws = rows.ws
-    ws.write_string(rows.row, 0, "Shape of the readings", rows.fmt["text"])
-    ws.write_string(rows.row, 1, shape.family, rows.fmt["text_right"])
-    ws.write_string(rows.row, 2, "normal", rows.fmt["text_right"])
-    _note(rows, f"lowest BIC of normal, Johnson SU and SB; skewness {shape.skewness:.2f}")
-    rows.row += 1
-    _line(rows, "In-control ARL, this shape", ((shape.arl_shape, "arl"), (shape.arl_normal, "arl")),
+    tab.row += 1
+    tab.head(["Shape and dependence", "This data", "Normal model", "", "Note"], (1, 2))
+    ws = tab.ws
+    ws.write_string(tab.row, 0, "Shape of the readings", tab.fmt["text"])
+    ws.write_string(tab.row, 1, shape.family, tab.fmt["text_right"])
+    ws.write_string(tab.row, 2, "normal", tab.fmt["text_right"])
+    _note(tab, f"lowest BIC of normal, Johnson SU and SB; skewness {shape.skewness:.2f}")
+    tab.row += 1
+    _line(tab, "In-control ARL, this shape", ((shape.arl_shape, "arl"), (shape.arl_normal, "arl")),
           f"3-sigma limits, fitted shape against normal (ratio {_ratio(shape.ratio)})")
-    _line(rows, "Lag-1 autocorrelation", ((dep.r1, "ratio"), (dep.bound, "ratio")),
+    _line(tab, "Lag-1 autocorrelation", ((dep.r1, "ratio"), (dep.bound, "ratio")),
           f"beside it the bound 2/sqrt(N) for {dep.points} points; r1 is "
           + ("beyond it" if dep.significant else "within it"))
     if dep.significant:
-        _line(rows, "In-control ARL, AR(1)", ((dep.arl_ar1, "arl"), (dep.arl_independent, "arl")),
+        _line(tab, "In-control ARL, AR(1)", ((dep.arl_ar1, "arl"), (dep.arl_independent, "arl")),
               ("at least this (some simulated runs had not signalled); " if dep.censored else "")
               + f"successive points following AR(1) with phi {dep.phi:.2f}")
     for text in rep.warnings:
-        _wide(rows, f"Warning: {text}", "warn_wrap")
+        _wide(tab, f"Warning: {text}", "warn_wrap")
 
 
 def _ratio(value: float) -> str:
     return UNBOUNDED if math.isinf(value) else NO_VALUE if math.isnan(value) else f"{value:.2f}"
 
 
-def _requirements(rows: Any, check: RequirementsCheck) -> None:
-    rows.row += 1
-    rows.head(["Requirement", "Required", "Achieved", "Met", "In words"], (1, 2), centered=(3,))
+def _requirements(tab: Tab, check: RequirementsCheck) -> None:
+    tab.row += 1
+    tab.head(["Requirement", "Required", "Achieved", "Met", "In words"], (1, 2), centered=(3,))
     for item in check.items:
-        rows.ws.write_string(rows.row, 0, REQUIREMENT_LABELS.get(item.name, item.name), rows.fmt["text"])
-        _value(rows, 1, item.required, rows.fmt["figure"])
-        _value(rows, 2, item.achieved, rows.fmt["figure"])
-        rows.ws.write_string(rows.row, 3, MET_WORDS[item.met], rows.fmt["flag_warn" if item.met is False else "flag"])
-        _note(rows, item.words)
-        rows.row += 1
+        tab.ws.write_string(tab.row, 0, REQUIREMENT_LABELS.get(item.name, item.name), tab.fmt["text"])
+        _value(tab, 1, item.required, tab.fmt["figure"])
+        _value(tab, 2, item.achieved, tab.fmt["figure"])
+        tab.ws.write_string(tab.row, 3, MET_WORDS[item.met], tab.fmt["flag_warn" if item.met is False else "flag"])
+        _note(tab, item.words)
+        tab.row += 1
     overall = {True: "every requirement is met", False: "not every requirement is met",
                None: "some requirements cannot be judged from what was given"}[check.met]
-    rows.fact("Requirements", f"{overall} (shift judged: {check.shift:.3g} sigma)")
+    tab.fact("Requirements", f"{overall} (shift judged: {check.shift:.3g} sigma)")

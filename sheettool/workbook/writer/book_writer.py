@@ -1,0 +1,73 @@
+"""The one object every tab writer works through: the workbook being written and what it holds so far.
+
+It owns the xlsxwriter workbook and its cell formats, the tab names taken, the workbook-level names
+defined, the chart-line geometry the charts collect, the tabs everyone links to, and whether numbers
+are written as live formulas.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import cast
+
+import xlsxwriter
+from xlsxwriter.chart_scatter import ChartScatter
+
+from sheettool.workbook import style
+from sheettool.workbook.writer import cells
+from sheettool.workbook.writer.lines import LineSheet
+from sheettool.workbook.writer.tab import Tab
+
+# Text is always text (never a formula, a link or a number); NaN and infinities are never written as numbers.
+_WORKBOOK_OPTIONS = {"strings_to_formulas": False, "strings_to_urls": False, "strings_to_numbers": False,
+                     "nan_inf_to_errors": False}
+# the evaluated workbook's fixed tabs that every evaluation tab links to
+PERFORMANCE_TAB = "Scheme performance"
+NOTES_TAB = "Method and audit"
+
+
+@dataclass(frozen=True)
+class Links:
+    """Tabs the evaluation tabs link to."""
+
+    performance: str = PERFORMANCE_TAB
+    notes: str = NOTES_TAB
+
+
+class BookWriter:
+    """One output workbook being written: workbook, formats, tab names, defined names, chart lines and links."""
+
+    def __init__(self, path: str, live: bool = False, reserved: tuple[str, ...] = ()) -> None:
+        """Open the workbook at `path`; `reserved` are tab names kept for fixed tabs added later."""
+        self.book = xlsxwriter.Workbook(path, _WORKBOOK_OPTIONS)
+        self.fmt = style.formats(self.book)
+        self.live = live
+        self.links = Links()
+        self.lines = LineSheet()
+        self._tab_names = {name.lower() for name in reserved}
+        self._defined: set[str] = set()
+
+    def tab_name(self, base: str, suffix: str) -> str:
+        """A tab name not taken yet, built from a characteristic's name and a suffix (see cells.tab_name)."""
+        return cells.tab_name(base, suffix, self._tab_names)
+
+    def add_tab(self, name: str) -> Tab:
+        """Add a worksheet (tabs appear in the order they are added) with a cursor at its first row."""
+        self._tab_names.add(name.lower())
+        return Tab(self.book.add_worksheet(name), self.fmt, name)
+
+    def define(self, name: str, ref: str) -> str:
+        """Define a workbook-level name for `ref`, made unique with trailing underscores; return the name."""
+        while name.lower() in self._defined:
+            name += "_"
+        self._defined.add(name.lower())
+        self.book.define_name(name, "=" + ref)
+        return name
+
+    def scatter_chart(self, subtype: str) -> ChartScatter:
+        """A new native scatter chart ("straight" or "straight_with_markers"), inserted into a tab by its writer."""
+        return cast(ChartScatter, self.book.add_chart({"type": "scatter", "subtype": subtype}))
+
+    def close(self) -> None:
+        """Write the workbook's file."""
+        self.book.close()
