@@ -49,7 +49,7 @@ def test_every_chart_and_the_table(run_cli, chart, extra, words):
     (["--rules", "7/3>2", "--n", "5"], "K must be"),
     (["--chart", "ewma", "--lam", "1.5"], "lambda"),
     (["--chart", "ewma", "--lam", "0"], "lambda"),
-    (["--chart", "cusum", "--h", "-1"], "h must"),
+    (["--chart", "cusum", "--h", "-1"], "option --h: CUSUM decision interval"),
     (["--n", "5", "--shift", "0,abc"], "'abc' is not a number"),
     (["--n", "5", "--shift", "0,,1"], "empty entry"),
     (["--n", "5", "--shift", "1e400"], "finite"),

@@ -19,6 +19,7 @@ from sheettool.core.design import (
     design,
     ewma_limit_width,
 )
+from sheettool.core.parameters import EwmaParameters
 from sheettool.demo.scenario import BUNDLED
 from sheettool.evaluation.evaluate import evaluate
 from sheettool.evaluation.options import EvaluationOptions
@@ -229,7 +230,7 @@ def test_requirements_on_a_time_weighted_chart_use_its_own_run_length():
     # memory), so 10.5 h at one reading an hour meets 12 h and misses 8 h.
     values = np.random.default_rng(9).normal(10.0, 1.0, (40, 1))
     for hours, met in ((12.0, True), (8.0, False)):
-        options = EvaluationOptions(chart="ewma", ewma_lambda=0.2, ewma_L=2.962, interval_hours=1.0,
+        options = EvaluationOptions(chart="ewma", ewma=EwmaParameters(0.2, 2.962), interval_hours=1.0,
                                     requirements={"shift": 1.0, "detect_hours": hours, "arl_in_control": 500.0})
         check = evaluate(_characteristic(values), "s", options).requirements_check
         items = {i.name: i for i in check.items}

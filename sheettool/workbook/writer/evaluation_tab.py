@@ -146,7 +146,7 @@ def write_evaluation_tab(book: Any, ws: Any, fmt: dict[str, Any], result: Charac
     rows.fact("Chart", f"{about.words}; subgroups of {fit.subgroup_size}")
     rows.fact("Limits from", fit.limits_source)
     rows.fact("Points that set the limits", _spans(np.asarray(fit.base, dtype=bool)), wrap=True)
-    rows.fact("Sigma within", f"{fit.sigma_within:.6g} ({fit.sigma_method})")
+    rows.fact("Sigma within", f"{fit.sigma_within:.6g} ({fit.sigma_words})")
     rows.fact("Rules in use", "; ".join(f"{r.text}: {r.words}" for r in result.rules), wrap=True)
     rows.fact("Period covered", _period(result))
     rows.fact("Counts", _counts(result))
