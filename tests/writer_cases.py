@@ -5,9 +5,11 @@ on the x axis, a performance curve with ATS, settings with origins.
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 import hashlib
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
@@ -16,8 +18,9 @@ from sheettool.core.charts import ChartFit, PlottedStatistic
 from sheettool.core.constants import c4
 from sheettool.core.data import Characteristic, Counts, Measurements
 from sheettool.core.rules import parse_rules
+from sheettool.core.sigma import SigmaMethod
 from sheettool.evaluation.evaluate import find_signals
-from sheettool.evaluation.results import CharacteristicResult, Performance, ShiftArl
+from sheettool.evaluation.results import Assessment, CharacteristicResult, Fitted, Performance, ShiftArl
 from sheettool.settings import Setting
 from sheettool.workbook.reader import SheetRead
 from sheettool.workbook.report import EvaluationReport, SheetEvaluation
@@ -35,6 +38,11 @@ def _performance(interval: float | None) -> Performance:
     return Performance(method="geometric run length (built for the test)", arl_in_control=370.4,
                        shifts=[c for c in curve if c.shift in (0.0, 1.0, 2.0)], interval_hours=interval,
                        false_alarms_per_month=(730 / interval / 370.4) if interval else None, curve=curve)
+
+
+def with_checks(result: CharacteristicResult, **checks: Any) -> CharacteristicResult:
+    """The result with its assessment's checks (estimated_limits, data_shape, requirements_check) replaced."""
+    return dataclasses.replace(result, assessment=dataclasses.replace(result.assessment, **checks))
 
 
 def varying_sizes_case(m: int = 40, seed: int = 5) -> tuple[CharacteristicResult, SheetRead]:
@@ -59,7 +67,7 @@ def varying_sizes_case(m: int = 40, seed: int = 5) -> tuple[CharacteristicResult
                          np.maximum(0.0, c4n * sigma - 3 * s_sigma), c4n * sigma + 3 * s_sigma, s_sigma,
                          lcl_floored=True),
     ]
-    fit = ChartFit("xbar-s", stats, int(sizes.max()), center, sigma, "S-bar / c4", base,
+    fit = ChartFit("xbar-s", stats, int(sizes.max()), center, sigma, SigmaMethod.S_BAR, base,
                    limits_source=f"base period: all {m} subgroups", parameters={"n": float(sizes.max())})
     dates = [START + dt.timedelta(hours=2 * i) for i in range(m)]
     labels = [f"{d:%Y-%m-%d %H:%M}" for d in dates]
@@ -70,8 +78,8 @@ def varying_sizes_case(m: int = 40, seed: int = 5) -> tuple[CharacteristicResult
                      ci={"cp": Interval(1.3, 1.9), "cpk": Interval(1.1, 1.7)}, confidence=0.95,
                      normality_p=0.42, stable=False, notes=["indices computed for the test"])
     result = CharacteristicResult(
-        characteristic=ch, sheet="Sleeve", fit=fit, rules=rules, signals=find_signals(fit, rules, labels),
-        performance=_performance(2.0), capability=cap,
+        Fitted(characteristic=ch, sheet="Sleeve", fit=fit, rules=rules, signals=find_signals(fit, rules, labels),
+               capability=cap), Assessment(performance=_performance(2.0)),
         settings={"lsl": Setting("lsl", 24.95, "cell 'Sleeve'!B1"), "interval_hours": Setting("interval_hours", 2.0,
                                                                                                "option --interval")})
     header = ["When", *[f"Reading {j + 1}" for j in range(6)], "Remark"]
@@ -94,15 +102,15 @@ def attribute_case(m: int = 25, seed: int = 9) -> tuple[CharacteristicResult, Sh
     se = np.sqrt(pbar * (1 - pbar) / inspected)
     stat = PlottedStatistic("proportion", "Proportion defective", p, _full(pbar, m), np.maximum(0, pbar - 3 * se),
                             pbar + 3 * se, se, lcl_floored=True)
-    fit = ChartFit("p", [stat], int(inspected.max()), pbar, float(np.sqrt(pbar * (1 - pbar))), "binomial",
-                   np.ones(m, dtype=bool))
+    fit = ChartFit("p", [stat], int(inspected.max()), pbar, float(np.sqrt(pbar * (1 - pbar))),
+                   SigmaMethod.PROPORTION, np.ones(m, dtype=bool))
     ch = Characteristic("Seal leaks", Counts(counts, inspected), labels=[f"L{i + 100}" for i in range(m)])
     rules = parse_rules("limits")
     result = CharacteristicResult(
-        characteristic=ch, sheet="Leaks", fit=fit, rules=rules, signals=find_signals(fit, rules, ch.labels),
-        performance=Performance("geometric run length (built for the test)", 300.0,
-                                [ShiftArl(0.0, 300.0), ShiftArl(1.0, 40.0)]),
-        capability=AttributeRate("proportion", pbar, Interval(pbar * 0.8, pbar * 1.2), 0.95))
+        Fitted(characteristic=ch, sheet="Leaks", fit=fit, rules=rules, signals=find_signals(fit, rules, ch.labels),
+               capability=AttributeRate("proportion", pbar, Interval(pbar * 0.8, pbar * 1.2), 0.95)),
+        Assessment(performance=Performance("geometric run length (built for the test)", 300.0,
+                                           [ShiftArl(0.0, 300.0), ShiftArl(1.0, 40.0)])))
     rows = [(f"L{i + 100}", float(counts[i]), float(inspected[i])) for i in range(m)]
     read = SheetRead("Leaks", ch, 1, 2, m + 1, {"A": "subgroup key (Lot)", "B": "count (Leaks)",
                                                  "C": "inspected (Tested)"}, ["Lot", "Leaks", "Tested"], rows)
@@ -143,12 +151,13 @@ def cusum_ewma_case(m: int = 60, seed: int = 13) -> tuple[CharacteristicResult, 
         PlottedStatistic("cusum_lower", "CUSUM below target", down, _full(0.0, m), none, _full(h * sigma, m),
                          _full(sigma, m)),
     ]
-    fit = ChartFit("ewma", stats, 1, mu, sigma, "standard value", np.ones(m, dtype=bool),
-                   limits_source="standard values given in the settings")
+    fit = ChartFit("ewma", stats, 1, mu, sigma, SigmaMethod.GIVEN, np.ones(m, dtype=bool),
+                   limits_source="standard values given in the settings", sigma_given="standard value")
     ch = Characteristic("Torque", Measurements(x[:, None]), unit="N m")
     rules = parse_rules("limits")
-    result = CharacteristicResult(characteristic=ch, sheet="Torque", fit=fit, rules=rules,
-                                  signals=find_signals(fit, rules, ch.labels), performance=_performance(None))
+    result = CharacteristicResult(Fitted(characteristic=ch, sheet="Torque", fit=fit, rules=rules,
+                                         signals=find_signals(fit, rules, ch.labels)),
+                                  Assessment(performance=_performance(None)))
     read = SheetRead("Torque", ch, 1, 2, m + 1, {"A": "measurement (Torque)"}, ["Torque"],
                      [(float(v),) for v in x])
     return result, read

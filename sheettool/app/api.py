@@ -66,9 +66,7 @@ def evaluate_file(input_path: Path, output: Path | None = None,
             if carried is not None:
                 options = replace(options, carried=carried.get(sheet.sheet))
             result = evaluate(sheet.characteristic, sheet.sheet, options)
-            result.settings = used
-            result.problems = [p.located(input_path.name, sheet.sheet) for p in result.problems]
-            sheets.append(SheetEvaluation(sheet, result))
+            sheets.append(SheetEvaluation(sheet, replace(result, settings=used, file=input_path.name)))
         except ValueError as exc:
             problems.append(Problem("error", str(exc), input_path.name, sheet.sheet))
     if not sheets:

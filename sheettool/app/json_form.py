@@ -54,7 +54,7 @@ def capability_json(cap: Capability | AttributeRate | None) -> dict[str, Any] | 
     out.update({
         "ci": {k: [_number(v.low), _number(v.high)] for k, v in cap.ci.items()},
         "confidence": cap.confidence,
-        "sigma_method": cap.sigma_method,
+        "sigma_method": cap.sigma_method.words if cap.sigma_method else "",
         "readings": cap.readings,
         "normality_doubtful": cap.normality_doubtful,
         "stable": cap.stable,

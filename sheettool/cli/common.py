@@ -1,4 +1,5 @@
-"""Options shared by the sub-commands: those of evaluate and pack, and number parsing for design and runlength."""
+"""Options shared by the sub-commands: those of evaluate and pack, and option values for design and runlength (by
+the settings' own converters where a setting of that name exists, else as plain numbers)."""
 
 from __future__ import annotations
 
@@ -67,6 +68,25 @@ def cli_settings(args: argparse.Namespace) -> dict[str, Setting]:
             raise UsageError(str(exc)) from None
         settings[checked.name] = checked
     return settings
+
+
+def setting_value(name: str, option: str, text: str | None) -> Any:
+    """An option's text converted as the setting `name` is (e.g. "30 min" for interval_hours); None when not given,
+    UsageError naming the option when the value is bad."""
+    if text is None:
+        return None
+    try:
+        return convert(Setting(name, text, f"option {option}")).value
+    except ValueError as exc:
+        raise UsageError(str(exc)) from None
+
+
+def setting_list(name: str, option: str, text: str) -> tuple[Any, ...]:
+    """A comma-separated list of values of the setting `name`, e.g. --intervals 0.5,1,2 or 30 min,1 h."""
+    parts = [part.strip() for part in text.split(",")]
+    if not all(parts):
+        raise UsageError(f"{option}: '{text}' has an empty entry; write values separated by commas")
+    return tuple(setting_value(name, option, part) for part in parts)
 
 
 def number(option: str, text: str | None, positive: bool = False) -> float | None:

@@ -11,8 +11,8 @@ from typing import Any
 from sheettool import TOOL_NAME, __version__
 from sheettool.app.api import design_schemes
 from sheettool.base.errors import UsageError
-from sheettool.cli.common import number, number_list, print_json, write_stdout
-from sheettool.core.design import Candidate, DesignResult, Requirements, Sampling, SearchGrid
+from sheettool.cli.common import number, number_list, print_json, setting_list, setting_value, write_stdout
+from sheettool.core.design import REQUIREMENT_KEYS, Candidate, DesignResult, Requirements, Sampling, SearchGrid
 from sheettool.workbook.design_book import HEAD, candidate_row, requirement_lines
 
 
@@ -22,16 +22,18 @@ def add_parser(subs: argparse._SubParsersAction) -> None:
                         description="Search Shewhart, EWMA and CUSUM schemes at the sampling allowed, calibrate "
                         "EWMA and CUSUM to the in-control target and rank them by the time they take to catch "
                         "the shift that matters.")
-    p.add_argument("--arl-in-control", help="in-control ARL wanted at least, in points (default 370.4)")
+    p.add_argument("--arl-in-control", help="in-control ARL wanted at least, in points (default 370.4); with "
+                   "--false-alarms-per-month too, the stricter of the two")
     p.add_argument("--false-alarms-per-month", help="false alarms per month allowed at most (needs --hours-per-month)")
     p.add_argument("--hours-per-month", help="production hours per month")
     p.add_argument("--shift", help="the shift that matters, in process standard deviations (default 1)")
     p.add_argument("--shift-units", help="the shift that matters in the characteristic's unit (needs --sigma)")
     p.add_argument("--sigma", help="the process standard deviation, in the characteristic's unit")
     p.add_argument("--detect-arl", help="ARL at the shift wanted at most, in points")
-    p.add_argument("--detect-hours", help="average time to catch the shift wanted at most, in hours")
+    p.add_argument("--detect-hours", help="average time to catch the shift wanted at most, in hours, e.g. 2 or "
+                   "'90 min'")
     p.add_argument("--sizes", default="1-10", help="subgroup sizes allowed: a range 1-10 or a list 1,2,5")
-    p.add_argument("--intervals", help="sampling intervals allowed, in hours: a list 0.5,1,2")
+    p.add_argument("--intervals", help="sampling intervals allowed, in hours: a list 0.5,1,2 (or 30 min,1 h)")
     p.add_argument("--budget", help="measurements per hour allowed at most")
     p.add_argument("--presets", default="limits,zones,all", help="Shewhart rule presets searched")
     p.add_argument("--lambdas", help="EWMA weights searched (default 0.05,0.1,0.15,0.2,0.25,0.3,0.4,0.5,0.75)")
@@ -62,16 +64,14 @@ def _inputs(args: argparse.Namespace) -> tuple[Requirements, Sampling, SearchGri
     top = number("--top", args.top)
     if not (top is not None and top == int(top) and top >= 1):
         raise UsageError(f"--top: must be a whole number of at least 1, got '{args.top}'")
+    # each requirement, the hours and sigma as the setting of that name, e.g. --detect-hours '90 min'
+    values = {name: setting_value(name, f"--{name.replace('_', '-')}", getattr(args, name))
+              for name in (*REQUIREMENT_KEYS, "hours_per_month", "sigma")}
     try:
-        req = Requirements(
-            arl_in_control=number("--arl-in-control", args.arl_in_control),
-            false_alarms_per_month=number("--false-alarms-per-month", args.false_alarms_per_month),
-            hours_per_month=number("--hours-per-month", args.hours_per_month),
-            shift=number("--shift", args.shift), shift_units=number("--shift-units", args.shift_units),
-            sigma=number("--sigma", args.sigma), detect_arl=number("--detect-arl", args.detect_arl),
-            detect_hours=number("--detect-hours", args.detect_hours))
+        req = Requirements(**values)
         sampling = Sampling(sizes=_sizes(args.sizes),
-                            intervals=number_list("--intervals", args.intervals) if args.intervals else None,
+                            intervals=setting_list("interval_hours", "--intervals", args.intervals)
+                            if args.intervals else None,
                             budget=number("--budget", args.budget))
         presets = tuple(p.strip().lower() for p in args.presets.split(",") if p.strip())
         grid = SearchGrid(presets=presets, **{key: number_list(f"--{name}", text) for key, name, text in (
@@ -105,9 +105,9 @@ def candidate_json(rank: int, c: Candidate) -> dict[str, Any]:
     """One candidate as JSON; parameters of the chart kind only."""
     scheme: dict[str, Any] = {"chart": c.family, "n": c.n}
     if c.family == "ewma":
-        scheme.update({"lambda": c.scheme.lam, "L": c.scheme.L})
+        scheme.update(c.scheme.ewma.as_mapping())
     elif c.family == "cusum":
-        scheme.update({"k": c.scheme.k, "h": c.scheme.h})
+        scheme.update(c.scheme.cusum.as_mapping())
     else:
         scheme["rules"] = c.preset
     return {

@@ -8,9 +8,11 @@ from typing import Any
 
 from sheettool.app.json_form import run_length_json
 from sheettool.base.errors import UsageError
-from sheettool.cli.common import number, number_list, print_json, write_stdout
+from sheettool.cli.common import number, number_list, print_json, setting_value, write_stdout
+from sheettool.core.parameters import PARAMETER_SETTINGS, CusumParameters, EwmaParameters
 from sheettool.core.rules import parse_rules
 from sheettool.core.runlength.scheme import ATTRIBUTES, Scheme, SchemeResult, scheme_run_lengths
+from sheettool.core.timing import ats_hours, false_alarms_per_month
 
 _CHARTS = {"xbar": "xbar", "xbar-r": "xbar-r", "xbar-s": "xbar-s", "individuals": "individuals",
            "ewma": "ewma", "cusum": "cusum", "p": "p", "np": "np", "c": "c", "u": "u"}
@@ -26,17 +28,19 @@ def add_parser(subs: argparse._SubParsersAction) -> None:
                    help="chart kind (default xbar: the X-bar chart alone; xbar-r / xbar-s add the R or S chart)")
     p.add_argument("--n", help="readings per subgroup (variables) or units inspected per subgroup (p, np, u)")
     p.add_argument("--rules", default="limits", help="pattern rules or preset for Shewhart and attribute charts")
-    p.add_argument("--lam", default="0.2", help="EWMA weight lambda, in (0, 1] (default 0.2)")
-    p.add_argument("--L", default="3", help="EWMA limit width in standard errors (default 3)")
-    p.add_argument("--k", default="0.5", help="CUSUM reference value in standard errors (default 0.5)")
-    p.add_argument("--h", default="5", help="CUSUM decision interval in standard errors (default 5)")
+    ewma, cusum = EwmaParameters(), CusumParameters()
+    p.add_argument("--lambda", "--lam", dest="lambda", help=f"EWMA weight lambda, in (0, 1] (default {ewma.lam:g})")
+    p.add_argument("--L", help=f"EWMA limit width in standard errors (default {ewma.L:g})")
+    p.add_argument("--k", help=f"CUSUM reference value in standard errors (default {cusum.k:g})")
+    p.add_argument("--h", help=f"CUSUM decision interval in standard errors (default {cusum.h:g})")
     p.add_argument("--p0", help="in-control proportion defective (p, np)")
     p.add_argument("--c0", help="in-control defects per subgroup (c) or per unit (u)")
     p.add_argument("--shift", help="comma-separated list: mean shifts in process sigmas (default "
                    f"{_VARIABLE_SHIFTS}); for p, np, c and u the shifted proportion or rate itself "
                    "(default: the in-control rate and 1, 2 and 3 standard errors above it)")
     p.add_argument("--sigma-ratio", default="1", help="process sigma as a multiple of the in-control sigma")
-    p.add_argument("--interval", help="hours between subgroups: gives the average time to signal (ATS)")
+    p.add_argument("--interval", help="hours between subgroups, e.g. 1 or '30 min': gives the average time to "
+                   "signal (ATS)")
     p.add_argument("--hours-per-month", help="production hours per month: gives expected false alarms per month")
     p.add_argument("--json", action="store_true", help="print the results as one JSON object on stdout")
     p.set_defaults(run=run)
@@ -44,10 +48,7 @@ def add_parser(subs: argparse._SubParsersAction) -> None:
 
 def _scheme(args: argparse.Namespace) -> Scheme:
     chart = _CHARTS[args.chart]
-    try:
-        rules = tuple(parse_rules(args.rules))
-    except ValueError as exc:
-        raise UsageError(f"--rules: {exc}") from None
+    rules = tuple(parse_rules(setting_value("rules", "--rules", args.rules)))
     n = number("--n", args.n, positive=True)
     if chart == "individuals" and n not in (None, 1.0):
         raise UsageError("--n: an individuals chart plots single readings; leave --n out or use --chart xbar")
@@ -55,16 +56,19 @@ def _scheme(args: argparse.Namespace) -> Scheme:
         if chart in ("xbar", "xbar-r", "xbar-s", "p", "np", "u"):
             raise UsageError(f"--n: needed for the {args.chart} chart (readings or units per subgroup)")
         n = 1.0
+    # the chart parameters given, by setting name (each option is named as its setting)
+    given = {name: setting_value(name, f"--{name}", getattr(args, name)) for name in PARAMETER_SETTINGS
+             if getattr(args, name) is not None}
     return Scheme(chart="xbar" if chart == "individuals" else chart, rules=rules, n=n,
-                  p0=number("--p0", args.p0), c0=number("--c0", args.c0), lam=number("--lam", args.lam),
-                  L=number("--L", args.L), k=number("--k", args.k), h=number("--h", args.h))
+                  p0=setting_value("p0", "--p0", args.p0), c0=setting_value("c0", "--c0", args.c0),
+                  ewma=EwmaParameters.from_mapping(given), cusum=CusumParameters.from_mapping(given))
 
 
 def run(args: argparse.Namespace) -> int:
     """Compute the run lengths and print them as JSON or a table."""
     ratio = number("--sigma-ratio", args.sigma_ratio, positive=True)
-    interval = number("--interval", args.interval, positive=True)
-    per_month = number("--hours-per-month", args.hours_per_month, positive=True)
+    interval = setting_value("interval_hours", "--interval", args.interval)
+    per_month = setting_value("hours_per_month", "--hours-per-month", args.hours_per_month)
     given = list(number_list("--shift", args.shift)) if args.shift is not None else None
     try:
         scheme = _scheme(args)
@@ -96,9 +100,9 @@ def _document(args: argparse.Namespace, scheme: Scheme, result: SchemeResult, ar
     attribute = scheme.chart in ATTRIBUTES
     info: dict[str, Any] = {"chart": args.chart, "n": scheme.n}
     if scheme.chart == "ewma":
-        info.update({"lambda": scheme.lam, "L": scheme.L})
+        info.update(scheme.ewma.as_mapping())
     elif scheme.chart == "cusum":
-        info.update({"k": scheme.k, "h": scheme.h})
+        info.update(scheme.cusum.as_mapping())
     else:
         info["rules"] = [r.text for r in scheme.rules]
     if scheme.chart in ("p", "np"):
@@ -110,13 +114,14 @@ def _document(args: argparse.Namespace, scheme: Scheme, result: SchemeResult, ar
     for (shift, ratio), rl in zip(result.conditions, result.results, strict=True):
         row: dict[str, Any] = {"shift": shift, "sigma_ratio": None if attribute else ratio}
         row.update(run_length_json(rl.arl, rl.sdrl, rl.percentiles, rl.steady_state_arl, rl.ci))
-        row["ats_hours"] = rl.arl * interval if interval and math.isfinite(rl.arl) else None
+        ats = ats_hours(rl.arl, interval)
+        row["ats_hours"] = ats if ats is not None and math.isfinite(ats) else None
         rows.append(row)
     return {
         "scheme": info,
         "method": result.method,
         "arl_in_control": arl0 if math.isfinite(arl0) else None,
-        "false_alarms_per_month": per_month / (interval * arl0) if interval and per_month else None,
+        "false_alarms_per_month": false_alarms_per_month(arl0, interval, per_month),
         "results": rows,
     }
 

@@ -13,6 +13,8 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import stats
 
+from sheettool.core.sigma import SigmaMethod
+
 
 @dataclass(frozen=True)
 class Interval:
@@ -51,7 +53,7 @@ class Capability:
     normality_statistic: float | None = None  # Anderson-Darling A^2
     normality_doubtful: bool = False  # A^2 above the 5% critical value
     readings: int = 0
-    sigma_method: str = ""
+    sigma_method: SigmaMethod | None = None  # how the within sigma was estimated
 
 
 @dataclass
@@ -142,7 +144,7 @@ def cpk_interval(cpk: float, n: int, confidence: float) -> Interval:
 
 def process_capability(readings: np.ndarray, sigma_within: float, lsl: float | None, usl: float | None,
                        target: float | None = None, confidence: float = 0.95, stable: bool = True,
-                       sigma_method: str = "") -> Capability:
+                       sigma_method: SigmaMethod | None = None) -> Capability:
     """Capability indices, intervals, expected ppm and a normality check for individual readings."""
     check_specs(lsl, usl)
     if lsl is None and usl is None:
@@ -166,7 +168,8 @@ def process_capability(readings: np.ndarray, sigma_within: float, lsl: float | N
                               ("ppk", ppk, "bissell")):
         if value is not None:
             ci[name] = cp_interval(value, n - 1, confidence) if form == "chi2" else cpk_interval(value, n, confidence)
-    notes = [f"from {n} readings; within sigma {sigma_method or 'as the chart'}, overall sigma the "
+    within = sigma_method.words if sigma_method else "as the chart"
+    notes = [f"from {n} readings; within sigma {within}, overall sigma the "
              "sample standard deviation; expected ppm out of spec under a normal model with the overall sigma"]
     if not sigma_within > 0 or not overall > 0:
         notes.append("the readings have no spread: the indices are undefined; check the gauge resolution")

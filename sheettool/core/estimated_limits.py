@@ -7,17 +7,10 @@ For a true N(0, 1) process a plotted point falls outside them with probability
 
 and the conditional in-control ARL is CARL = 1 / p (Quesenberry 1993; Chen 1997; reviewed by Jensen et al. 2006).
 Z and W are independent: for normal data the grand mean is independent of every location-free statistic (ranges,
-standard deviations, moving ranges; Basu 1955). The distribution of W, for each way of estimating sigma:
-
-- pooled standard deviation / c4(m(n-1)+1): EXACT, W^2 c4^2 m(n-1) ~ chi-square with m(n-1) degrees of freedom.
-- S-bar / c4(n): APPROXIMATE, a scaled chi with the exact mean and variance of S-bar (exact when m = 1).
-- R-bar / d2(n): APPROXIMATE, Patnaik's (1950) scaled chi d2* chi_nu / sqrt(nu) fitted to the exact mean d2 and
-  variance d3^2 / m of the average range.
-- MR-bar / d2(2) for individuals: APPROXIMATE, a scaled chi fitted to the exact mean and variance of the average of the
-  m - 1 moving ranges; adjacent moving ranges are correlated, and the variance includes their covariance
-  E|A||B| - E|A| E|B| for A, B ~ N(0, 2) with correlation -1/2 (bivariate normal absolute moments, Cryer and Ryan 1990).
-  Against simulation its 1% and 99% quantiles are within about 2% at m = 25 (under 0.5% at m = 100, 8% at m = 10);
-  the R-bar and S-bar versions are within 1% at m = 25.
+standard deviations, moving ranges; Basu 1955). The distribution of W for each way of estimating sigma is in
+core/sigma.py (exact for the pooled standard deviation, a scaled chi with the exact mean and variance otherwise).
+Against simulation the moving-range model's 1% and 99% quantiles are within about 2% at m = 25 (under 0.5% at
+m = 100, 8% at m = 10); the R-bar and S-bar versions are within 1% at m = 25.
 
 The mean and spread of CARL are decided by rare base periods that overstate sigma: E[CARL^k] is finite only when the
 upper tail of W, P(W > w) ~ exp(-r w^2 / 2), falls faster than 1/p^k grows, i.e. r > k L^2. The rate r is computed
@@ -32,102 +25,16 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import optimize, special, stats
+from scipy import optimize, stats
 
-from sheettool.core.constants import c4, d2, d3
+from sheettool.core.sigma import SigmaEstimator, SigmaMethod, modelled_method, sigma_estimator
+from sheettool.core.timing import THREE_SIGMA_ARL
 
-SIGMA_METHODS: dict[str, str] = {
-    "range": "R-bar / d2",
-    "s-bar": "S-bar / c4",
-    "pooled": "pooled standard deviation / c4",
-    "moving-range": "MR-bar / d2 (individuals)",
-}
 MAX_SUBGROUPS_SEARCHED = 10_000
 
 _Z, _ZW = np.polynomial.hermite_e.hermegauss(64)
 _ZW = _ZW / math.sqrt(2.0 * math.pi)
 _T, _TW = np.polynomial.legendre.leggauss(16)
-
-
-@dataclass(frozen=True)
-class SigmaEstimator:
-    """W = sigma_hat / sigma modelled as scale * chi_nu / sqrt(nu); tail_rate r of the true W (see module notes)."""
-
-    method: str
-    nu: float
-    scale: float
-    tail_rate: float
-    exact: bool
-
-    def cdf(self, w: np.ndarray) -> np.ndarray:
-        """P(W <= w)."""
-        return stats.chi2.cdf(self.nu * (np.asarray(w) / self.scale) ** 2, self.nu)
-
-    def logpdf(self, w: np.ndarray) -> np.ndarray:
-        """log density of W at w > 0."""
-        w = np.asarray(w, dtype=float)
-        t = self.nu * (w / self.scale) ** 2
-        return stats.chi2.logpdf(t, self.nu) + np.log(2.0 * self.nu * w / self.scale**2)
-
-    def ppf(self, q: float) -> float:
-        """The q-quantile of W."""
-        return float(self.scale * math.sqrt(stats.chi2.ppf(q, self.nu) / self.nu))
-
-
-def _chi_shortfall(nu: float) -> float:
-    """1 - E[chi_nu / sqrt(nu)] = 1 - c4(nu + 1) for real nu, without cancellation for large nu.
-
-    Large nu: Gamma(x + 1/2) / Gamma(x) = sqrt(x) (1 - 1/(8x) + 1/(128x^2) + 5/(1024x^3) + ...) (Abramowitz and
-    Stegun 1964, 6.1.47) with x = nu / 2; below 1000 the log-gamma difference is exact to double precision.
-    """
-    if nu >= 1000.0:
-        return 1.0 / (4.0 * nu) - 1.0 / (32.0 * nu**2) - 5.0 / (128.0 * nu**3)
-    return -math.expm1(0.5 * math.log(2.0 / nu) + special.gammaln((nu + 1) / 2) - special.gammaln(nu / 2))
-
-
-def _chi_mean(nu: float) -> float:
-    """E[chi_nu / sqrt(nu)] = c4(nu + 1), for real nu."""
-    return 1.0 - _chi_shortfall(nu)
-
-
-def _moment_matched(method: str, variance: float, tail_rate: float) -> SigmaEstimator:
-    """Scaled chi with mean 1 and the given variance (Patnaik 1950): solve (1 - c^2) / c^2 = variance for nu."""
-    def gap(log_nu: float) -> float:
-        short = _chi_shortfall(math.exp(log_nu))
-        c = 1.0 - short
-        return math.log(short * (1.0 + c) / (c * c)) - math.log(variance)
-
-    nu = math.exp(optimize.brentq(gap, math.log(0.05), math.log(1e9), xtol=1e-12))
-    return SigmaEstimator(method, nu, 1.0 / _chi_mean(nu), tail_rate, exact=False)
-
-
-def sigma_estimator(m: int, n: int, sigma_method: str) -> SigmaEstimator:
-    """The distribution of sigma_hat / sigma for m subgroups of size n under the named estimator."""
-    if sigma_method not in SIGMA_METHODS:
-        raise ValueError(f"sigma_method must be one of {', '.join(SIGMA_METHODS)}, got {sigma_method!r}")
-    if not isinstance(m, int | np.integer) or m < 2:
-        raise ValueError(f"m (subgroups in the base period) must be a whole number of at least 2, got {m}")
-    if sigma_method == "moving-range":
-        if n != 1:
-            raise ValueError(f"moving-range sigma is for individuals: n must be 1, got {n}")
-        k = m - 1
-        a = 2.0 / math.sqrt(math.pi)  # E|A| for A ~ N(0, 2) (= d2(2))
-        rho = -0.5
-        # E|A||B| for A, B ~ N(0, 2), correlation rho: 2 * (2 / pi) (sqrt(1 - rho^2) + rho asin rho).
-        cov = 4.0 / math.pi * (math.sqrt(1 - rho * rho) + rho * math.asin(rho)) - a * a
-        var_mr = (k * d3(2) ** 2 + 2.0 * (k - 1) * cov) / (k * k)
-        # Upper tail: sum |A_i| >= s.A for the alternating sign vector s, Var(s.A) = 4k - 2.
-        return _moment_matched(sigma_method, var_mr / d2(2) ** 2, d2(2) ** 2 * k * k / (4.0 * k - 2.0))
-    if not isinstance(n, int | np.integer) or n < 2:
-        raise ValueError(f"n (subgroup size) must be a whole number of at least 2 for {sigma_method}, got {n}")
-    if sigma_method == "pooled":
-        nu = float(m * (n - 1))
-        return SigmaEstimator(sigma_method, nu, 1.0 / _chi_mean(nu), nu * _chi_mean(nu) ** 2, exact=True)
-    if sigma_method == "s-bar":
-        cc = c4(n)
-        return _moment_matched(sigma_method, (1.0 - cc * cc) / (cc * cc * m), m * (n - 1) * cc * cc)
-    # Range: the sum of m ranges is at least a sum of m pair differences, each N(0, 2).
-    return _moment_matched(sigma_method, (d3(n) / d2(n)) ** 2 / m, m * d2(n) ** 2 / 2.0)
 
 
 def _log_p(a: np.ndarray, t: np.ndarray) -> np.ndarray:
@@ -152,7 +59,7 @@ def _offsets(m: int) -> np.ndarray:
     return np.abs(_Z) / math.sqrt(m)
 
 
-def exceedance(level: float, m: int, n: int, sigma_method: str, L: float = 3.0) -> float:
+def exceedance(level: float, m: int, n: int, sigma_method: SigmaMethod | str, L: float = 3.0) -> float:
     """P(CARL >= level): the probability that a base period gives limits with at least `level` points per alarm."""
     est = sigma_estimator(m, n, sigma_method)
     return _exceedance(level, est, _offsets(m), L)
@@ -206,7 +113,7 @@ class CarlDistribution:
 
     m: int
     n: int
-    sigma_method: str
+    sigma_method: SigmaMethod
     L: float
     known_arl: float  # the in-control ARL if mean and sigma were known
     mean: float  # the unconditional in-control ARL (math.inf when unbounded)
@@ -217,7 +124,7 @@ class CarlDistribution:
     notes: list[str] = field(default_factory=list)
 
 
-def carl_distribution(m: int, n: int, sigma_method: str, L: float = 3.0) -> CarlDistribution:
+def carl_distribution(m: int, n: int, sigma_method: SigmaMethod | str, L: float = 3.0) -> CarlDistribution:
     """Mean, standard deviation and 10th and 50th percentiles of the in-control CARL for limits from m subgroups."""
     _check_L(L)
     est = sigma_estimator(m, n, sigma_method)
@@ -235,11 +142,11 @@ def carl_distribution(m: int, n: int, sigma_method: str, L: float = 3.0) -> Carl
                      "percentiles instead")
     which = "exact" if est.exact else "approximate (scaled chi with exact mean and variance, Patnaik 1950)"
     return CarlDistribution(
-        m=int(m), n=int(n), sigma_method=sigma_method, L=float(L),
+        m=int(m), n=int(n), sigma_method=est.method, L=float(L),
         known_arl=float(1.0 / (2.0 * stats.norm.sf(L))),
         mean=mean, sd=sd, p10=_quantile(0.1, est, a, L), p50=_quantile(0.5, est, a, L),
         method=(f"conditional in-control ARL of limits center +/- {L:g} sigma_hat/sqrt(n) with mean and sigma "
-                f"({SIGMA_METHODS[sigma_method]}) estimated from {_base_words(m, n)}; sigma_hat distribution "
+                f"({est.method.model_words}) estimated from {_base_words(m, n)}; sigma_hat distribution "
                 f"{which}; Gauss-Hermite and Gauss-Legendre integration (Jensen et al. 2006)"),
         notes=notes,
     )
@@ -270,7 +177,7 @@ class AdjustedFactor:
 
     m: int
     n: int
-    sigma_method: str
+    sigma_method: SigmaMethod
     target: float
     exceed: float
     tolerance: float
@@ -278,8 +185,8 @@ class AdjustedFactor:
     method: str
 
 
-def adjusted_factor(m: int, n: int, sigma_method: str, target: float = 370.4, exceed: float = 0.9,
-                    tolerance: float = 0.0) -> AdjustedFactor:
+def adjusted_factor(m: int, n: int, sigma_method: SigmaMethod | str, target: float = THREE_SIGMA_ARL,
+                    exceed: float = 0.9, tolerance: float = 0.0) -> AdjustedFactor:
     """Solve for the limit factor that makes the in-control ARL at least the target with probability `exceed`."""
     floor = _check_criterion(target, exceed, tolerance)
     est = sigma_estimator(m, n, sigma_method)
@@ -299,10 +206,10 @@ def adjusted_factor(m: int, n: int, sigma_method: str, target: float = 370.4, ex
         hi *= 4.0
     factor = optimize.brentq(gap, lo, hi, xtol=1e-10)
     return AdjustedFactor(
-        m=int(m), n=int(n), sigma_method=sigma_method, target=float(target), exceed=float(exceed),
+        m=int(m), n=int(n), sigma_method=est.method, target=float(target), exceed=float(exceed),
         tolerance=float(tolerance), factor=float(factor),
         method=(f"limit factor with P(in-control ARL >= {floor:.4g}) = {exceed:g} for limits from "
-                f"{_base_words(m, n)} ({SIGMA_METHODS[sigma_method]}); exceedance criterion of Goedhart, "
+                f"{_base_words(m, n)} ({est.method.model_words}); exceedance criterion of Goedhart, "
                 f"Schoonhoven and Does (2017), solved by root finding"),
     )
 
@@ -315,7 +222,7 @@ class SubgroupsNeeded:
     """
 
     n: int
-    sigma_method: str
+    sigma_method: SigmaMethod
     L: float
     target: float
     exceed: float
@@ -326,18 +233,19 @@ class SubgroupsNeeded:
     method: str
 
 
-def subgroups_needed(n: int, sigma_method: str, target: float = 370.4, exceed: float = 0.9, tolerance: float = 0.0,
-                     L: float = 3.0, max_m: int = MAX_SUBGROUPS_SEARCHED) -> SubgroupsNeeded:
+def subgroups_needed(n: int, sigma_method: SigmaMethod | str, target: float = THREE_SIGMA_ARL, exceed: float = 0.9,
+                     tolerance: float = 0.0, L: float = 3.0, max_m: int = MAX_SUBGROUPS_SEARCHED) -> SubgroupsNeeded:
     """Search m (doubling, then bisection) for the fewest subgroups meeting P(CARL >= floor) >= exceed at factor L.
 
     The exceedance probability rises with m (more data, less spread), which the bisection relies on.
     """
     floor = _check_criterion(target, exceed, tolerance)
     _check_L(L)
+    method = modelled_method(sigma_method)
     reachable = bool(1.0 / (2.0 * stats.norm.sf(L)) > floor)
 
     def meets(m: int) -> bool:
-        return exceedance(floor, m, n, sigma_method, L) >= exceed
+        return exceedance(floor, m, n, method, L) >= exceed
 
     found: int | None = None
     if reachable:
@@ -351,10 +259,10 @@ def subgroups_needed(n: int, sigma_method: str, target: float = 370.4, exceed: f
             found = hi
     unit = "points" if n == 1 else f"subgroups of {n}"
     return SubgroupsNeeded(
-        n=int(n), sigma_method=sigma_method, L=float(L), target=float(target), exceed=float(exceed),
+        n=int(n), sigma_method=method, L=float(L), target=float(target), exceed=float(exceed),
         tolerance=float(tolerance), subgroups=found, max_searched=int(max_m), reachable=reachable,
         method=(f"fewest {unit} with P(in-control ARL >= {floor:.4g}) >= {exceed:g} at limit factor {L:g} "
-                f"({SIGMA_METHODS[sigma_method]}); search up to {max_m:,}"),
+                f"({method.model_words}); search up to {max_m:,}"),
     )
 
 
@@ -382,8 +290,8 @@ def _share_in_words(share: float) -> str:
     return f"{share * 100:g}% of the sets of limits"
 
 
-def estimated_limits_report(m: int, n: int, sigma_method: str, target: float = 370.4, exceed: float = 0.9,
-                            tolerance: float = 0.0, L: float = 3.0) -> EstimatedLimitsReport:
+def estimated_limits_report(m: int, n: int, sigma_method: SigmaMethod | str, target: float = THREE_SIGMA_ARL,
+                            exceed: float = 0.9, tolerance: float = 0.0, L: float = 3.0) -> EstimatedLimitsReport:
     """The cost of limits estimated from m subgroups of n, with the remedies, for `evaluate` to show in words."""
     floor = _check_criterion(target, exceed, tolerance)
     dist = carl_distribution(m, n, sigma_method, L)

@@ -8,7 +8,7 @@ from __future__ import annotations
 import math
 from typing import Any
 
-from sheettool.evaluation.results import CharacteristicResult
+from sheettool.evaluation.results import CharacteristicResult, Fitted
 
 
 def _finite(value: float) -> float | None:
@@ -16,7 +16,7 @@ def _finite(value: float) -> float | None:
     return value if math.isfinite(value) else None
 
 
-def limits_entry(result: CharacteristicResult) -> dict[str, Any]:
+def limits_entry(result: Fitted | CharacteristicResult) -> dict[str, Any]:
     """What the block keeps of one characteristic: enough to apply the same limits next month.
 
     process_mean and sigma_within (variables, EWMA, CUSUM) and the chart parameters (p0, c0, u0,
@@ -30,7 +30,7 @@ def limits_entry(result: CharacteristicResult) -> dict[str, Any]:
         "subgroup_size": fit.subgroup_size,
         "process_mean": _finite(fit.process_mean),
         "sigma_within": _finite(fit.sigma_within),
-        "sigma_method": fit.sigma_method,
+        "sigma_method": fit.sigma_words,
         "parameters": {k: _finite(v) for k, v in fit.parameters.items()},
         "limits_source": fit.limits_source,
         "set_by": fit.origin or fit.limits_source,

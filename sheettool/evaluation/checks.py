@@ -8,7 +8,6 @@ from dataclasses import dataclass, field
 from functools import lru_cache
 
 import numpy as np
-from scipy import stats
 
 from sheettool.base.problems import Problem
 from sheettool.core.charts import ChartFit
@@ -19,11 +18,9 @@ from sheettool.core.estimated_limits import EstimatedLimitsReport, estimated_lim
 from sheettool.core.rules import Rule
 from sheettool.core.runlength.results import Performance
 from sheettool.core.runlength.scheme import ATTRIBUTES, scheme_of, scheme_run_lengths
+from sheettool.core.timing import in_control_target
 from sheettool.evaluation.options import EvaluationOptions
 
-# ChartFit.sigma_method words -> the estimator keys of core.estimated_limits.SIGMA_METHODS
-_SIGMA_KEYS = (("R-bar / d2", "range"), ("mean of R / d2(n)", "range"), ("S-bar / c4", "s-bar"),
-               ("pooled standard deviation", "pooled"), ("MR-bar / d2", "moving-range"))
 _SHEWHART_VARIABLES = ("xbar-r", "xbar-s", "i-mr")
 # the report depends on (m, n, estimator, target) only: one computation per base-period shape (results are read-only)
 _estimated_limits_report = lru_cache(maxsize=256)(estimated_limits_report)
@@ -40,11 +37,6 @@ class SchemeChecks:
     data_shape: DataShapeReport | None = None
     requirements: RequirementsCheck | None = None
     problems: list[Problem] = field(default_factory=list)
-
-
-def sigma_method_key(words: str) -> str | None:
-    """The SIGMA_METHODS key of a fit's sigma words ("R-bar / d2" -> "range"), None when the sigma was given."""
-    return next((key for lead, key in _SIGMA_KEYS if words.startswith(lead)), None)
 
 
 def scheme_checks(characteristic: Characteristic, fit: ChartFit, rules: list[Rule], performance: Performance,
@@ -72,7 +64,7 @@ def scheme_checks(characteristic: Characteristic, fit: ChartFit, rules: list[Rul
 def _estimated(fit: ChartFit, options: EvaluationOptions) -> EstimatedLimitsReport | None:
     """For X-bar and individuals limits whose mean and sigma both came from this base period."""
     given = set(options.standard) & {"mean", "sigma"}
-    key = sigma_method_key(fit.sigma_method)
+    key = fit.sigma_method.modelled
     if fit.chart not in _SHEWHART_VARIABLES or options.carried is not None or given or key is None:
         return None
     if not fit.base.any():
@@ -82,15 +74,12 @@ def _estimated(fit: ChartFit, options: EvaluationOptions) -> EstimatedLimitsRepo
 
 
 def _in_control_target(options: EvaluationOptions) -> float:
-    """The in-control ARL the limits should give: a required ARL, else the one implied by a false-alarms-per-month
-    requirement with the sampling interval and production hours, else that of 3-sigma limits with known mean and
-    sigma, 1 / (2 Phi(-3)) = 370.4 (common practice)."""
+    """The in-control ARL the limits should give, by the rule `design` uses too (`timing.in_control_target`): the
+    stricter of a required ARL and the one a false-alarms-per-month requirement implies at the sampling interval
+    and production hours, else that of 3-sigma limits with known mean and sigma, 370.4."""
     req = options.requirements
-    if "arl_in_control" in req:
-        return float(req["arl_in_control"])
-    if "false_alarms_per_month" in req and options.interval_hours and options.hours_per_month:
-        return options.hours_per_month / (options.interval_hours * float(req["false_alarms_per_month"]))
-    return float(1.0 / (2.0 * stats.norm.sf(3.0)))
+    return in_control_target(req.get("arl_in_control"), req.get("false_alarms_per_month"), options.interval_hours,
+                             options.hours_per_month)
 
 
 def _shape(characteristic: Characteristic, fit: ChartFit) -> DataShapeReport | None:

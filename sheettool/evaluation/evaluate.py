@@ -1,6 +1,8 @@
-"""Evaluate one characteristic: fit its chart, find signals, describe the scheme's run lengths.
+"""Evaluate one characteristic in two steps: fit its chart (limits, signals, capability), then assess the scheme
+(run lengths and the extra checks).
 
-Pure computation over the core: a Characteristic in, a CharacteristicResult out.
+Pure computation over the core: a Characteristic in, a CharacteristicResult out. `fit_characteristic` needs no
+run-length engine, so limits and signals can be computed and tested alone; `evaluate` is both steps.
 """
 
 from __future__ import annotations
@@ -19,7 +21,7 @@ from sheettool.core.runlength.scheme import performance_of
 from sheettool.evaluation.carried import carried_parameters
 from sheettool.evaluation.checks import scheme_checks
 from sheettool.evaluation.options import EvaluationOptions
-from sheettool.evaluation.results import CharacteristicResult, Signal
+from sheettool.evaluation.results import Assessment, CharacteristicResult, Fitted, Signal
 
 
 def chart_choice(characteristic: Characteristic) -> tuple[str, str]:
@@ -64,7 +66,15 @@ def _standard_values(kind: ChartKind, standard: dict[str, float]) -> tuple[dict[
 
 def evaluate(characteristic: Characteristic, sheet: str,
              options: EvaluationOptions | None = None) -> CharacteristicResult:
-    """Fit the chart with limits from their source, apply the rules, compute capability and performance."""
+    """Fit the chart and assess the scheme: `fit_characteristic`, then `assess`."""
+    options = options or EvaluationOptions()
+    fitted = fit_characteristic(characteristic, sheet, options)
+    return CharacteristicResult(fitted, assess(fitted, options))
+
+
+def fit_characteristic(characteristic: Characteristic, sheet: str,
+                       options: EvaluationOptions | None = None) -> Fitted:
+    """Choose the chart, fit it with limits from their source, apply the rules and compute capability."""
     options = options or EvaluationOptions()
     check_specs(options.lsl, options.usl)
     given: dict[str, float] = {}
@@ -85,7 +95,7 @@ def evaluate(characteristic: Characteristic, sheet: str,
         words = "standard values: " + ", ".join(f"{k} = {v:g}" for k, v in given.items()) if given else ""
         if unused:
             notes.append(f"standard value(s) {', '.join(unused)} do not apply to a {kind.title} chart; not used")
-    chosen = {p: getattr(options, a) for p, a in kind.settings.items() if getattr(options, a) is not None}
+    chosen = options.chart_parameters(kind.name)
     fit = fit_limits(kind, characteristic, options.limits_from, {**chosen, **given}, words, options.revise)
     fit.notes[:0] = [why, *notes]
     fit.origin = origin
@@ -112,21 +122,18 @@ def evaluate(characteristic: Characteristic, sheet: str,
     for note in getattr(capability, "notes", []):
         warn = note.startswith(("normality is doubtful", "the chart signals"))
         problems.append(Problem("warning" if warn else "note", f"capability: {note}", sheet=sheet))
-    performance = performance_of(fit, rules, options)
-    checks = scheme_checks(characteristic, fit, rules, performance, options, sheet)
-    return CharacteristicResult(
-        characteristic=characteristic,
-        sheet=sheet,
-        fit=fit,
-        rules=rules,
-        signals=signals,
-        performance=performance,
-        capability=capability,
-        problems=problems + checks.problems,
-        estimated_limits=checks.estimated_limits,
-        data_shape=checks.data_shape,
-        requirements_check=checks.requirements,
-    )
+    return Fitted(characteristic=characteristic, sheet=sheet, fit=fit, rules=rules, signals=signals,
+                  capability=capability, problems=tuple(problems))
+
+
+def assess(fitted: Fitted, options: EvaluationOptions | None = None) -> Assessment:
+    """How the fitted scheme behaves (run lengths at the shifts), and the extra checks on it."""
+    options = options or EvaluationOptions()
+    performance = performance_of(fitted.fit, fitted.rules, options)
+    checks = scheme_checks(fitted.characteristic, fitted.fit, fitted.rules, performance, options, fitted.sheet)
+    return Assessment(performance=performance, estimated_limits=checks.estimated_limits,
+                      data_shape=checks.data_shape, requirements_check=checks.requirements,
+                      problems=tuple(checks.problems))
 
 
 def capability_of(characteristic: Characteristic, fit: ChartFit, signals: bool,
@@ -142,9 +149,9 @@ def capability_of(characteristic: Characteristic, fit: ChartFit, signals: bool,
                               options.confidence)
     if options.lsl is None and options.usl is None:
         return None
-    sigma, words = within_sigma(data.values, use, CHART_KINDS[fit.chart].sigma_estimator)
+    sigma, method = within_sigma(data.values, use, CHART_KINDS[fit.chart].sigma_estimator)
     return process_capability(data.values[use], sigma, options.lsl, options.usl, options.target,
-                              options.confidence, stable=not signals, sigma_method=words)
+                              options.confidence, stable=not signals, sigma_method=method)
 
 
 def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Signal]:

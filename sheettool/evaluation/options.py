@@ -2,10 +2,11 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from sheettool.core.design import REQUIREMENT_KEYS
+from sheettool.core.parameters import PARAMETER_SETTINGS, CusumParameters, EwmaParameters
 from sheettool.settings import Setting
 from sheettool.settings.convert import merge
 
@@ -13,8 +14,8 @@ from sheettool.settings.convert import merge
 _DEFAULTS_SHOWN = {"chart": "chart", "rules": "rules", "lsl": "lsl", "usl": "usl", "target": "target",
                    "limits_from": "limits_from", "interval_hours": "interval_hours",
                    "hours_per_month": "hours_per_month", "confidence": "confidence", "revise": "revise"}
-_FIELDS = {"lambda": "ewma_lambda", "L": "ewma_L", "k": "cusum_k", "h": "cusum_h"}
 _STANDARDS = {"mean", "sigma", "p0", "c0"}
+_PARAMETER_FIELDS: dict[type, str] = {EwmaParameters: "ewma", CusumParameters: "cusum"}  # type -> options field
 STANDARD_SHIFTS: tuple[float, ...] = (0.0, 0.5, 1.0, 1.5, 2.0, 3.0)
 
 
@@ -31,15 +32,23 @@ class EvaluationOptions:
     limits_from: str = "all"
     standard: dict[str, float] = field(default_factory=dict)  # mean, sigma, p0, c0 given as standards
     carried: dict[str, object] | None = None  # a limits-block entry from an earlier output
-    ewma_lambda: float = 0.2
-    ewma_L: float = 3.0
-    cusum_k: float = 0.5
-    cusum_h: float = 5.0
+    ewma: EwmaParameters = field(default_factory=EwmaParameters)  # settings lambda and L
+    cusum: CusumParameters = field(default_factory=CusumParameters)  # settings k and h
     confidence: float = 0.95
     revise: bool = False
     interval_hours: float | None = None
     hours_per_month: float | None = None
     requirements: dict[str, float] = field(default_factory=dict)  # see core.design.REQUIREMENT_KEYS
+
+    def chart_parameters(self, chart: str) -> dict[str, float]:
+        """The chart's own parameters these options set, by name: lambda and L of the EWMA; k, h and the
+        reference of the CUSUM (the target, when one is set)."""
+        if chart == "ewma":
+            return self.ewma.as_mapping()
+        if chart == "cusum":
+            reference = {"reference": self.target} if self.target is not None else {}
+            return {**self.cusum.as_mapping(), **reference}
+        return {}
 
 
 def options_for(sheet_read: Any, workbook_settings: Any, cli_settings: dict[str, Setting]
@@ -55,13 +64,15 @@ def options_for(sheet_read: Any, workbook_settings: Any, cli_settings: dict[str,
     kwargs: dict[str, Any] = {}
     standard: dict[str, float] = {}
     requirements: dict[str, float] = {}
+    parameters: dict[type, dict[str, float]] = {}
     for name, setting in used.items():
         if name in _STANDARDS:
             standard[name] = setting.value  # type: ignore[assignment]
         elif name in REQUIREMENT_KEYS:
             requirements[name] = setting.value  # type: ignore[assignment]
-        elif name in _FIELDS:
-            kwargs[_FIELDS[name]] = setting.value
+        elif name in PARAMETER_SETTINGS:
+            kind, attr = PARAMETER_SETTINGS[name]
+            parameters.setdefault(kind, {})[attr] = setting.value  # type: ignore[assignment]
         elif hasattr(options, name):
             kwargs[name] = setting.value
     for field_name, name in _DEFAULTS_SHOWN.items():
@@ -74,6 +85,9 @@ def options_for(sheet_read: Any, workbook_settings: Any, cli_settings: dict[str,
         kwargs["standard"] = standard
     if requirements:
         kwargs["requirements"] = requirements
+    for kind, values in parameters.items():
+        name = _PARAMETER_FIELDS[kind]
+        kwargs[name] = replace(getattr(options, name), **values)
     for key, value in kwargs.items():
         setattr(options, key, value)
     return options, dict(sorted(used.items()))

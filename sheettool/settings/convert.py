@@ -7,16 +7,18 @@ ValueError naming where it was written ("'Bore'!B3: upper specification limit mu
 
 from __future__ import annotations
 
+import math
 import re
 
 from sheettool.core.charts import CHART_KINDS
 from sheettool.core.design import REQUIREMENT_KEYS, Requirements
+from sheettool.core.parameters import PARAMETER_SETTINGS
 from sheettool.core.rules import parse_rules
 from sheettool.settings.names import KNOWN_SETTINGS, MINUTE_FORMS, Setting, label_key
 from sheettool.settings.typed_text import number_text
 
 _NUMBERS = {"lsl", "usl", "target", "interval_hours", "hours_per_month", "mean", "sigma", "p0", "c0",
-            "lambda", "L", "k", "h", "confidence", *REQUIREMENT_KEYS}
+            "confidence", *PARAMETER_SETTINGS, *REQUIREMENT_KEYS}
 _IN_HOURS = {"interval_hours", "detect_hours"}  # a value may say "30 min"
 _TEXTS = {"unit", "part", "limits_from"}
 _WITH_UNIT = re.compile(r"^\s*([+-]?[\d.,]+(?:[eE][+-]?\d+)?)\s*([A-Za-zµμ°%/]{0,8})\s*$")
@@ -51,6 +53,8 @@ def convert(setting: Setting) -> Setting:
         return convert(Setting(MINUTE_FORMS[name], minutes / 60.0, origin))
     if name in _NUMBERS:
         number, unit = _number(setting)
+        if not math.isfinite(number):
+            raise ValueError(f"{origin}: {KNOWN_SETTINGS[name]} must be a finite number, not '{value}'")
         if name in _IN_HOURS and unit in _MINUTES:
             number /= 60.0
         elif name in _IN_HOURS and unit not in _HOURS:
@@ -66,6 +70,12 @@ def convert(setting: Setting) -> Setting:
                 Requirements(**{name: number})
             except ValueError as exc:
                 raise ValueError(f"{origin}: {KNOWN_SETTINGS[name]}: {exc}") from None
+        if name in PARAMETER_SETTINGS:
+            kind, attr = PARAMETER_SETTINGS[name]
+            try:  # the checks of the chart parameters, said with the cell
+                kind(**{attr: number})
+            except ValueError as exc:
+                raise ValueError(f"{origin}: {exc}") from None
         return Setting(name, number, origin)
     if name == "subgroup_size":
         number, _ = _number(setting)

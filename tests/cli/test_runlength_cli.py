@@ -49,7 +49,7 @@ def test_every_chart_and_the_table(run_cli, chart, extra, words):
     (["--rules", "7/3>2", "--n", "5"], "K must be"),
     (["--chart", "ewma", "--lam", "1.5"], "lambda"),
     (["--chart", "ewma", "--lam", "0"], "lambda"),
-    (["--chart", "cusum", "--h", "-1"], "h must"),
+    (["--chart", "cusum", "--h", "-1"], "option --h: CUSUM decision interval"),
     (["--n", "5", "--shift", "0,abc"], "'abc' is not a number"),
     (["--n", "5", "--shift", "0,,1"], "empty entry"),
     (["--n", "5", "--shift", "1e400"], "finite"),
@@ -89,3 +89,15 @@ def test_broken_pipe_is_quiet():
     done = subprocess.run(["bash", "-c", command], capture_output=True, text=True, cwd=Path(__file__).parents[2])
     assert done.stdout == '{\n  "schem' and "Traceback" not in done.stderr
     assert done.returncode == 0, done.stderr
+
+
+def test_options_are_read_as_the_settings_of_that_name(run_cli):
+    # --interval as evaluate reads it: "30 min" is half an hour (settings converter); --lam is --lambda
+    base = ["runlength", "--chart", "ewma", "--hours-per-month", "320", "--shift", "0,1", "--json"]
+    halves = run_cli(*base, "--interval", "30 min", "--lam", "0.1").json
+    plain = run_cli(*base, "--interval", "0.5", "--lambda", "0.1").json
+    assert halves == plain and halves["scheme"]["interval_hours"] == 0.5 and halves["scheme"]["lambda"] == 0.1
+    # ATS = ARL x interval (definition, common practice)
+    assert halves["results"][1]["ats_hours"] == pytest.approx(0.5 * halves["results"][1]["arl"])
+    bad = run_cli("runlength", "--chart", "cusum", "--k", "-1")
+    assert bad.code == 2 and "option --k" in bad.err and "k must be zero or more" in bad.err

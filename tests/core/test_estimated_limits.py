@@ -12,9 +12,9 @@ from sheettool.core.estimated_limits import (
     carl_distribution,
     estimated_limits_report,
     exceedance,
-    sigma_estimator,
     subgroups_needed,
 )
+from sheettool.core.sigma import sigma_estimator
 
 KNOWN_ARL = 1.0 / (2.0 * stats.norm.sf(3.0))  # 370.4 for 3-sigma limits (common practice)
 

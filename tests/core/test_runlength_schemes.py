@@ -16,6 +16,7 @@ from sheettool.core.runlength.scheme import (
     performance_of,
     scheme_run_lengths,
 )
+from sheettool.core.sigma import SigmaMethod
 from sheettool.evaluation.options import EvaluationOptions
 
 
@@ -94,7 +95,8 @@ def test_xbar_r_scheme_against_simulated_subgroups():
 
 def _fit(chart: str, **parameters: float) -> ChartFit:
     return ChartFit(chart=chart, statistics=[], subgroup_size=int(parameters.get("n", 1)), process_mean=0.0,
-                    sigma_within=1.0, sigma_method="", base=np.ones(1, dtype=bool), parameters=parameters)
+                    sigma_within=1.0, sigma_method=SigmaMethod.GIVEN, base=np.ones(1, dtype=bool),
+                    parameters=parameters)
 
 
 @pytest.mark.parametrize("chart, parameters", [

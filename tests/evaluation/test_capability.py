@@ -12,7 +12,8 @@ from sheettool.core.capability import (
     process_capability,
 )
 from sheettool.core.data import Characteristic, Measurements
-from sheettool.evaluation.evaluate import evaluate
+from sheettool.core.sigma import SigmaMethod
+from sheettool.evaluation.evaluate import evaluate, fit_characteristic
 from sheettool.evaluation.options import EvaluationOptions
 
 
@@ -89,22 +90,22 @@ def test_anderson_darling_against_scipy():
 def test_normality_warning_and_stability_through_evaluate():
     rng = np.random.default_rng(21)
     skewed = rng.exponential(1.0, (30, 5))
-    result = evaluate(Characteristic("x", Measurements(skewed)), "s", EvaluationOptions(usl=12.0))
+    result = fit_characteristic(Characteristic("x", Measurements(skewed)), "s", EvaluationOptions(usl=12.0))
     cap = result.capability
     assert cap.normality_doubtful and cap.normality_p < 0.05
     assert any(p.severity == "warning" and "normality is doubtful" in p.message for p in result.problems)
     shifted = rng.normal(0, 1, (30, 5))
     shifted[20:] += 3.0
-    result = evaluate(Characteristic("x", Measurements(shifted)), "s", EvaluationOptions(lsl=-6, usl=9))
+    result = fit_characteristic(Characteristic("x", Measurements(shifted)), "s", EvaluationOptions(lsl=-6, usl=9))
     assert result.signals and result.capability.stable is False
     assert any("do not reflect a stable process" in n for n in result.capability.notes)
-    assert result.capability.sigma_method == "R-bar / d2"
+    assert result.capability.sigma_method is SigmaMethod.RANGE and result.capability.sigma_method.words == "R-bar / d2"
 
 
 def test_reversed_specs_are_refused():
     ch = Characteristic("x", Measurements(np.random.default_rng(1).normal(size=(10, 5))))
     with pytest.raises(ValueError, match=r"lsl = 5\) must be below the upper one \(usl = 4\)"):
-        evaluate(ch, "s", EvaluationOptions(lsl=5.0, usl=4.0))
+        fit_characteristic(ch, "s", EvaluationOptions(lsl=5.0, usl=4.0))
 
 
 def test_attribute_intervals_against_scipy():

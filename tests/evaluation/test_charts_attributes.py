@@ -4,13 +4,13 @@ import numpy as np
 import pytest
 
 from sheettool.core.data import Characteristic, Counts
-from sheettool.evaluation.evaluate import chart_choice, evaluate
+from sheettool.evaluation.evaluate import chart_choice, fit_characteristic
 from sheettool.evaluation.options import EvaluationOptions
 
 
 def _fit(counts, inspected, kind="defectives", chart=None):
     ch = Characteristic("c", Counts(np.array(counts, float), np.array(inspected, float), kind))
-    return evaluate(ch, "s", EvaluationOptions(chart=chart))
+    return fit_characteristic(ch, "s", EvaluationOptions(chart=chart))
 
 
 def test_p_chart_hand_worked():

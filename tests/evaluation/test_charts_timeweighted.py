@@ -4,20 +4,21 @@ import numpy as np
 import pytest
 
 from sheettool.core.data import Characteristic, Measurements
-from sheettool.evaluation.evaluate import evaluate
+from sheettool.core.parameters import CusumParameters, EwmaParameters
+from sheettool.evaluation.evaluate import fit_characteristic
 from sheettool.evaluation.options import EvaluationOptions
 
 
 def _run(values, **options):
     ch = Characteristic("x", Measurements(np.asarray(values, float)))
-    return evaluate(ch, "s", EvaluationOptions(**options))
+    return fit_characteristic(ch, "s", EvaluationOptions(**options))
 
 
 def test_ewma_time_varying_limits_match_the_closed_form():
     rng = np.random.default_rng(12)
     values = rng.normal(10.0, 1.0, (30, 4))
     lam, width, mu, sigma = 0.2, 2.962, 10.0, 1.0
-    result = _run(values, chart="ewma", ewma_lambda=lam, ewma_L=width, standard={"mean": mu, "sigma": sigma})
+    result = _run(values, chart="ewma", ewma=EwmaParameters(lam, width), standard={"mean": mu, "sigma": sigma})
     (stat,) = result.fit.statistics
     i = np.arange(1, 31)
     # mu +/- L sigma/sqrt(n) sqrt(lambda / (2 - lambda) (1 - (1 - lambda)^(2i))) (Lucas and Saccucci 1990;
@@ -74,6 +75,6 @@ def test_cusum_reference_around_the_target_and_subgroup_means():
 
 def test_time_weighted_settings_are_checked():
     with pytest.raises(ValueError, match="lambda"):
-        _run(np.ones((5, 1)) + np.arange(5)[:, None], chart="ewma", ewma_lambda=1.5)
+        _run(np.ones((5, 1)) + np.arange(5)[:, None], chart="ewma", ewma=EwmaParameters(lam=1.5))
     with pytest.raises(ValueError, match="h > 0"):
-        _run(np.ones((5, 1)) + np.arange(5)[:, None], chart="cusum", cusum_h=0.0)
+        _run(np.ones((5, 1)) + np.arange(5)[:, None], chart="cusum", cusum=CusumParameters(h=0.0))

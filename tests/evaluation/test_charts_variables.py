@@ -7,7 +7,8 @@ import pytest
 from scipy import special
 
 from sheettool.core.data import Characteristic, Measurements
-from sheettool.evaluation.evaluate import chart_choice, evaluate
+from sheettool.core.sigma import SigmaMethod
+from sheettool.evaluation.evaluate import chart_choice, fit_characteristic
 from sheettool.evaluation.options import EvaluationOptions
 
 # Factors printed in ASTM E2587 (values recalled from memory, shared/reference/published-values.md);
@@ -22,7 +23,7 @@ def _stat(result, name):
 def test_xbar_r_limits_match_the_a2_d4_formula():
     rng = np.random.default_rng(4)
     values = rng.normal(50.0, 2.0, (25, 5))
-    result = evaluate(Characteristic("bore", Measurements(values)), "s")
+    result = fit_characteristic(Characteristic("bore", Measurements(values)), "s")
     xbarbar, rbar = values.mean(), np.ptp(values, axis=1).mean()
     mean, rng_stat = _stat(result, "mean"), _stat(result, "range")
     # X-bar-bar +/- A2 R-bar; R chart 0 to D4 R-bar (Montgomery 2009, eq. 6.4-6.5; ASTM E2587 factors)
@@ -31,13 +32,14 @@ def test_xbar_r_limits_match_the_a2_d4_formula():
     assert mean.lcl[0] == pytest.approx(xbarbar - A2_5 * rbar, abs=1e-3 * rbar)
     assert rng_stat.ucl[0] == pytest.approx(D4_5 * rbar, abs=1e-3 * rbar)
     assert rng_stat.lcl[0] == 0.0 and rng_stat.lcl_floored
-    assert result.fit.sigma_method == "R-bar / d2" and result.fit.parameters == {"n": 5.0}
+    assert result.fit.sigma_method is SigmaMethod.RANGE and result.fit.sigma_words == "R-bar / d2"
+    assert result.fit.parameters == {"n": 5.0}
 
 
 def test_xbar_s_constant_size_matches_a3_b3_b4():
     rng = np.random.default_rng(5)
     values = rng.normal(0.0, 1.0, (20, 10))
-    result = evaluate(Characteristic("x", Measurements(values)), "s")
+    result = fit_characteristic(Characteristic("x", Measurements(values)), "s")
     sbar = values.std(axis=1, ddof=1).mean()
     mean, sd = _stat(result, "mean"), _stat(result, "sd")
     # X-bar-bar +/- A3 S-bar, S chart B3 S-bar to B4 S-bar (Montgomery 2009, eq. 6.27-6.29; ASTM E2587)
@@ -58,7 +60,7 @@ def test_xbar_s_varying_sizes_limits_per_point():
     values = np.full((len(sizes), 12), np.nan)
     for i, n in enumerate(sizes):
         values[i, :n] = rng.normal(5.0, 0.5, n)
-    result = evaluate(Characteristic("x", Measurements(values)), "s", EvaluationOptions(chart="xbar-s"))
+    result = fit_characteristic(Characteristic("x", Measurements(values)), "s", EvaluationOptions(chart="xbar-s"))
     n = np.array(sizes)
     s = np.nanstd(values, axis=1, ddof=1)
     # Size-weighted grand mean (Montgomery 2009, eq. 6.30); pooled s with the c4(1 + sum(n - 1))
@@ -69,7 +71,7 @@ def test_xbar_s_varying_sizes_limits_per_point():
     sigma = math.sqrt(np.sum((n - 1) * s**2) / dof) / _c4(dof + 1)
     mean, sd = _stat(result, "mean"), _stat(result, "sd")
     assert result.fit.sigma_within == pytest.approx(sigma, rel=1e-10)
-    assert "pooled" in result.fit.sigma_method
+    assert result.fit.sigma_method is SigmaMethod.POOLED and "pooled" in result.fit.sigma_words
     assert mean.ucl == pytest.approx(xbarbar + 3 * sigma / np.sqrt(n), rel=1e-10)
     assert mean.varies
     c4n = np.array([_c4(k) for k in sizes])
@@ -80,7 +82,7 @@ def test_xbar_s_varying_sizes_limits_per_point():
 
 def test_individuals_and_moving_range_hand_worked():
     x = np.array([10.0, 12.0, 11.0, 13.0, 12.0, 10.0, 11.0, 12.0])
-    result = evaluate(Characteristic("x", Measurements(x[:, None])), "s")
+    result = fit_characteristic(Characteristic("x", Measurements(x[:, None])), "s")
     mrbar = np.mean(np.abs(np.diff(x)))  # (2+1+2+1+2+1+1)/7 = 10/7
     assert mrbar == pytest.approx(10 / 7)
     ind, mr = _stat(result, "individual"), _stat(result, "moving_range")
@@ -98,7 +100,7 @@ def test_short_subgroup_gets_its_own_limits():
     values = rng.normal(0, 1, (20, 5))
     values[7, 3:] = np.nan
     values[9, 1:] = np.nan
-    result = evaluate(Characteristic("x", Measurements(values)), "s")
+    result = fit_characteristic(Characteristic("x", Measurements(values)), "s")
     mean, rng_stat = _stat(result, "mean"), _stat(result, "range")
     sigma = result.fit.sigma_within
     # mean +/- 3 sigma / sqrt(n_i) (Montgomery 2009, sec. 6.3.2): wider for the subgroups of 3 and 1
@@ -115,7 +117,7 @@ def test_chart_choice_by_subgroup_size(size, chart):
     # n = 1: individuals; 2..9: X-bar and R; 10 or more: X-bar and S (common practice; Montgomery 2009, sec. 6.3)
     ch = Characteristic("x", Measurements(np.random.default_rng(1).normal(size=(12, size))))
     assert chart_choice(ch)[0] == chart
-    result = evaluate(ch, "s")
+    result = fit_characteristic(ch, "s")
     assert result.fit.chart == chart
     reason = result.fit.notes[0]
     assert ("one reading" if size == 1 else f"subgroups of {size} readings") in reason
@@ -125,10 +127,10 @@ def test_chart_choice_by_subgroup_size(size, chart):
 def test_individuals_chart_refuses_subgroups():
     ch = Characteristic("x", Measurements(np.ones((5, 3))))
     with pytest.raises(ValueError, match="one reading per row"):
-        evaluate(ch, "s", EvaluationOptions(chart="i-mr"))
+        fit_characteristic(ch, "s", EvaluationOptions(chart="i-mr"))
 
 
 def test_unknown_chart_name():
     ch = Characteristic("x", Measurements(np.ones((5, 3))))
     with pytest.raises(ValueError, match=r"chart 'zigzag' is not known; use one of: xbar-r"):
-        evaluate(ch, "s", EvaluationOptions(chart="zigzag"))
+        fit_characteristic(ch, "s", EvaluationOptions(chart="zigzag"))

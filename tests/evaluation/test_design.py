@@ -19,7 +19,9 @@ from sheettool.core.design import (
     design,
     ewma_limit_width,
 )
+from sheettool.core.parameters import EwmaParameters
 from sheettool.demo.scenario import BUNDLED
+from sheettool.evaluation.checks import ASSURANCE_TOLERANCE
 from sheettool.evaluation.evaluate import evaluate
 from sheettool.evaluation.options import EvaluationOptions
 from sheettool.workbook.reader import read_workbook
@@ -229,9 +231,39 @@ def test_requirements_on_a_time_weighted_chart_use_its_own_run_length():
     # memory), so 10.5 h at one reading an hour meets 12 h and misses 8 h.
     values = np.random.default_rng(9).normal(10.0, 1.0, (40, 1))
     for hours, met in ((12.0, True), (8.0, False)):
-        options = EvaluationOptions(chart="ewma", ewma_lambda=0.2, ewma_L=2.962, interval_hours=1.0,
+        options = EvaluationOptions(chart="ewma", ewma=EwmaParameters(0.2, 2.962), interval_hours=1.0,
                                     requirements={"shift": 1.0, "detect_hours": hours, "arl_in_control": 500.0})
         check = evaluate(_characteristic(values), "s", options).requirements_check
         items = {i.name: i for i in check.items}
         assert items["detect_hours"].achieved == pytest.approx(10.5, rel=0.015)
         assert items["detect_hours"].met is met and items["arl_in_control"].met is True
+
+
+# Both in-control targets set: `evaluate` (the target of its estimated-limits check) and `design` (the ARL its EWMA is
+# calibrated to) take the stricter of the two. At most F false alarms a month of H production hours, sampled every
+# t hours, needs an in-control ARL of H / (t F) (definition, common practice), here computed in the test.
+@pytest.mark.parametrize(("arl", "per_month", "expected"), [(200.0, 1.0, 480.0 / (2.0 * 1.0)),
+                                                             (800.0, 1.0, 800.0)])
+def test_both_in_control_targets_give_the_stricter_in_evaluate_and_design(arl, per_month, expected):
+    hours, interval = 480.0, 2.0
+    values = np.random.default_rng(10).normal(10.0, 1.0, (30, 5))
+    options = EvaluationOptions(requirements={"arl_in_control": arl, "false_alarms_per_month": per_month},
+                                interval_hours=interval, hours_per_month=hours)
+    report = evaluate(_characteristic(values), "s", options).estimated_limits
+    assert report.floor / (1.0 - ASSURANCE_TOLERANCE) == pytest.approx(expected, rel=1e-12)
+    req = Requirements(arl_in_control=arl, false_alarms_per_month=per_month, hours_per_month=hours)
+    assert req.target_arl(interval) == pytest.approx(expected, rel=1e-12)
+    grid = SearchGrid(presets=(), lambdas=(0.2,), ks=())
+    (ewma,) = design(req, Sampling(sizes=(5,), intervals=(interval,)), grid).candidates
+    assert ewma.arl_in_control == pytest.approx(expected, rel=1e-4)
+
+
+def test_cli_reads_hours_as_the_settings_do(run_cli):
+    # "90 min" is 1.5 h, "30 min" is 0.5 h, as in a workbook's settings (settings converter)
+    base = ["design", "--sizes", "1", "--presets", "limits", "--lambdas", "0.2", "--ks", "0.5", "--json"]
+    words = run_cli(*base, "--intervals", "30 min,1", "--detect-hours", "90 min").json
+    hours = run_cli(*base, "--intervals", "0.5,1", "--detect-hours", "1.5").json
+    assert words == hours and words["sampling"]["intervals"] == [0.5, 1.0]
+    assert words["requirements"]["detect_hours"] == 1.5
+    bad = run_cli("design", "--detect-hours", "2 days")
+    assert bad.code == 2 and "option --detect-hours" in bad.err and "hours (h) or minutes (min)" in bad.err

@@ -11,8 +11,9 @@ from hypothesis import strategies as st
 from sheettool.app.api import evaluate_file
 from sheettool.base.errors import InputError
 from sheettool.core.data import Characteristic, Counts, Measurements
+from sheettool.core.parameters import EwmaParameters
 from sheettool.demo.scenario import write_demo
-from sheettool.evaluation.evaluate import evaluate
+from sheettool.evaluation.evaluate import fit_characteristic
 from sheettool.evaluation.options import EvaluationOptions
 from sheettool.settings import Setting
 from sheettool.settings.convert import convert
@@ -32,8 +33,8 @@ def test_first_n_sets_the_limits_and_later_points_use_them():
     rng = np.random.default_rng(2)
     values = rng.normal(0, 1, (30, 5))
     values[25:] += 5.0
-    result = evaluate(_char(values), "s", EvaluationOptions(limits_from="first 25"))
-    alone = evaluate(_char(values[:25]), "s")
+    result = fit_characteristic(_char(values), "s", EvaluationOptions(limits_from="first 25"))
+    alone = fit_characteristic(_char(values[:25]), "s")
     mean = result.fit.statistics[0]
     # Phase I limits from subgroups 1-25 applied unchanged to 26-30 (common practice; Montgomery 2009, sec. 5.4)
     assert mean.ucl == pytest.approx(np.full(30, alone.fit.statistics[0].ucl[0]), rel=1e-12)
@@ -48,12 +49,12 @@ def test_date_range_and_excluded_subgroups():
     excluded = np.zeros(20, bool)
     excluded[3] = True
     ch = _char(values, dates=dates, excluded=excluded)
-    result = evaluate(ch, "s", EvaluationOptions(limits_from="2026-11-01..2026-11-10"))
+    result = fit_characteristic(ch, "s", EvaluationOptions(limits_from="2026-11-01..2026-11-10"))
     assert np.flatnonzero(result.fit.base).tolist() == [0, 1, 2, 4, 5, 6, 7, 8, 9]
     assert "dated 2026-11-01 to 2026-11-10, less 1 excluded" in result.fit.limits_source
     assert result.fit.process_mean == pytest.approx(values[result.fit.base].mean(), rel=1e-12)
     days = _char(values, dates=[d.date() for d in dates])  # plain dates work as well
-    same = evaluate(days, "s", EvaluationOptions(limits_from="2026-11-01..2026-11-10"))
+    same = fit_characteristic(days, "s", EvaluationOptions(limits_from="2026-11-01..2026-11-10"))
     assert same.fit.base[:10].all() and not same.fit.base[10:].any()
 
 
@@ -64,18 +65,18 @@ def test_date_range_and_excluded_subgroups():
 ])
 def test_bad_base_periods(spec, words):
     with pytest.raises(ValueError, match=words):
-        evaluate(_char(np.ones((30, 3)) + np.arange(3)), "s", EvaluationOptions(limits_from=spec))
+        fit_characteristic(_char(np.ones((30, 3)) + np.arange(3)), "s", EvaluationOptions(limits_from=spec))
 
 
 def test_standard_values_for_variables_and_counts():
     values = np.random.default_rng(4).normal(0, 1, (10, 4))
-    result = evaluate(_char(values), "s", EvaluationOptions(standard={"mean": 100.0, "sigma": 2.0}))
+    result = fit_characteristic(_char(values), "s", EvaluationOptions(standard={"mean": 100.0, "sigma": 2.0}))
     mean = result.fit.statistics[0]
     # mu +/- 3 sigma / sqrt(n) with given standards (Montgomery 2009, sec. 6.2.1, "standard given")
     assert (mean.center[0], mean.lcl[0], mean.ucl[0]) == pytest.approx((100.0, 97.0, 103.0))
     assert not result.fit.base.any() and result.fit.limits_source == "standard values: mean = 100, sigma = 2"
     counts = Characteristic("c", Counts([3, 4, 2], [100, 100, 100]))
-    p = evaluate(counts, "s", EvaluationOptions(chart="p", standard={"p0": 0.05}))
+    p = fit_characteristic(counts, "s", EvaluationOptions(chart="p", standard={"p0": 0.05}))
     assert p.fit.statistics[0].ucl[0] == pytest.approx(0.05 + 3 * np.sqrt(0.05 * 0.95 / 100))
 
 
@@ -84,12 +85,12 @@ def test_revision_drops_signalling_base_points_until_stable():
     values = rng.normal(0, 1, (25, 5))
     values[4] += 6.0
     values[17] -= 6.0
-    result = evaluate(_char(values), "s", EvaluationOptions(revise=True))
+    result = fit_characteristic(_char(values), "s", EvaluationOptions(revise=True))
     assert {5, 18} <= set(result.fit.removed)
     kept = np.ones(25, bool)
     kept[[r - 1 for r in result.fit.removed]] = False
     assert result.fit.base.tolist() == kept.tolist()
-    again = evaluate(_char(values[kept]), "s")
+    again = fit_characteristic(_char(values[kept]), "s")
     assert result.fit.process_mean == pytest.approx(again.fit.process_mean, rel=1e-12)
     assert any("revision removed point(s) 5" in n for n in result.fit.notes)
 
@@ -131,7 +132,7 @@ def test_carried_limits_round_trip(tmp_path):
     # a third month carried from the second keeps the first origin, not a growing chain
     january = read_limits_block(tmp_path / "december-evaluated.xlsx")["Bore diameter"]
     assert january["set_by"] == first.characteristics[0].fit.limits_source
-    third = evaluate(result.characteristic, "Bore diameter", EvaluationOptions(carried=january))
+    third = fit_characteristic(result.characteristic, "Bore diameter", EvaluationOptions(carried=january))
     assert third.fit.limits_source == (f"carried from december-evaluated.xlsx (first set by "
                                        f"{first.characteristics[0].fit.limits_source})")
 
@@ -140,14 +141,15 @@ def test_carried_limits_for_ewma_and_p_keep_their_parameters():
     rng = np.random.default_rng(6)
     ch = _char(rng.normal(5, 1, (20, 3)))
     from sheettool.evaluation.carried import limits_entry
-    first = evaluate(ch, "s", EvaluationOptions(chart="ewma", ewma_lambda=0.1, ewma_L=2.7))
+    first = fit_characteristic(ch, "s", EvaluationOptions(chart="ewma", ewma=EwmaParameters(0.1, 2.7)))
     entry = limits_entry(first)
-    later = evaluate(_char(rng.normal(5, 1, (20, 3))), "s", EvaluationOptions(carried=entry))
+    later = fit_characteristic(_char(rng.normal(5, 1, (20, 3))), "s", EvaluationOptions(carried=entry))
     assert later.fit.chart == "ewma" and later.fit.parameters["lambda"] == 0.1 and later.fit.parameters["L"] == 2.7
     assert later.fit.process_mean == first.fit.process_mean and later.fit.sigma_within == first.fit.sigma_within
     counts = Characteristic("c", Counts([3, 5, 2, 6], [40, 60, 20, 80]))
-    p_entry = limits_entry(evaluate(counts, "s"))
-    again = evaluate(Characteristic("c", Counts([1, 9], [50, 70])), "s", EvaluationOptions(carried=p_entry))
+    p_entry = limits_entry(fit_characteristic(counts, "s"))
+    again = fit_characteristic(Characteristic("c", Counts([1, 9], [50, 70])), "s",
+                               EvaluationOptions(carried=p_entry))
     assert again.fit.parameters["p0"] == pytest.approx(16 / 200)
 
 
@@ -198,8 +200,8 @@ def test_limits_file_without_block_or_unknown_version(run_cli, tmp_path):
 def test_limits_shift_and_scale_with_the_data(shift, scale, chart, seed):
     width = 1 if chart == "i-mr" else 4
     values = np.random.default_rng(seed).normal(10.0, 1.0, (20, width))
-    plain = evaluate(_char(values), "s", EvaluationOptions(chart=chart))
-    moved = evaluate(_char(scale * values + shift), "s", EvaluationOptions(chart=chart))
+    plain = fit_characteristic(_char(values), "s", EvaluationOptions(chart=chart))
+    moved = fit_characteristic(_char(scale * values + shift), "s", EvaluationOptions(chart=chart))
     for a, b in zip(plain.fit.statistics, moved.fit.statistics, strict=True):
         location = a.name in ("mean", "individual", "ewma")
         offset = shift if location else 0.0

@@ -17,7 +17,7 @@ from sheettool.core.design import Requirements, check_requirements
 from sheettool.core.estimated_limits import estimated_limits_report
 from sheettool.workbook.writer import WriterOptions, write_evaluated_workbook
 from sheettool.workbook.writer.trust_block import TITLE
-from tests.writer_cases import attribute_case, report_for, varying_sizes_case
+from tests.writer_cases import attribute_case, report_for, varying_sizes_case, with_checks
 
 TOL = 1e-12  # the cells hold the result's floats as written
 
@@ -36,10 +36,11 @@ def _ar1(n: int, phi: float, seed: int) -> np.ndarray:
 def checked(tmp_path_factory: pytest.TempPathFactory):
     tmp = tmp_path_factory.mktemp("checks")
     result, read = varying_sizes_case()
-    result.estimated_limits = estimated_limits_report(20, 5, "range", target=200.0)  # a target 3-sigma can reach
-    result.data_shape = data_shape_report(_ar1(200, 0.7, seed=21), 1)
     req = Requirements(arl_in_control=500.0, false_alarms_per_month=1.0, detect_arl=5.0)
-    result.requirements_check = check_requirements(req, 370.4, 8.0, None, 1.0)
+    reachable = estimated_limits_report(20, 5, "range", target=200.0)  # a target 3-sigma can reach
+    result = with_checks(result, estimated_limits=reachable,
+                         data_shape=data_shape_report(_ar1(200, 0.7, seed=21), 1),
+                         requirements_check=check_requirements(req, 370.4, 8.0, None, 1.0))
     plain, plain_read = attribute_case()
     report = report_for(tmp, [(result, read), (plain, plain_read)])
     out = tmp / "checked.xlsx"
@@ -114,7 +115,7 @@ def test_infinite_and_missing_values_are_words(tmp_path):
     rep = estimated_limits_report(20, 5, "range")
     rep = dataclasses.replace(rep, distribution=dataclasses.replace(rep.distribution, mean=math.inf),
                               needed=dataclasses.replace(rep.needed, subgroups=None, reachable=True))
-    result.estimated_limits = rep
+    result = with_checks(result, estimated_limits=rep)
     report = report_for(tmp_path, [(result, read)])
     out = tmp_path / "words.xlsx"
     write_evaluated_workbook(report, out, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))
@@ -128,7 +129,8 @@ def test_unreachable_target_in_words(tmp_path):
     result, read = varying_sizes_case()
     # 3-sigma limits with known mean and sigma give 370.398 (scipy.stats; common practice): a target of 400 can never
     # be reached by more subgroups, only by a wider factor
-    result.estimated_limits = rep = estimated_limits_report(20, 5, "range", target=400.0)
+    rep = estimated_limits_report(20, 5, "range", target=400.0)
+    result = with_checks(result, estimated_limits=rep)
     assert not rep.needed.reachable and rep.needed.subgroups is None
     report = report_for(tmp_path, [(result, read)])
     out = tmp_path / "unreachable.xlsx"
@@ -176,7 +178,8 @@ def test_long_text_gets_rows_tall_enough(checked, tmp_path):
         if isinstance(row[4], str):
             assert _lines_shown(ws, i) >= math.ceil(len(row[4]) / ws.column_dimensions["E"].width)
     case, read = varying_sizes_case()
-    case.performance = dataclasses.replace(case.performance, method="Markov chain of the rule windows, " * 12)
+    case = dataclasses.replace(case, assessment=dataclasses.replace(case.assessment, performance=dataclasses.replace(
+        case.performance, method="Markov chain of the rule windows, " * 12)))
     report = report_for(tmp_path, [(case, read)])
     long = tmp_path / "long.xlsx"
     write_evaluated_workbook(report, long, WriterOptions(timestamp=dt.datetime(2026, 12, 1, 8)))

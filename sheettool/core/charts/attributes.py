@@ -11,6 +11,7 @@ import numpy as np
 
 from sheettool.core.charts.base import ChartFit, ChartKind, PlottedStatistic, shewhart_statistic
 from sheettool.core.data import Characteristic, Counts
+from sheettool.core.sigma import SigmaMethod
 
 
 def check_counts(characteristic: Characteristic, kind: str, title: str) -> Counts:
@@ -48,21 +49,21 @@ class _Attribute(ChartKind):
     data = Counts
     counts_kind = "defectives"
     rate_name = "p0"
+    rate_method = SigmaMethod.PROPORTION  # how the rate is estimated from the base period
 
     def check(self, characteristic: Characteristic) -> Counts:
         return check_counts(characteristic, self.counts_kind, self.title)
 
-    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], str]:
+    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], SigmaMethod]:
         data = self.check(characteristic)
         use = _present(data, base)
         if not use.any():
             raise ValueError("the base period holds no subgroup with a count")
         # pooled over the base: total count / total units (Montgomery 2009, eq. 7.8 and 7.17)
         rate = float(np.sum(data.counts[use]) / np.sum(data.inspected[use]))
-        words = f"{self.rate_name} = total {self.counts_kind} / total inspected in the base period"
-        return {self.rate_name: rate}, words
+        return {self.rate_name: rate}, self.rate_method
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: SigmaMethod) -> ChartFit:
         """The one plotted statistic, center +/- 3 standard errors per point with a floor at zero."""
         data = self.check(characteristic)
         rate = self._checked_rate(params[self.rate_name])
@@ -83,8 +84,8 @@ class _Attribute(ChartKind):
         """Name, label, values, center and standard error of the plotted statistic."""
         raise NotImplementedError
 
-    def _fit(self, characteristic: Characteristic, stat: PlottedStatistic, rate: float, spread: float, method: str,
-             parameters: dict[str, float]) -> ChartFit:
+    def _fit(self, characteristic: Characteristic, stat: PlottedStatistic, rate: float, spread: float,
+             method: SigmaMethod, parameters: dict[str, float]) -> ChartFit:
         data = characteristic.data
         seen = data.inspected[~np.isnan(data.counts)]
         n = float(np.mean(seen)) if seen.size else float("nan")
@@ -139,18 +140,18 @@ class CChart(_Poisson):
     needs = ("c0",)
     rate_name = "c0"
 
-    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], str]:
+    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], SigmaMethod]:
         """c0 as the mean count per subgroup over the base period (Montgomery 2009, ch. 7)."""
         data = self.check(characteristic)
         use = _present(data, base)
         if not use.any():
             raise ValueError("the base period holds no subgroup with a count")
-        return {"c0": float(np.mean(data.counts[use]))}, "c0 = mean defects per subgroup in the base period"
+        return {"c0": float(np.mean(data.counts[use]))}, SigmaMethod.DEFECTS_PER_SUBGROUP
 
     def _plotted(self, data: Counts, rate: float) -> tuple[str, str, np.ndarray, float, float]:
         return "defects", "Defects", data.counts, rate, float(np.sqrt(rate))
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: SigmaMethod) -> ChartFit:
         """As for every attribute chart, with a note when the amount inspected varies."""
         fit = super().build(characteristic, params, sigma_method)
         if any(n.startswith("units inspected vary") for n in fit.notes):
@@ -165,6 +166,7 @@ class UChart(_Poisson):
     title = "u (defects per unit)"
     needs = ("u0",)
     rate_name = "u0"
+    rate_method = SigmaMethod.DEFECTS_PER_UNIT
 
     def _plotted(self, data: Counts, rate: float) -> tuple[str, str, np.ndarray, float, np.ndarray]:
         return ("defects_per_unit", "Defects per unit", data.counts / data.inspected, rate,

@@ -9,11 +9,11 @@ three sources of limits (base period, standard values, an earlier evaluation) sh
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import ClassVar
 
 import numpy as np
 
 from sheettool.core.data import Characteristic, Counts, Measurements
+from sheettool.core.sigma import SigmaMethod
 
 SIGMA_WIDTH = 3.0  # Shewhart's 3-sigma limits (Shewhart 1931)
 
@@ -46,13 +46,19 @@ class ChartFit:
     subgroup_size: int
     process_mean: float
     sigma_within: float
-    sigma_method: str
+    sigma_method: SigmaMethod
     base: np.ndarray  # True for the subgroups that set the limits
     limits_source: str = "base period: all subgroups"  # where the limits came from, in words
     parameters: dict[str, float] = field(default_factory=dict)  # what the run-length engine needs
     notes: list[str] = field(default_factory=list)
     removed: list[int] = field(default_factory=list)  # 1-based points dropped from the base by revision
     origin: str = ""  # for carried limits: how they were first set (kept month after month)
+    sigma_given: str = ""  # where a given sigma or rate came from (sigma_method GIVEN), in words
+
+    @property
+    def sigma_words(self) -> str:
+        """How sigma (or the rate) was found, in the workbook's words: the method's, or where it was given."""
+        return self.sigma_given if self.sigma_method is SigmaMethod.GIVEN else self.sigma_method.words
 
 
 class ChartKind:
@@ -67,9 +73,8 @@ class ChartKind:
     title = ""
     data: type = Measurements
     needs: tuple[str, ...] = ("mean", "sigma")
-    sigma_estimator: str | None = None  # within-sigma method for capability (see variables.within_sigma)
+    sigma_estimator: SigmaMethod | None = None  # within-sigma family for capability (see variables.within_sigma)
     time_weighted = False  # True: signals are limit crossings only; pattern rules do not apply
-    settings: ClassVar[dict[str, str]] = {}  # chart parameter -> the EvaluationOptions field that sets it
 
     def check(self, characteristic: Characteristic) -> Measurements | Counts:
         """The characteristic's data, or ValueError when this kind cannot plot it."""
@@ -79,11 +84,11 @@ class ChartKind:
             raise ValueError(f"a {self.title} chart needs {what}; choose a chart that fits the data")
         return data
 
-    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], str]:
+    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], SigmaMethod]:
         """Process parameters from the subgroups marked in `base`, and how sigma was estimated."""
         raise NotImplementedError
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: SigmaMethod) -> ChartFit:
         """Plotted statistics and limits from process parameters (base and source are set by `fit`)."""
         raise NotImplementedError
 
@@ -99,7 +104,7 @@ class ChartKind:
         base = np.asarray(base, dtype=bool)
         missing = [p for p in self.needs if p not in given]
         params: dict[str, float] = {}
-        method = given_words
+        method = SigmaMethod.GIVEN
         if missing:
             if not base.any():
                 raise ValueError("the base period holds no subgroup to set the limits from")
@@ -108,6 +113,8 @@ class ChartKind:
                 method = estimated
         params.update(given)
         fit = self.build(characteristic, params, method)
+        if method is SigmaMethod.GIVEN:
+            fit.sigma_given = given_words
         fit.base = base.copy() if missing else np.zeros(characteristic.data.subgroups, dtype=bool)
         fit.notes.extend(floor_notes(fit.statistics))
         return fit

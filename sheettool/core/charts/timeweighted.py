@@ -7,13 +7,13 @@ pattern rules are not applied. Each evaluation starts the statistic afresh at th
 
 from __future__ import annotations
 
-from typing import ClassVar
-
 import numpy as np
 
 from sheettool.core.charts.base import ChartFit, ChartKind, PlottedStatistic, shewhart_statistic, typical_size
 from sheettool.core.charts.variables import grand_mean, subgroup_means, within_sigma
 from sheettool.core.data import Characteristic
+from sheettool.core.parameters import CusumParameters, EwmaParameters
+from sheettool.core.sigma import SigmaMethod
 
 
 class _TimeWeighted(ChartKind):
@@ -21,7 +21,7 @@ class _TimeWeighted(ChartKind):
 
     time_weighted = True
 
-    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], str]:
+    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], SigmaMethod]:
         values = self.check(characteristic).values
         sigma, words = within_sigma(values, base)
         return {"mean": grand_mean(values, base), "sigma": sigma}, words
@@ -36,7 +36,7 @@ class _TimeWeighted(ChartKind):
         """The rule, in the rule grammar, that is the limit crossing of this chart."""
         raise NotImplementedError
 
-    def _fit(self, characteristic: Characteristic, params: dict[str, float], method: str,
+    def _fit(self, characteristic: Characteristic, params: dict[str, float], method: SigmaMethod,
              stats: list[PlottedStatistic], n: int, parameters: dict[str, float], note: str) -> ChartFit:
         return ChartFit(chart=self.name, statistics=stats, subgroup_size=n, process_mean=params["mean"],
                         sigma_within=params["sigma"], sigma_method=method,
@@ -49,15 +49,11 @@ class Ewma(_TimeWeighted):
 
     name = "ewma"
     title = "EWMA"
-    settings: ClassVar[dict[str, str]] = {"lambda": "ewma_lambda", "L": "ewma_L"}
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: SigmaMethod) -> ChartFit:
         """The EWMA statistic with its limits from lambda and L (Lucas and Saccucci 1990)."""
-        lam, width = float(params.get("lambda", 0.2)), float(params.get("L", 3.0))
-        if not 0.0 < lam <= 1.0:
-            raise ValueError(f"the EWMA weight lambda must be above 0 and at most 1, got {lam:g}")
-        if width <= 0:
-            raise ValueError(f"the EWMA limit width L must be positive, got {width:g}")
+        design = EwmaParameters.from_mapping(params)
+        lam, width = design.lam, design.L
         x, sizes, n, what = self._series(characteristic)
         mu, sigma = params["mean"], params["sigma"]
         z = np.full(len(x), np.nan)
@@ -74,7 +70,7 @@ class Ewma(_TimeWeighted):
         stat = shewhart_statistic("ewma", "EWMA", z, mu, np.sqrt(var), width=width)
         note = (f"EWMA of {what}, lambda {lam:g}, limits at L = {width:g} standard errors; it starts at the "
                 "center line and its limits widen over the first points (exact variance)")
-        return self._fit(characteristic, params, sigma_method, [stat], n, {"lambda": lam, "L": width}, note)
+        return self._fit(characteristic, params, sigma_method, [stat], n, design.as_mapping(), note)
 
     def signal_rule(self, fit: ChartFit) -> str:
         """A point beyond the EWMA limits, L standard errors from the center, signals."""
@@ -91,13 +87,11 @@ class Cusum(_TimeWeighted):
 
     name = "cusum"
     title = "CUSUM"
-    settings: ClassVar[dict[str, str]] = {"k": "cusum_k", "h": "cusum_h", "reference": "target"}
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: SigmaMethod) -> ChartFit:
         """The upper and lower tabular CUSUM sums, with the decision interval h as their limits."""
-        k, h = float(params.get("k", 0.5)), float(params.get("h", 5.0))
-        if k < 0 or h <= 0:
-            raise ValueError(f"the CUSUM needs k >= 0 and h > 0 (in sigmas), got k = {k:g}, h = {h:g}")
+        design = CusumParameters.from_mapping(params)
+        k, h = design.k, design.h
         x, sizes, n, what = self._series(characteristic)
         mu, sigma = params["mean"], params["sigma"]
         reference = float(params.get("reference", mu))
@@ -117,7 +111,7 @@ class Cusum(_TimeWeighted):
         note = (f"two-sided CUSUM of {what}, reference {reference:.6g} ({around}), k = {k:g} and h = {h:g} sigmas "
                 "of the plotted point; both sides are plotted upwards")
         return self._fit(characteristic, params, sigma_method, stats, n,
-                         {"k": k, "h": h, "reference": reference}, note)
+                         {**design.as_mapping(), "reference": reference}, note)
 
     def signal_rule(self, fit: ChartFit) -> str:
         """A sum beyond the decision interval h signals."""

@@ -16,6 +16,7 @@ import numpy as np
 from sheettool.core.charts.base import ChartFit, ChartKind, PlottedStatistic, shewhart_statistic, typical_size
 from sheettool.core.constants import c4, d2, d3
 from sheettool.core.data import Characteristic, Measurements
+from sheettool.core.sigma import SigmaMethod
 
 _d2, _d3, _c4 = np.vectorize(d2, otypes=[float]), np.vectorize(d3, otypes=[float]), np.vectorize(c4, otypes=[float])
 
@@ -67,39 +68,40 @@ def grand_mean(values: np.ndarray, base: np.ndarray) -> float:
     return float(np.mean(readings))
 
 
-def within_sigma(values: np.ndarray, base: np.ndarray, method: str | None = None) -> tuple[float, str]:
-    """Within-subgroup sigma from the base subgroups, and the words saying how.
+def within_sigma(values: np.ndarray, base: np.ndarray,
+                 family: SigmaMethod | None = None) -> tuple[float, SigmaMethod]:
+    """Within-subgroup sigma from the base subgroups, and the method that gave it.
 
-    method "range": mean of R_i / d2(n_i), R-bar / d2 for constant n; "sd": S-bar / c4(n) for
-    constant n, else the pooled standard deviation divided by c4(1 + sum(n_i - 1)), which makes it
-    unbiased (ASTM E2587; Montgomery 2009, sec. 6.3); "moving_range": MR-bar / d2(2) over
-    consecutive base points. None picks by the usual subgroup size: 1, 2..9, 10 or more.
+    family RANGE: mean of R_i / d2(n_i), R-bar / d2 for constant n; S_BAR: S-bar / c4(n) for constant n, else the
+    pooled standard deviation divided by c4(1 + sum(n_i - 1)), which makes it unbiased (ASTM E2587; Montgomery
+    2009, sec. 6.3); MOVING_RANGE: MR-bar / d2(2) over consecutive base points. None picks by the usual subgroup
+    size: 1, 2..9, 10 or more.
     """
     sizes = np.sum(~np.isnan(values), axis=1)
-    if method is None:
+    if family is None:
         n = typical_size(sizes[base])
-        method = "moving_range" if n == 1 else ("range" if n < 10 else "sd")
-    if method == "moving_range":
+        family = SigmaMethod.MOVING_RANGE if n == 1 else (SigmaMethod.RANGE if n < 10 else SigmaMethod.S_BAR)
+    if family is SigmaMethod.MOVING_RANGE:
         x = subgroup_means(values)
         mr = moving_ranges(x)
         use = base & np.concatenate([[False], base[:-1]]) & ~np.isnan(mr)
         if not use.any():
             raise ValueError("the base period needs at least two consecutive individual values")
-        return float(np.mean(mr[use])) / d2(2), "MR-bar / d2(2)"
+        return float(np.mean(mr[use])) / d2(2), SigmaMethod.MOVING_RANGE
     use = base & (sizes >= 2)
     if not use.any():
         raise ValueError("the base period holds no subgroup with two or more readings")
     n = sizes[use]
     constant = bool(np.all(n == n[0]))
-    if method == "range":
+    if family is SigmaMethod.RANGE:
         r = subgroup_ranges(values)[use]
-        return float(np.mean(r / _d2(n))), "R-bar / d2" if constant else "mean of R / d2(n) (subgroup sizes vary)"
+        return float(np.mean(r / _d2(n))), SigmaMethod.RANGE if constant else SigmaMethod.RANGE_VARYING
     s = subgroup_sds(values)[use]
     if constant:
-        return float(np.mean(s)) / c4(int(n[0])), "S-bar / c4"
+        return float(np.mean(s)) / c4(int(n[0])), SigmaMethod.S_BAR
     dof = int(np.sum(n - 1))
     pooled = float(np.sqrt(np.sum((n - 1) * s * s) / dof))
-    return pooled / c4(dof + 1), "pooled standard deviation / c4(1 + sum(n - 1)) (subgroup sizes vary)"
+    return pooled / c4(dof + 1), SigmaMethod.POOLED
 
 
 def _sizes_for_limits(data: Measurements, low: int) -> np.ndarray:
@@ -112,12 +114,12 @@ def _sizes_for_limits(data: Measurements, low: int) -> np.ndarray:
 class _Variables(ChartKind):
     """Shared estimate for the subgroup charts: grand mean and within sigma by the kind's method."""
 
-    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], str]:
+    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], SigmaMethod]:
         values = characteristic.data.values
         sigma, words = within_sigma(values, base, self.sigma_estimator)
         return {"mean": grand_mean(values, base), "sigma": sigma}, words
 
-    def _fit(self, characteristic: Characteristic, params: dict[str, float], method: str,
+    def _fit(self, characteristic: Characteristic, params: dict[str, float], method: SigmaMethod,
              statistics: list, n: int) -> ChartFit:
         data = characteristic.data
         notes = []
@@ -132,7 +134,7 @@ class _Variables(ChartKind):
 class _MeanAndSpread(_Variables):
     """Shared parts of X-bar with R or S: the subgroup mean chart and a spread chart beside it."""
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: SigmaMethod) -> ChartFit:
         """The mean at mu +/- 3 sigma / sqrt(n_i) and the spread chart, limits per point."""
         data = self.check(characteristic)
         if typical_size(data.sizes) < 2:
@@ -156,7 +158,7 @@ class XbarR(_MeanAndSpread):
 
     name = "xbar-r"
     title = "X-bar and R"
-    sigma_estimator = "range"
+    sigma_estimator = SigmaMethod.RANGE
 
     def _spread(self, data: Measurements, n: np.ndarray, sigma: float) -> PlottedStatistic:
         return shewhart_statistic("range", "Subgroup range", subgroup_ranges(data.values), _d2(n) * sigma,
@@ -168,7 +170,7 @@ class XbarS(_MeanAndSpread):
 
     name = "xbar-s"
     title = "X-bar and S"
-    sigma_estimator = "sd"
+    sigma_estimator = SigmaMethod.S_BAR
 
     def _spread(self, data: Measurements, n: np.ndarray, sigma: float) -> PlottedStatistic:
         k4 = _c4(n)
@@ -181,14 +183,14 @@ class IndividualsMR(_Variables):
 
     name = "i-mr"
     title = "individuals and moving range"
-    sigma_estimator = "moving_range"
+    sigma_estimator = SigmaMethod.MOVING_RANGE
 
-    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], str]:
+    def estimate(self, characteristic: Characteristic, base: np.ndarray) -> tuple[dict[str, float], SigmaMethod]:
         """As for every variables chart, after checking that each subgroup holds one reading."""
         individuals(self.check(characteristic))
         return super().estimate(characteristic, base)
 
-    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: str) -> ChartFit:
+    def build(self, characteristic: Characteristic, params: dict[str, float], sigma_method: SigmaMethod) -> ChartFit:
         """The individuals at mu +/- 3 sigma and their moving ranges of two, with a floor at zero."""
         x = individuals(self.check(characteristic))
         mu, sigma = params["mean"], params["sigma"]

@@ -8,9 +8,7 @@ Shifts: for variables charts a mean shift in process standard deviations (the pl
 moves by shift * sqrt(n) standard errors) and a sigma ratio. For attribute charts
 `scheme_run_lengths` takes the shifted rate itself (p1, c1 or u1); `performance_of` moves the rate
 up by `shift` in-control standard errors of the plotted statistic, so the shift columns read alike.
-Time: ATS = ARL * interval (points are sampled every `interval` hours); expected false alarms per
-month = hours_per_month / (interval * zero-state in-control ARL), the renewal rate of a scheme that
-restarts after each alarm (Montgomery, Introduction to Statistical Quality Control, ch. 6).
+Time (ATS, false alarms per month) comes from core/timing.py.
 """
 
 from __future__ import annotations
@@ -22,8 +20,9 @@ from typing import Protocol
 import numpy as np
 
 from sheettool.core.charts import ChartFit
+from sheettool.core.parameters import CusumParameters, EwmaParameters
 from sheettool.core.rules import Rule, parse_rules
-from sheettool.core.runlength import cusum
+from sheettool.core.runlength import cusum as cusum_chain
 from sheettool.core.runlength.attributes import CountModel, attribute_chain
 from sheettool.core.runlength.ewma import EwmaChart
 from sheettool.core.runlength.markov import MarkovChart, RunLength, WithCompanion
@@ -31,6 +30,7 @@ from sheettool.core.runlength.montecarlo import normal_sampler, simulate_run_len
 from sheettool.core.runlength.results import Performance, ShiftArl
 from sheettool.core.runlength.shewhart import geometric_arl, range_beyond_probability, sd_beyond_probability
 from sheettool.core.runlength.zones import MAX_STATES, TooManyStates, ZoneChain
+from sheettool.core.timing import ats_hours, false_alarms_per_month
 
 VARIABLES = ("xbar", "xbar-r", "xbar-s", "individuals", "i-mr")
 ATTRIBUTES = ("p", "np", "c", "u")
@@ -43,18 +43,17 @@ CURVE_SHIFTS: tuple[float, ...] = tuple(np.round(np.linspace(0.0, 4.0, 41), 10))
 
 @dataclass(frozen=True)
 class Scheme:
-    """A chart with its parameters and rules. Unused parameters are ignored for a chart."""
+    """A chart with its parameters and rules. Unused parameters are ignored for a chart (ewma for the EWMA only,
+    cusum and head_start for the CUSUM only)."""
 
     chart: str
     rules: tuple[Rule, ...] = field(default_factory=lambda: tuple(parse_rules("limits")))
     n: float = 1.0
     p0: float | None = None
     c0: float | None = None  # c chart: defects per subgroup; u chart: defects per unit
-    lam: float = 0.2
-    L: float = 3.0
-    k: float = 0.5
-    h: float = 5.0
-    head_start: float = 0.0
+    ewma: EwmaParameters = field(default_factory=EwmaParameters)
+    cusum: CusumParameters = field(default_factory=CusumParameters)
+    head_start: float = 0.0  # CUSUM fast initial response, in standard errors (Lucas and Crosier 1982)
 
     def __post_init__(self) -> None:
         if self.chart not in SCHEME_CHARTS:
@@ -63,10 +62,8 @@ class Scheme:
             raise ValueError(f"n must be a whole number of at least 2 for X-bar with R or S, got {self.n}")
         if not self.n >= 1:
             raise ValueError(f"n must be at least 1, got {self.n}")
-        if self.chart == "ewma":
-            EwmaChart(self.lam, self.L, panels=1)
         if self.chart == "cusum":
-            cusum.check_cusum(self.k, self.h, self.head_start)
+            cusum_chain.check_cusum(self.cusum.k, self.cusum.h, self.head_start)
         if self.chart in ("p", "np") and self.p0 is None:
             raise ValueError("a p or np chart needs p0, the in-control proportion")
         if self.chart in ("c", "u") and self.c0 is None:
@@ -141,7 +138,7 @@ def scheme_run_lengths(scheme: Scheme, conditions: list[tuple[float, float]], fu
     rules = list(scheme.rules)
     if scheme.chart == "ewma":
         check = ((0.0, 1.0), *[(_standard_errors(scheme, s), r) for s, r in conditions])
-        chart = EwmaChart(scheme.lam, scheme.L, check=check)
+        chart = EwmaChart(scheme.ewma.lam, scheme.ewma.L, check=check)
         return _from_chain(chart, conditions, full, lambda s: _standard_errors(scheme, s),
                            f"{chart.method}, {len(chart.x)} nodes; asymptotic limits{_rules_left_out(rules)}")
     if scheme.chart == "cusum":
@@ -175,21 +172,22 @@ def _from_chain(chart: MarkovChart, conditions: list[tuple[float, float]], full:
 
 def _cusum(scheme: Scheme, conditions: list[tuple[float, float]], full: bool) -> SchemeResult:
     if scheme.head_start > 0.0:
-        how = (f"two-sided ARL from the {cusum.TwoSidedCusum.method} with the head start, "
+        how = (f"two-sided ARL from the {cusum_chain.TwoSidedCusum.method} with the head start, "
                "Richardson-extrapolated")
     else:
-        exact = ("exact here (h <= 2k)" if cusum.combination_is_exact(scheme.k, scheme.h)
+        exact = ("exact here (h <= 2k)" if cusum_chain.combination_is_exact(scheme.cusum.k, scheme.cusum.h)
                  else "a close approximation here")
         how = f"two-sided ARL by 1/ARL = 1/ARL+ + 1/ARL- (Lucas and Crosier 1982), {exact}"
-    method = f"{cusum.OneSidedCusum.method}, cells doubled with Richardson extrapolation; {how}"
-    joint = cusum.TwoSidedCusum(scheme.k, scheme.h, head_start=scheme.head_start) if full else None
+    method = f"{cusum_chain.OneSidedCusum.method}, cells doubled with Richardson extrapolation; {how}"
+    joint = cusum_chain.TwoSidedCusum(scheme.cusum.k, scheme.cusum.h, head_start=scheme.head_start) if full else None
     if joint is not None:
         method += (f"; SDRL, percentiles and steady state from the {joint.method}, {joint.cells} cells per side "
                    "(about 3 significant figures)")
     method += _rules_left_out(list(scheme.rules))
     out = []
     for s, r in conditions:
-        arl = cusum.two_sided_arl(scheme.k, scheme.h, _standard_errors(scheme, s), r, scheme.head_start)
+        arl = cusum_chain.two_sided_arl(scheme.cusum.k, scheme.cusum.h, _standard_errors(scheme, s), r,
+                                        scheme.head_start)
         if joint is None:
             out.append(RunLength(arl=arl))
             continue
@@ -217,7 +215,8 @@ def _monte_carlo(scheme: Scheme, rules: list[Rule], conditions: list[tuple[float
 
 _NEEDS: dict[str, tuple[str, ...]] = {
     "xbar-r": ("n",), "xbar-s": ("n",), "i-mr": (), "p": ("n", "p0"), "np": ("n", "p0"),
-    "c": ("c0",), "u": ("u0", "n"), "ewma": ("lambda", "L", "n"), "cusum": ("k", "h", "n"),
+    "c": ("c0",), "u": ("u0", "n"), "ewma": (*EwmaParameters.NAMES.values(), "n"),
+    "cusum": (*CusumParameters.NAMES.values(), "n"),
 }
 
 
@@ -232,11 +231,8 @@ def scheme_of(fit: ChartFit, rules: list[Rule]) -> Scheme:
     n = float(par.get("n", 1.0))
     if fit.chart in ("p", "np"):
         n = float(max(1, round(n)))  # binomial needs whole units: the mean inspected, rounded
-    return Scheme(
-        chart=fit.chart, rules=tuple(rules), n=n, p0=par.get("p0"), c0=par.get("u0", par.get("c0")),
-        lam=float(par.get("lambda", 0.2)), L=float(par.get("L", 3.0)), k=float(par.get("k", 0.5)),
-        h=float(par.get("h", 5.0)), head_start=float(par.get("head_start", 0.0)),
-    )
+    return Scheme(chart=fit.chart, rules=tuple(rules), n=n, p0=par.get("p0"), c0=par.get("u0", par.get("c0")),
+                  ewma=EwmaParameters.from_mapping(par), cusum=CusumParameters.from_mapping(par))
 
 
 class PerformanceOptions(Protocol):
@@ -261,21 +257,19 @@ def performance_of(fit: ChartFit, rules: list[Rule], options: PerformanceOptions
     interval = options.interval_hours
 
     def row(shift: float, cond: tuple[float, float], rl: RunLength) -> ShiftArl:
-        return ShiftArl(shift=shift, arl=rl.arl, ats_hours=rl.arl * interval if interval else None,
+        return ShiftArl(shift=shift, arl=rl.arl, ats_hours=ats_hours(rl.arl, interval),
                         sdrl=rl.sdrl, percentiles=rl.percentiles, steady_state_arl=rl.steady_state_arl,
                         ci=rl.ci, rate=cond[0] if attribute else None)
 
     rows = [row(s, c, rl) for s, c, rl in zip(shifts, result.conditions, result.results, strict=True)]
     arl0 = rows[0].arl
-    per_month = (options.hours_per_month / (interval * arl0)
-                 if interval and options.hours_per_month and np.isfinite(arl0) else None)
     return Performance(
         method=result.method,
         arl_in_control=arl0,
         shifts=[next(r for r in rows if r.shift == float(s)) for s in options.shifts],
         components=_components(scheme),
         interval_hours=interval,
-        false_alarms_per_month=per_month,
+        false_alarms_per_month=false_alarms_per_month(arl0, interval, options.hours_per_month),
         curve=[row(s, c, rl) for s, c, rl in zip(CURVE_SHIFTS, curve.conditions, curve.results, strict=True)],
         shift_unit="standard errors of the plotted rate, upward" if attribute else "process standard deviations",
     )
