@@ -31,8 +31,9 @@ def read_workbook(path: Path, cli_settings: dict[str, Setting] | None = None) ->
 
 
 def _read(path: Path, cli_settings: dict[str, Setting] | None) -> WorkbookRead:
-    raws = open_sheets(path)
-    problems: list[Problem] = []
+    opened = open_sheets(path)
+    raws = opened.sheets
+    problems: list[Problem] = list(opened.problems)
     settings = SettingsSheet()
     for raw in raws:
         if raw.title.strip().lower() == SETTINGS_SHEET:

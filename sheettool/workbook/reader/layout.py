@@ -40,7 +40,7 @@ from sheettool.workbook.reader.cells import (
 from sheettool.workbook.reader.columns import UNIT_WORD, column_names, column_role, columns_meaning, unit_of
 from sheettool.workbook.reader.labels import labelled_settings
 from sheettool.workbook.reader.model import SheetRead
-from sheettool.workbook.reader.opening import RawSheet
+from sheettool.workbook.reader.raw_sheet import RawSheet
 
 MIN_READINGS = 2  # a subgroup with fewer readings (where subgroups are larger) stays out of the limits
 MIN_SUBGROUPS = 2  # fewer subgroups cannot set limits; 20 or more are common practice
