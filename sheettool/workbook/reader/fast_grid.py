@@ -47,6 +47,7 @@ def read_fast(path: Path, book: object, ws: object) -> RawSheet:
     """Stream one sheet's XML into a grid (what openpyxl's read-only mode does, without its cell objects)."""
     title: str = ws.title  # type: ignore[attr-defined]
     collector = RowCollector(path, title)
+    add = collector.add
     with ws._get_source() as source:  # type: ignore[attr-defined]
         parser = WorkSheetParser(source, ws._shared_strings, data_only=True, epoch=book.epoch,  # type: ignore[attr-defined]
                                  date_formats=book._date_formats,  # type: ignore[attr-defined]
@@ -62,7 +63,7 @@ def read_fast(path: Path, book: object, ws: object) -> RawSheet:
                         row.extend([None] * (col - 1 - len(row)))
                     if col == len(row) + 1:
                         row.append(cell["value"])
-            collector.add(index, row)
+            add(index, row)
     uncached: list[str] = []
     if collector.empty:
         with ws._get_source() as source:  # type: ignore[attr-defined]

@@ -53,8 +53,8 @@ class RowCollector:
     def add(self, index: int, row: list[object]) -> None:
         """Take sheet row `index` (1-based): its values from column A to its last cell."""
         rows = self.rows
-        while len(rows) < index - 1:
-            rows.append([])
+        if len(rows) < index - 1:
+            rows.extend([] for _ in range(index - 1 - len(rows)))
         if None in row:
             self.empty.update(f"{get_column_letter(c + 1)}{index}" for c, v in enumerate(row) if v is None)
         rows.append(row)
