@@ -1,8 +1,13 @@
 """Read measurement workbooks into Characteristics, one per sheet that holds data.
 
-opening.py opens the file safely and yields grids of cell values; cells.py sorts cell values;
-labels.py reads settings written in the workbook; layout.py finds header, data rows, column
-meanings and layout; model.py holds what is handed back. describe() puts a SheetRead in words.
+Opening: opening.py checks the file and reads each sheet into a RawSheet (raw_sheet.py) by
+fast_grid.py (openpyxl's private parser, for the versions tested) or public_grid.py (its public
+read-only interface, with sheet_xml.py scanning the XML for what that does not show).
+Values: cells.py sorts one cell's value, cell_grid.py holds a sheet's kinds and numbers.
+Grouping: header.py finds header, units row and data rows, columns.py each column's role,
+layouts.py the layout and its subgroups. Findings: findings.py (exclusions, account, problems).
+labels.py reads settings written in the workbook; sheet.py runs the steps for one sheet;
+model.py holds what is handed back. describe() puts a SheetRead in words.
 """
 
 from __future__ import annotations
@@ -12,10 +17,12 @@ from pathlib import Path
 from sheettool.base.errors import InputError
 from sheettool.base.problems import Problem
 from sheettool.settings import Setting
+from sheettool.workbook.reader.findings import EXCLUDE_WORDS, MIN_READINGS
 from sheettool.workbook.reader.labels import SETTINGS_SHEET, SettingsSheet, read_settings_sheet
-from sheettool.workbook.reader.layout import EXCLUDE_WORDS, MIN_READINGS, MIN_SUBGROUPS, read_sheet
+from sheettool.workbook.reader.layouts import MIN_SUBGROUPS
 from sheettool.workbook.reader.model import LAYOUTS, SheetRead, WorkbookRead
 from sheettool.workbook.reader.opening import open_sheets, paused_collection
+from sheettool.workbook.reader.sheet import read_sheet
 
 __all__ = ["EXCLUDE_WORDS", "LAYOUTS", "MIN_READINGS", "MIN_SUBGROUPS", "SettingsSheet", "SheetRead",
            "WorkbookRead", "describe", "read_workbook"]
@@ -31,8 +38,9 @@ def read_workbook(path: Path, cli_settings: dict[str, Setting] | None = None) ->
 
 
 def _read(path: Path, cli_settings: dict[str, Setting] | None) -> WorkbookRead:
-    raws = open_sheets(path)
-    problems: list[Problem] = []
+    opened = open_sheets(path)
+    raws = opened.sheets
+    problems: list[Problem] = list(opened.problems)
     settings = SettingsSheet()
     for raw in raws:
         if raw.title.strip().lower() == SETTINGS_SHEET:

@@ -7,11 +7,13 @@ defects, inspected, text (not used), empty. Header words are matched as whole wo
 from __future__ import annotations
 
 import re
+from dataclasses import dataclass
 
 import numpy as np
 from openpyxl.utils import get_column_letter
 
-from sheettool.workbook.reader.cells import number_of, text_of
+from sheettool.workbook.reader.cell_grid import CellGrid
+from sheettool.workbook.reader.cells import BLANK, DATE, NUMBER, TEXT, number_of, text_of
 
 _NOTE = re.compile(r"\b(notes?|comments?|remarks?|observations?)\b", re.IGNORECASE)
 _DEFECTS = re.compile(r"\b(defects?|defect count|nonconformit(?:y|ies)|faults?|flaws?|blemish(?:es)?)\b", re.I)
@@ -27,6 +29,47 @@ UNIT_WORD = re.compile(r"^[(\[]?\s*(mm|µm|μm|um|cm|m|in|inch|inches|thou|mil|g
                        r"bar|mbar|psi|pa|kpa|mpa|s|ms|min|h|v|mv|a|ma|ohm|ω|ra|rz|deg|°|mm/s|l|ml|units?)\s*[)\]]?$",
                        re.IGNORECASE)
 _UNIT_IN_HEADER = re.compile(r"[(\[]\s*([^()\[\]]{1,8}?)\s*[)\]]\s*$")
+
+
+@dataclass(frozen=True)
+class Columns:
+    """A sheet's columns (0-based): the header text and the role of each."""
+
+    names: list[str]
+    roles: list[str]
+
+    def first(self, role: str) -> int | None:
+        """The first column with `role`, or None."""
+        return next((c for c, r in enumerate(self.roles) if r == role), None)
+
+    @property
+    def measure(self) -> list[int]:
+        """The measurement columns."""
+        return [c for c, r in enumerate(self.roles) if r == "measurement"]
+
+    @property
+    def count(self) -> int | None:
+        """The column counting defectives or defects, or None."""
+        return next((c for c, r in enumerate(self.roles) if r in ("defectives", "defects")), None)
+
+    @property
+    def values(self) -> list[int]:
+        """The columns subgroups are made of: the count and the units inspected, or the measurements."""
+        if self.count is None:
+            return self.measure
+        inspected = self.first("inspected")
+        return [self.count] + ([inspected] if inspected is not None else [])
+
+
+def sheet_columns(grid: CellGrid, header: int | None, data: list[int]) -> Columns:
+    """Each column's header text and role, from the header and the cells of the data rows."""
+    names = column_names(grid.rows, header, grid.width)
+    region = grid.kinds[data]
+    counts = np.stack([(region == k).sum(axis=0) for k in (BLANK, NUMBER, DATE, TEXT)], axis=1)
+    roles = [column_role(names[c], counts[c], grid.column(data[:200], c)) for c in range(grid.width)]
+    if not any(r in ("defectives", "defects") for r in roles):  # "n", "units" alone are no count layout
+        roles = ["measurement" if r == "inspected" else r for r in roles]
+    return Columns(names=names, roles=roles)
 
 
 def column_names(rows: list[list[object]], header: int | None, width: int) -> list[str]:

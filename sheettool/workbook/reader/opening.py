@@ -1,11 +1,12 @@
 """Open an input file safely and hand back its sheets as plain grids of cell values.
 
 File-level trouble becomes one InputError naming the file and what to do. An .xlsx or .xlsm is
-read with openpyxl's streaming sheet parser (the one its read-only mode uses), cached formula
-values only: macros are never run and never copied. openpyxl parses through defusedxml (a
-dependency), so a package with entity declarations (an expansion bomb) is refused before any
-expansion. A .csv is read with the standard library; an old binary .xls, an encrypted file
-(both OLE compound files) or an .ods gets a one-line message saying how to convert it.
+opened with openpyxl in read-only mode, cached formula values only: macros are never run and never
+copied. Its sheets are read by fast_grid where that can be, else by public_grid, which says so in a
+note; both give the same grids. openpyxl parses through defusedxml (a dependency), so a package with
+entity declarations (an expansion bomb) is refused before any expansion. A .csv is read with the
+standard library; an old binary .xls, an encrypted file (both OLE compound files) or an .ods gets a
+one-line message saying how to convert it.
 """
 
 from __future__ import annotations
@@ -14,38 +15,23 @@ import contextlib
 import csv
 import gc
 import io
-import re
 import warnings
 import zipfile
 from collections.abc import Iterator
-from dataclasses import dataclass, field
 from pathlib import Path
 
 import openpyxl
-from openpyxl.utils import get_column_letter
-from openpyxl.utils.cell import coordinate_to_tuple
-from openpyxl.worksheet._reader import WorkSheetParser
 
 from sheettool.base.errors import InputError
+from sheettool.base.problems import Problem
+from sheettool.workbook.reader.fast_grid import read_fast, why_not
+from sheettool.workbook.reader.public_grid import read_public
+from sheettool.workbook.reader.raw_sheet import OpenedFile, RawSheet
+from sheettool.workbook.reader.sheet_xml import sheet_parts
 
 OLE_MAGIC = b"\xd0\xcf\x11\xe0"  # compound file: binary .xls, or any encrypted (password) workbook
 ZIP_MAGIC = b"PK\x03\x04"
-_FORMULA_CELL = re.compile(rb'<c\b[^>]*?\br="([A-Z]{1,3}[0-9]+)"[^>]*>\s*<f\b')
-MAX_CELLS = 20_000_000  # larger sheets are refused before memory runs short (about 1 GB read)
 _SAVE_AS = "save it from the spreadsheet application as .xlsx and try again"
-
-
-@dataclass
-class RawSheet:
-    """One sheet as a grid: rows[i] holds the values of sheet row i + 1 (short rows are not padded)."""
-
-    title: str
-    rows: list[list[object]]
-    hidden_rows: set[int] = field(default_factory=set)  # 1-based row numbers
-    hidden_columns: set[int] = field(default_factory=set)  # 1-based column numbers
-    merged: list[tuple[int, int, int, int]] = field(default_factory=list)  # min_row, min_col, max_row, max_col
-    uncached: list[str] = field(default_factory=list)  # cells with a formula and no cached value
-    hidden: bool = False  # the sheet itself is hidden
 
 
 @contextlib.contextmanager
@@ -61,7 +47,7 @@ def paused_collection() -> Iterator[None]:
             gc.enable()
 
 
-def open_sheets(path: Path) -> list[RawSheet]:
+def open_sheets(path: Path) -> OpenedFile:
     """Every sheet of the file at `path` as a RawSheet; InputError for anything that stops reading."""
     path = Path(path)
     if not path.exists():
@@ -78,7 +64,7 @@ def open_sheets(path: Path) -> list[RawSheet]:
     if head.startswith(OLE_MAGIC):
         raise InputError(f"{path}: encrypted or old .xls; save as .xlsx without a password and try again")
     if suffix == ".csv":
-        return [_csv_sheet(path)]
+        return OpenedFile([_csv_sheet(path)])
     if suffix == ".ods":
         raise InputError(f"{path}: an OpenDocument spreadsheet; {_SAVE_AS}")
     if suffix == ".xlsb":
@@ -88,7 +74,7 @@ def open_sheets(path: Path) -> list[RawSheet]:
     return _xlsx_sheets(path)
 
 
-def _xlsx_sheets(path: Path) -> list[RawSheet]:
+def _xlsx_sheets(path: Path) -> OpenedFile:
     try:
         with zipfile.ZipFile(path) as package:
             names = set(package.namelist())
@@ -96,19 +82,32 @@ def _xlsx_sheets(path: Path) -> list[RawSheet]:
                 raise InputError(f"{path}: an OpenDocument spreadsheet; {_SAVE_AS}")
             if "EncryptedPackage" in names:
                 raise InputError(f"{path}: encrypted; save as .xlsx without a password and try again")
-        with warnings.catch_warnings():  # openpyxl warns of parts it skips (extensions, validations): not ours
-            warnings.simplefilter("ignore")
-            book = openpyxl.load_workbook(path, read_only=True, data_only=True, keep_vba=False, keep_links=False)
-            try:
-                return [_parse_sheet(path, book, ws) for ws in book.worksheets]
-            finally:
-                book.close()
+            with warnings.catch_warnings():  # openpyxl warns of parts it skips (extensions, validations): not ours
+                warnings.simplefilter("ignore")
+                book = openpyxl.load_workbook(path, read_only=True, data_only=True, keep_vba=False, keep_links=False)
+                try:
+                    return _read_book(path, book, package)
+                finally:
+                    book.close()
     except InputError:
         raise
     except PermissionError as exc:
         raise InputError(f"{path}: cannot be read ({exc.strerror}); check the file's permissions") from None
     except Exception as exc:  # a damaged package fails in many ways inside zipfile and openpyxl
         raise InputError(f"{path}: not a readable .xlsx workbook ({_why(exc)}); {_SAVE_AS}") from None
+
+
+def _read_book(path: Path, book: openpyxl.Workbook, package: zipfile.ZipFile) -> OpenedFile:
+    """The book's worksheets read the fast way, or, where it cannot be taken, the public way with a note why."""
+    worksheets = book.worksheets
+    reason = why_not(book, worksheets[0] if worksheets else None)
+    if not reason:
+        return OpenedFile([read_fast(path, book, ws) for ws in worksheets])
+    parts = sheet_parts(package)
+    note = Problem("note", f"{reason}: the workbook was read through openpyxl's public interface, more slowly, "
+                   "and its hidden rows and columns, merged cells and formulas without a saved value were found "
+                   "by a scan of each sheet's XML", file=path.name)
+    return OpenedFile([read_public(path, ws, package, parts[ws.title]) for ws in worksheets], [note])
 
 
 def _why(exc: BaseException) -> str:
@@ -125,67 +124,6 @@ def _why(exc: BaseException) -> str:
     if "ParseError" in names:
         return "damaged XML inside the package"
     return names[-1]
-
-
-def _parse_sheet(path: Path, book: object, ws: object) -> RawSheet:
-    """Stream one sheet's XML into a grid (private openpyxl parts: its read-only mode does the same)."""
-    with ws._get_source() as source:  # type: ignore[attr-defined]
-        parser = WorkSheetParser(source, ws._shared_strings, data_only=True, epoch=book.epoch,  # type: ignore[attr-defined]
-                                 date_formats=book._date_formats,  # type: ignore[attr-defined]
-                                 timedelta_formats=book._timedelta_formats)  # type: ignore[attr-defined]
-        rows: list[list[object]] = []
-        cells_read = 0
-        empty: set[str] = set()  # cells present in the XML without a value: formulas without cache among them
-        for index, cells in parser.parse():
-            while len(rows) < index - 1:
-                rows.append([])
-            if cells and cells[-1]["column"] == len(cells):
-                row = [cell["value"] for cell in cells]
-            else:
-                row = []
-                for cell in cells:
-                    col = cell["column"]
-                    if col > len(row) + 1:
-                        row.extend([None] * (col - 1 - len(row)))
-                    if col == len(row) + 1:
-                        row.append(cell["value"])
-            if None in row:
-                empty.update(f"{get_column_letter(c + 1)}{index}" for c, v in enumerate(row) if v is None)
-            rows.append(row)
-            cells_read += len(row)
-            if cells_read > MAX_CELLS:
-                raise InputError(f"{path}: sheet '{ws.title}' holds more than {MAX_CELLS:,} cells; "  # type: ignore[attr-defined]
-                                 "split it into smaller workbooks")
-    uncached = _formulas_without_value(ws, empty) if empty else []
-    hidden_rows = {int(r) for r, attrs in parser.row_dimensions.items() if attrs.get("hidden") in ("1", "true")}
-    hidden_columns = {c for attrs in parser.column_dimensions.values() if attrs.get("hidden") in ("1", "true")
-                      for c in range(int(attrs["min"]), int(attrs.get("max", attrs["min"])) + 1)}
-    merged = []
-    if parser.merged_cells is not None:
-        for item in parser.merged_cells.mergeCell:
-            lo, hi = ([*item.ref.split(":"), item.ref])[:2]
-            (r1, c1), (r2, c2) = _rc(lo), _rc(hi)
-            merged.append((r1, c1, r2, c2))
-    return RawSheet(title=ws.title, rows=rows, hidden_rows=hidden_rows, hidden_columns=hidden_columns,  # type: ignore[attr-defined]
-                    merged=merged, uncached=uncached,
-                    hidden=getattr(ws, "sheet_state", "visible") != "visible")
-
-
-def _formulas_without_value(ws: object, empty: set[str]) -> list[str]:
-    """Cells among `empty` that hold a formula: one streaming pass over the sheet's XML."""
-    found: set[str] = set()
-    tail = b""
-    with ws._get_source() as source:  # type: ignore[attr-defined]
-        while chunk := source.read(1 << 22):
-            buffer = tail + chunk
-            if b"<f" in buffer:  # most sheets hold no formula: a plain search, no pattern
-                found.update(m.group(1).decode() for m in _FORMULA_CELL.finditer(buffer))
-            tail = buffer[-512:]
-    return sorted(found & empty, key=lambda ref: coordinate_to_tuple(ref))
-
-
-def _rc(ref: str) -> tuple[int, int]:
-    return coordinate_to_tuple(ref.replace("$", ""))
 
 
 def _csv_sheet(path: Path) -> RawSheet:
