@@ -7,7 +7,7 @@ import pytest
 from sheettool.core.constants import c4, constants, d2, d3, range_cdf
 
 # ASTM E2587, Table of control chart factors (values recalled from memory, as listed in
-# shared/reference/published-values.md); printed to 3-4 decimals, so compared within 1e-3.
+# tests/reference/published-values.md); printed to 3-4 decimals, so compared within 1e-3.
 ASTM_E2587 = {
     # n: (d2, d3, c4, A2, A3, B3, B4, D3, D4)
     2: (1.128, 0.853, 0.7979, 1.880, 2.659, 0, 3.267, 0, 3.267),

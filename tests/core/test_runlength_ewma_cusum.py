@@ -76,7 +76,8 @@ def test_cusum_published_table(h, shift, printed, tol):
 
 @pytest.mark.parametrize("h, shift", [(4, 0.0), (5, 0.0), (5, 0.5), (5, 1.0)])
 def test_cusum_near_siegmund(h, shift):
-    # Siegmund (1985) approximation, one-sided, b = h + 1.166 (formula recalled from memory, reference file):
+    # Siegmund (1985) approximation, one-sided, b = h + 1.166 (formula recalled from memory,
+    # tests/reference/published-values.md):
     # a loose check, 3%, since it is an approximation.
     assert cusum.one_sided_arl(0.5, h, shift) == pytest.approx(cusum.siegmund_arl(0.5, h, shift), rel=0.03)
 

@@ -11,7 +11,7 @@ from sheettool.core.sigma import SigmaMethod
 from sheettool.evaluation.evaluate import chart_choice, fit_characteristic
 from sheettool.evaluation.options import EvaluationOptions
 
-# Factors printed in ASTM E2587 (values recalled from memory, shared/reference/published-values.md);
+# Factors printed in ASTM E2587 (values recalled from memory, tests/reference/published-values.md);
 # printed to 3 decimals, so limits built from them are compared within 1e-3 of the range scale.
 A2_5, D4_5, A3_10, B3_10, B4_10, E2, D4_2 = 0.577, 2.114, 0.975, 0.284, 1.716, 2.660, 3.267
 

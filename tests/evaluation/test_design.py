@@ -29,14 +29,14 @@ from tests.conftest import sha256
 
 
 # Lucas and Saccucci (1990), Technometrics 32(1), design pairs for an in-control ARL of 500 (recalled from memory;
-# /work/shared/reference/published-values.md for 0.05, 0.20, 0.25, 0.40; 0.10 -> 2.814 as quoted in the issue).
+# tests/reference/published-values.md, with 0.10 -> 2.814 as quoted in the issue on scheme design).
 @pytest.mark.parametrize(("lam", "L"), [(0.05, 2.615), (0.10, 2.814), (0.20, 2.962), (0.25, 2.998), (0.40, 3.054)])
 def test_ewma_calibration_recovers_the_published_design_pairs(lam, L):
     assert ewma_limit_width(lam, 500.0) == pytest.approx(L, abs=0.005)
 
 
 # Two-sided CUSUM k = 0.5: h = 4 gives 168 and h = 5 gives 465 (Hawkins 1993 tables as reprinted in common
-# textbooks; recalled from memory, published-values.md); printed to 3 figures, so h within 0.02.
+# textbooks; recalled from memory, tests/reference/published-values.md); printed to 3 figures, so h within 0.02.
 @pytest.mark.parametrize(("arl0", "h"), [(465.0, 5.0), (168.0, 4.0)])
 def test_cusum_calibration_recovers_the_table(arl0, h):
     assert cusum_decision_interval(0.5, arl0) == pytest.approx(h, abs=0.02)
@@ -191,7 +191,7 @@ def test_evaluate_json_has_estimated_limits_data_shape_and_requirements(tmp_path
 
 # Lucas and Saccucci (1990) EWMA table, lambda 0.20 with L 2.962 (in-control ARL 500): ARL 10.5 at 1 sigma and 41.8
 # at 0.5 sigma; two-sided CUSUM k = 0.5, h = 5 (465): ARL 38.0 at 0.5 sigma (Hawkins 1993 as reprinted in common
-# textbooks). All recalled from memory (published-values.md); printed to 3 figures, so within 1.5%.
+# textbooks). All recalled from memory (tests/reference/published-values.md); 3 figures, so within 1.5%.
 @pytest.mark.parametrize(("family", "target", "shift", "arl"), [
     ("ewma", 500.0, 1.0, 10.5), ("ewma", 500.0, 0.5, 41.8), ("cusum", 465.0, 0.5, 38.0)])
 def test_calibrated_candidates_reproduce_published_arls(family, target, shift, arl):

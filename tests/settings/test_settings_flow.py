@@ -140,7 +140,7 @@ def test_ewma_parameters_flow_from_labelled_cells_and_set(run_cli, tmp_path):
     char = _one(run_cli, path, tmp_path)
     perf = {s["shift"]: s["arl"] for s in char["performance"]["shifts"]}
     # Lucas and Saccucci (1990): lambda 0.25, L 2.998 -> ARL 500 in control, 11.1 at 1 sigma (recalled from memory,
-    # published-values.md; printed to 3 figures, so 1.5%)
+    # tests/reference/published-values.md; printed to 3 figures, so 1.5%)
     assert char["chart"] == "ewma"
     assert char["performance"]["arl_in_control"] == pytest.approx(500, rel=0.015)
     assert perf[1.0] == pytest.approx(11.1, rel=0.015)
@@ -160,7 +160,7 @@ def test_cusum_parameters_flow_from_the_settings_sheet(run_cli, tmp_path):
     char = _one(run_cli, path, tmp_path)
     perf = {s["shift"]: s["arl"] for s in char["performance"]["shifts"]}
     # two-sided CUSUM k = 0.5, h = 4: ARL 168 in control, 3.34 at 2 sigma (Hawkins 1993 tables, recalled from
-    # memory, published-values.md; 3 figures, so 1.5%)
+    # memory, tests/reference/published-values.md; 3 figures, so 1.5%)
     assert char["chart"] == "cusum" and char["settings"]["h"]["origin"] == "settings sheet row 4"
     assert char["performance"]["arl_in_control"] == pytest.approx(168, rel=0.015)
     assert perf[2.0] == pytest.approx(3.34, rel=0.015)

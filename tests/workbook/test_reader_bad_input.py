@@ -3,7 +3,6 @@ traceback, and the input's bytes unchanged (hashed before and after)."""
 
 import builtins
 import io
-import time
 import tracemalloc
 import zipfile
 from pathlib import Path
@@ -128,7 +127,7 @@ def test_corrupt_member(run_cli, tmp_path):
 
 
 @pytest.mark.parametrize("member", ["xl/worksheets/sheet1.xml", "xl/workbook.xml", "xl/styles.xml"])
-def test_entity_expansion_bomb_is_refused_quickly_in_bounded_memory(run_cli, tmp_path, member):
+def test_entity_expansion_bomb_is_refused_in_bounded_memory(run_cli, tmp_path, member):
     assert openpyxl.DEFUSEDXML  # openpyxl parses through defusedxml (a dependency)
     good = _good(tmp_path)
     path = tmp_path / "bomb.xlsx"
@@ -137,13 +136,12 @@ def test_entity_expansion_bomb_is_refused_quickly_in_bounded_memory(run_cli, tmp
         for item in src.infolist():
             dst.writestr(item, BOMB if item.filename == member else src.read(item))
     tracemalloc.start()
-    started = time.process_time()
     result = _refused(run_cli, path, 3, "bomb.xlsx", "entity declarations, refused as unsafe")
-    used = time.process_time() - started
     peak = tracemalloc.get_traced_memory()[1]
     tracemalloc.stop()
-    # Expanded, the bomb would be 10**9 "lol"s (3 GB); refused at the declaration it costs little.
-    assert peak < 50 * 2**20 and used < 10.0, (peak, used, result.err)
+    # Expanded, the bomb would be 10**9 "lol"s (3 GB); refused at the declaration it is never built.
+    # How fast the refusal is: benchmarks/bench_hostile.py.
+    assert peak < 50 * 2**20, (peak, result.err)
 
 
 def test_unreadable_file(run_cli, tmp_path, monkeypatch):
