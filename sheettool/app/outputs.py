@@ -62,32 +62,29 @@ def file_kind(path: Path) -> str:
 
 
 def check_output(output: Path, read: Sequence[tuple[Path, str]]) -> None:
-    """UsageError when `output` names one of the files read; read: (path, what it is, e.g. "an input")."""
+    """UsageError when `output` names one of the files read; read: (path, what it is, e.g. "the input")."""
     for path, what in read:
         if same_file(output, path):
-            same = "" if str(output) == str(path) else f" (the same file as {path})"
-            raise UsageError(f"-o {output}: would replace {what} {path}{same}; choose another name with -o")
+            raise UsageError(f"-o {output}: names the same file as {what} {path}, which is never written over; "
+                             "choose another name with -o")
 
 
-def plan_outputs(inputs: Sequence[Path], read: Sequence[Path]) -> list[tuple[Path, str]]:
-    """A distinct output beside each input, never one of `read` (the inputs, the limits file) nor another's.
+def plan_outputs(inputs: Sequence[Path], read: Sequence[tuple[Path, str]]) -> list[tuple[Path, str]]:
+    """A distinct output beside each input, never a file read (read: (path, what it is)) nor another's output.
 
     Each input gets IN-evaluated.xlsx where that is free, else IN-EXT-evaluated.xlsx (e.g. in-csv-evaluated.xlsx),
     then IN-EXT-evaluated-2.xlsx and so on. Returns (output, why it is not the usual name, or "") per input.
     """
-    taken: list[Path] = list(read)
+    taken: list[tuple[Path, str]] = list(read)
     planned: list[tuple[Path, str]] = []
     for path in inputs:
-        usual = default_output(path)
         why = ""
         for candidate in _names(path):
-            clash = next((t for t in taken if same_file(candidate, t)), None)
+            clash = next((what for other, what in taken if same_file(candidate, other)), None)
             if clash is None:
                 break
-            if not why:
-                why = f"{usual.name} is taken by {clash}" if clash in read else \
-                    f"{usual.name} is the output of another input"
-        taken.append(candidate)
+            why = why or f"{candidate.name} is {clash}"
+        taken.append((candidate, f"the output of {path.name}"))
         planned.append((candidate, why))
     return planned
 

@@ -93,7 +93,7 @@ def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period |
     if output is not None:
         check_output(output, [(limits_file, "the limits file")] if limits_file is not None else [])
         named = [p for p in map(Path, paths) if p.exists() and not p.is_dir()]
-        check_output(output, [(p, "the input") for p in [*named, *found.files]])
+        check_output(output, [(p, "an input") for p in [*named, *found.files]])
         found.skipped = [s for s in found.skipped if not same_file(s.path, output)]
     if not found.files and not missing:
         left = "".join(f"; skipped {s.path}: {s.reason}" for s in found.skipped)

@@ -35,7 +35,7 @@ def run(args: argparse.Namespace) -> int:
     """
     if args.output is not None and len(args.input) > 1:
         raise UsageError("-o names one output; with several inputs each output goes beside its input")
-    read = [(p, "the input") for p in args.input]
+    read = [(p, "an input") for p in args.input]
     if args.limits_file:
         read.append((args.limits_file, "the limits file"))
     if args.output is not None:
@@ -46,7 +46,7 @@ def run(args: argparse.Namespace) -> int:
     lines = [f"{path}: skipped, {why}" for path, why in skipped]
     if not inputs:
         raise InputError("; ".join(lines) + "; give the measurement workbook it came from")
-    outputs = [(args.output, "")] if args.output is not None else plan_outputs(inputs, [p for p, _ in read])
+    outputs = [(args.output, "")] if args.output is not None else plan_outputs(inputs, read)
     lines += [f"{path}: written to {output}, as {why}" for path, (output, why) in zip(inputs, outputs, strict=True)
               if why]
     for line in lines:
