@@ -52,7 +52,12 @@ class Inputs:
     skipped: list[Skipped] = field(default_factory=list)
 
 
-def collect_inputs(paths: Iterable[Path], skip: Iterable[Path] = ()) -> Inputs:
+def collect_inputs(paths: Iterable[Path], skip: Iterable[Path] = ()) -> list[Path]:
+    """The files search_inputs finds to evaluate, without the notes on those left out."""
+    return search_inputs(paths, skip).files
+
+
+def search_inputs(paths: Iterable[Path], skip: Iterable[Path] = ()) -> Inputs:
     """Workbooks named or found below the folders named (recursively, links followed once), in order, each once.
 
     Lock files of open workbooks (~$name.xlsx), hidden files and the paths in `skip` are left out
@@ -141,12 +146,12 @@ class Progress:
 
 
 def run_parallel(func: Callable[[T], R], items: Sequence[T], jobs: int, progress: Progress,
-                 lost: Callable[[T, str], R], time_limit: float | None = None) -> list[R]:
+                 lost: Callable[[T, str], R] | None = None, time_limit: float | None = None) -> list[R]:
     """func over items in `jobs` worker processes; results in input order.
 
     Without a time limit, one process or one item runs here in this process. Otherwise an item whose
     worker dies, or that runs past `time_limit` seconds, gets `lost(item, reason)` as its result, its
-    worker is replaced and the other items go on.
+    worker is replaced and the other items go on (without `lost`, a SheettoolError with the reason).
     """
     if time_limit is None and (jobs <= 1 or len(items) <= 1):
         results = []
@@ -185,9 +190,10 @@ class _Worker:
 class _Workers:
     """Worker processes that each hold one item at a time, replaced when one dies or runs out of time."""
 
-    def __init__(self, func: Callable[[Any], Any], lost: Callable[[Any, str], Any], size: int,
+    def __init__(self, func: Callable[[Any], Any], lost: Callable[[Any, str], Any] | None, size: int,
                  time_limit: float | None) -> None:
-        self.func, self.lost, self.size, self.time_limit = func, lost, size, time_limit
+        self.func, self.size, self.time_limit = func, size, time_limit
+        self.lost = lost or _raise
         self.context = multiprocessing.get_context()
         self.workers: list[_Worker] = []
 
@@ -276,6 +282,10 @@ class _Workers:
             if worker.index is None:
                 worker.process.join(5)
             self._drop(worker)
+
+
+def _raise(item: Any, reason: str) -> Any:
+    raise SheettoolError(f"{item}: {reason}")
 
 
 def _ended(code: int | None) -> str:

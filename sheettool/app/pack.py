@@ -16,10 +16,10 @@ from sheettool.app.batch import (
     FileOutcome,
     Progress,
     Skipped,
-    collect_inputs,
     evaluate_job,
     lost_job,
     run_parallel,
+    search_inputs,
 )
 from sheettool.app.outputs import check_output, same_file, write_failure
 from sheettool.base.errors import InputError, SheettoolError
@@ -89,7 +89,7 @@ def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period |
     """
     roots = [p for p in map(Path, paths) if p.is_dir()]
     missing = [p for p in map(Path, paths) if not p.exists()]
-    found = collect_inputs([p for p in map(Path, paths) if p.exists()], skip=skip)
+    found = search_inputs([p for p in map(Path, paths) if p.exists()], skip=skip)
     if output is not None:
         check_output(output, [(limits_file, "the limits file")] if limits_file is not None else [])
         named = [p for p in map(Path, paths) if p.exists() and not p.is_dir()]

@@ -13,7 +13,7 @@ from pathlib import Path
 import openpyxl
 
 import sheettool.app.pack as pack_module
-from sheettool.app.batch import FileJob, FileOutcome, Progress, evaluate_job, run_parallel
+from sheettool.app.batch import FileJob, FileOutcome, Progress, collect_inputs, evaluate_job, run_parallel
 from tests.conftest import sha256
 from tests.workbooks import readings, simple
 
@@ -122,6 +122,7 @@ def test_linked_folders_are_followed_once(run_cli, tmp_path):
     assert [c["source"] for c in result.json["characteristics"]] == ["a.xlsx", "line 3/b.xlsx"]
     (skipped,) = result.json["skipped"]
     assert skipped["source"] == "again" and "already searched" in skipped["message"]
+    assert collect_inputs([folder, folder / "a.xlsx"]) == [folder / "a.xlsx", folder / "line 3" / "b.xlsx"]
 
 
 _COMMANDS = """
@@ -143,9 +144,11 @@ def _commands(*commands: list, capped: bool = False) -> tuple[list[int], str, st
     argv = json.dumps([[str(a) for a in c] for c in commands])
     done = subprocess.run([sys.executable, "-c", _COMMANDS, "capped" if capped else "plain", argv],
                           capture_output=True, text=True, timeout=60, cwd=ROOT)
-    err, _, codes = done.stderr.rpartition("exit codes ")
-    assert done.returncode == 0 and codes, done.stderr
-    return json.loads(codes), done.stdout, err
+    lines = done.stderr.splitlines()
+    codes = [line for line in lines if line.startswith("exit codes ")]
+    assert done.returncode == 0 and len(codes) == 1, done.stderr
+    err = "\n".join(line for line in lines if line not in codes)
+    return json.loads(codes[0].removeprefix("exit codes ")), done.stdout, err
 
 
 def test_outputs_that_cannot_be_written_exit_4_with_the_cause(tmp_path):
