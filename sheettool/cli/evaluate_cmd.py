@@ -7,10 +7,10 @@ import sys
 from pathlib import Path
 
 from sheettool import TOOL_NAME, __version__
-from sheettool.app.api import default_output
-from sheettool.app.batch import FileJob, Progress, evaluate_job, run_parallel
+from sheettool.app.batch import OUTPUT_NOTE, FileJob, Progress, evaluate_job, lost_job, run_parallel
 from sheettool.app.json_form import report_json
-from sheettool.base.errors import UsageError
+from sheettool.app.outputs import check_output, is_sheettool_output, plan_outputs, same_file
+from sheettool.base.errors import InputError, UsageError
 from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, print_json, writer_options
 from sheettool.workbook.limits_block import read_limits_block
 from sheettool.workbook.reader import describe
@@ -30,19 +30,34 @@ def add_parser(subs: argparse._SubParsersAction) -> None:
 def run(args: argparse.Namespace) -> int:
     """Evaluate each input; 0 when every output was written (signals are results, not failures).
 
-    With several inputs the others go on when one fails; the exit code is then the highest failure's.
+    With several inputs the others go on when one fails; the exit code is then the highest failure's
+    (3 or 4: never the pack's 5). Sheettool's own outputs among the inputs are skipped with a note.
     """
     if args.output is not None and len(args.input) > 1:
         raise UsageError("-o names one output; with several inputs each output goes beside its input")
+    read = [(p, "an input") for p in args.input]
+    if args.limits_file:
+        read.append((args.limits_file, "the limits file"))
+    if args.output is not None:
+        check_output(args.output, read)
     settings = cli_settings(args)
     carried = read_limits_block(args.limits_file) if args.limits_file else None
+    inputs, skipped = _inputs(args.input)
+    lines = [f"{path}: skipped, {why}" for path, why in skipped]
+    if not inputs:
+        raise InputError("; ".join(lines) + "; give the measurement workbook it came from")
+    outputs = [(args.output, "")] if args.output is not None else plan_outputs(inputs, read)
+    lines += [f"{path}: written to {output}, as {why}" for path, (output, why) in zip(inputs, outputs, strict=True)
+              if why]
+    for line in lines:
+        sys.stderr.write(f"{TOOL_NAME}: {line}\n")
     options = writer_options(args)
     todo = [FileJob(path, path.name, settings, carried, args.limits_file.name if args.limits_file else "",
-                    args.output or default_output(path), options) for path in args.input]
+                    output, options) for path, (output, _) in zip(inputs, outputs, strict=True)]
     if len(todo) == 1:
         outcomes = [evaluate_job(todo[0])]
     else:
-        outcomes = run_parallel(evaluate_job, todo, jobs(args), Progress(len(todo), quiet=args.quiet))
+        outcomes = run_parallel(evaluate_job, todo, jobs(args), Progress(len(todo), quiet=args.quiet), lost_job)
     for outcome in outcomes:
         if outcome.report is None:
             continue
@@ -60,11 +75,27 @@ def run(args: argparse.Namespace) -> int:
             sys.stderr.write(f"{TOOL_NAME}: {outcome.error}\n")
     if args.json:
         reports = [report_json(o.report) for o in outcomes if o.report is not None]
-        if len(todo) == 1:
+        if len(args.input) == 1:
             if reports:
                 print_json(reports[0])
         else:
             print_json({"tool": {"name": TOOL_NAME, "version": __version__}, "evaluations": reports,
                         "failed": [{"input": str(o.job.path), "message": o.error, "exit_code": o.code}
-                                   for o in outcomes if o.report is None]})
+                                   for o in outcomes if o.report is None],
+                        "skipped": [{"input": str(p), "message": why} for p, why in skipped]})
     return max(o.code for o in outcomes)
+
+
+def _inputs(paths: list[Path]) -> tuple[list[Path], list[tuple[Path, str]]]:
+    """The inputs to evaluate (each file once, sheettool's own outputs left out), and (path, why) of those left out."""
+    kept: list[Path] = []
+    skipped: list[tuple[Path, str]] = []
+    for path in paths:
+        twin = next((k for k in kept if same_file(k, path)), None)
+        if twin is not None:
+            skipped.append((path, f"the same file as {twin}"))
+        elif is_sheettool_output(path):
+            skipped.append((path, OUTPUT_NOTE))
+        else:
+            kept.append(path)
+    return kept, skipped

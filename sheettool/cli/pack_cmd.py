@@ -8,11 +8,12 @@ from pathlib import Path
 from typing import Any
 
 from sheettool import TOOL_NAME, __version__
-from sheettool.app.batch import Progress, collect_inputs
+from sheettool.app.batch import Progress
 from sheettool.app.json_form import characteristic_json, problem_json
-from sheettool.app.pack import Pack, Period, build_pack, write_pack
+from sheettool.app.outputs import check_output
+from sheettool.app.pack import DEFAULT_TIME_LIMIT, Pack, Period, build_pack, write_pack
 from sheettool.base.errors import InputError, UsageError
-from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, print_json, writer_options
+from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, number, print_json, writer_options
 from sheettool.workbook.limits_block import read_limits_block
 
 SOME_FAILED = 5  # the pack was written, but some inputs or sheets could not be evaluated
@@ -26,6 +27,9 @@ def add_parser(subs: argparse._SubParsersAction) -> None:
     p.add_argument("--period", metavar="YYYY-MM", help="the month whose points the summary counts")
     p.add_argument("--from", dest="start", metavar="YYYY-MM-DD", help="first day of the period")
     p.add_argument("--to", dest="end", metavar="YYYY-MM-DD", help="last day of the period")
+    p.add_argument("--time-limit", metavar="SECONDS", default=str(DEFAULT_TIME_LIMIT),
+                   help="most seconds one input may take; past it the input is stopped and becomes an error row "
+                        f"(default {DEFAULT_TIME_LIMIT:g})")
     add_evaluation_options(p)
     p.set_defaults(run=run)
 
@@ -34,12 +38,12 @@ def run(args: argparse.Namespace) -> int:
     """Write the pack; 0 when everything was evaluated, SOME_FAILED when some inputs were not."""
     period = _period(args)
     settings = cli_settings(args)
+    time_limit = number("--time-limit", args.time_limit, positive=True)
+    if args.limits_file:
+        check_output(args.output, [(args.limits_file, "the limits file")])
     carried = read_limits_block(args.limits_file) if args.limits_file else None
-    found = collect_inputs([p for p in args.paths if p.exists()], skip=(args.output,))
-    if not found and all(p.exists() for p in args.paths):
-        raise InputError("no .xlsx or .xlsm workbook found in " + ", ".join(map(str, args.paths)))
-    pack = build_pack(args.paths, settings, period, carried, jobs(args), Progress(len(found), quiet=args.quiet),
-                      skip=(args.output,))
+    pack = build_pack(args.paths, settings, period, carried, jobs(args), Progress(0, quiet=args.quiet),
+                      output=args.output, limits_file=args.limits_file, time_limit=time_limit)
     if not pack.evaluated:
         raise InputError("nothing could be evaluated: " + "; ".join(r.reason for r in pack.rows))
     write_pack(pack, args.output, writer_options(args))
@@ -47,10 +51,12 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         print_json(pack_json(pack, args.output))
     else:
-        sys.stderr.write(f"{len(pack.rows) - len(failed)} characteristic(s), {len(failed)} not evaluated; "
-                         f"written: {args.output}\n")
+        evaluated = sum(1 for r in pack.rows if r.tab is not None)
+        sys.stderr.write(f"{evaluated} characteristic(s), {len(failed)} not evaluated; written: {args.output}\n")
         for row in failed:
             sys.stderr.write(f"  not evaluated: {row.reason}\n")
+        for row in pack.skipped:
+            sys.stderr.write(f"  skipped: {row.reason}\n")
     return SOME_FAILED if failed else 0
 
 
@@ -76,6 +82,7 @@ def pack_json(pack: Pack, output: Path) -> dict[str, Any]:
         "characteristics": characteristics,
         "failed": [{"source": r.source, "sheet": r.sheet or None, "message": r.reason}
                    for r in pack.rows if "failed" in r.flags],
+        "skipped": [{"source": r.source, "message": r.reason} for r in pack.skipped],
         "problems": problems,
     }
 

@@ -69,7 +69,7 @@ def test_default_output_beside_input(run_cli, demo_copy):
 def test_refuses_to_write_over_input(run_cli, demo_copy):
     before = sha256(demo_copy)
     result = run_cli("evaluate", demo_copy, "-o", demo_copy)
-    assert result.code == 4 and "over the input" in result.err
+    assert result.code == 2 and "names the same file as an input" in result.err  # refused before anything is read
     assert sha256(demo_copy) == before
 
 
