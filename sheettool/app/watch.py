@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import datetime as dt
 import multiprocessing
+import os
 import signal
 import threading
 import time
@@ -84,7 +85,8 @@ def evaluate_task(task: WatchTask) -> TaskResult:
     outcome = evaluate_job(FileJob(task.path, task.rel, task.settings, carried, carried_from, None, task.writer))
     report = outcome.report
     if report is None:
-        return TaskResult(task, error=outcome.error, code=outcome.code)
+        return TaskResult(task, changed=True) if _changed(task) else TaskResult(task, error=outcome.error,
+                                                                                code=outcome.code)
     if report.input_sha256 != task.content.sha256:
         return TaskResult(task, changed=True)
     try:
@@ -95,6 +97,15 @@ def evaluate_task(task: WatchTask) -> TaskResult:
     sheets = [c.sheet for c in report.characteristics]
     return TaskResult(task, sheets=sheets, points=signalled_points(report), problems=problem_words(report),
                       limits=limits_words(carried, words, sheets), json=report_json(report) if task.want_json else None)
+
+
+def _changed(task: WatchTask) -> bool:
+    """Whether the file is no longer the version hashed (then a failure may be a half-saved file's)."""
+    try:
+        info = os.stat(task.path)
+    except OSError:
+        return True
+    return (info.st_size, info.st_mtime_ns) != (task.content.size, task.content.mtime_ns)
 
 
 def carried_limits(task: WatchTask) -> tuple[dict[str, Any] | None, str, dict[str, str]]:
@@ -228,6 +239,8 @@ class Watcher:
                 self.left = sorted(rel for rel, (_, _, since) in self.waiting.items() if now - since > patience)
                 if len(self.left) == len(self.waiting):
                     break
+            if stop.is_set():
+                break
             self.events.idle(len(self.waiting))
             stop.wait(poll)
         return worst

@@ -122,5 +122,5 @@ class Screen(WatchEvents):
 
     def idle(self, waiting: int) -> None:
         settling = f", {waiting} settling" if waiting else ""
-        self.status(f"watching {self.folder}: {self.evaluated} evaluated, {self.failed} not evaluated{settling} "
-                    f"(looked at {dt.datetime.now():%H:%M:%S}; Ctrl-C stops)")
+        self.status(f"{dt.datetime.now():%H:%M:%S} watching {self.folder}: {self.evaluated} evaluated, "
+                    f"{self.failed} not evaluated{settling}; Ctrl-C stops")

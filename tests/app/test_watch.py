@@ -93,7 +93,9 @@ def test_drop_folder_with_real_processes(tmp_path, run_cli):
         shutil.copyfile(out / "bore-nov-evaluated.xlsx", drop / "results for the meeting.xlsx")
         (drop / "bad.xlsx").write_text("not a workbook")
         _until(lambda: (out / "bad.xlsx-not-evaluated.txt").exists(), "the note on the bad file")
-        time.sleep(0.6)  # more than the settle time: anything wrongly taken up would now show
+        # Stopped while a file is being evaluated (its output being written): that file is finished first.
+        _workbook(drop / "late.xlsx", seed=4, sheet="Late")
+        _until(lambda: any(out.glob(".sheettool-*")) or (out / "late-evaluated.xlsx").exists(), "the late file")
         watcher.send_signal(signal.SIGTERM)
         _, err = watcher.communicate(timeout=20)
     finally:
@@ -102,15 +104,16 @@ def test_drop_folder_with_real_processes(tmp_path, run_cli):
     assert watcher.returncode == 0, err
     log = _log(out)
     assert [(r["file"], r["result"]) for r in log] == [
-        ("bore-nov.xlsx", "evaluated"), ("line 2/shaft.xlsx", "evaluated"), ("bad.xlsx", "not evaluated")]
-    nov, _, bad = log
+        ("bore-nov.xlsx", "evaluated"), ("line 2/shaft.xlsx", "evaluated"), ("bad.xlsx", "not evaluated"),
+        ("late.xlsx", "evaluated")]
+    nov, _, bad, _ = log
     assert nov["sha256"] == sha256(BUNDLED)  # the whole file, never a part of it
     assert nov["limits"] == "own base period"
     assert int(nov["points signalled"]) > 0 and nov["written"] == "bore-nov-evaluated.xlsx"
     assert dt.datetime.fromisoformat(nov["time"]).tzinfo is not None
     assert sorted(p.relative_to(out).as_posix() for p in out.rglob("*")) == [
-        "bad.xlsx-not-evaluated.txt", "bore-nov-evaluated.xlsx", "line 2", "line 2/shaft-evaluated.xlsx",
-        LOG_NAME, "watch-state.sqlite"]
+        "bad.xlsx-not-evaluated.txt", "bore-nov-evaluated.xlsx", "late-evaluated.xlsx", "line 2",
+        "line 2/shaft-evaluated.xlsx", LOG_NAME, "watch-state.sqlite"]  # no temporary file left behind
     # The note says why in the command line's words, and so does stderr.
     said = run_cli("evaluate", drop / "bad.xlsx").err.strip()
     assert said.startswith("sheettool: ") and str(drop / "bad.xlsx") in said
@@ -130,8 +133,8 @@ def test_drop_folder_with_real_processes(tmp_path, run_cli):
                            capture_output=True, text=True, timeout=60)
     assert again.returncode == 3, again.stderr  # the highest failure's code: an input that cannot be evaluated
     log = _log(out)
-    assert len(log) == 7 and [r["file"] for r in log[:3]] == ["bore-nov.xlsx", "line 2/shaft.xlsx", "bad.xlsx"]
-    new = {r["file"]: r for r in log[3:]}
+    assert len(log) == 8
+    new = {r["file"]: r for r in log[4:]}
     assert {f: r["result"] for f, r in new.items()} == {
         "bore-dec.xlsx": "evaluated", "bad.xlsx": "evaluated", "line 2/shaft.xlsx": "evaluated",
         "bad2.csv": "not evaluated"}
@@ -156,7 +159,7 @@ def test_drop_folder_with_real_processes(tmp_path, run_cli):
     idle = subprocess.run([sys.executable, "-m", "sheettool", "watch", str(drop), *FAST, "--once"],
                           capture_output=True, text=True, timeout=60)
     assert idle.returncode == 0 and idle.stderr == ""
-    assert len(_log(out)) == 7
+    assert len(_log(out)) == 8
 
 
 def test_names_and_files_that_are_never_inputs(tmp_path):
