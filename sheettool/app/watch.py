@@ -96,7 +96,7 @@ def evaluate_task(task: WatchTask) -> TaskResult:
     report.output = task.output
     sheets = [c.sheet for c in report.characteristics]
     return TaskResult(task, sheets=sheets, points=signalled_points(report), problems=problem_words(report),
-                      limits=limits_words(carried, words, sheets), json=report_json(report) if task.want_json else None)
+                      limits=limits_words(words, sheets), json=report_json(report) if task.want_json else None)
 
 
 def _changed(task: WatchTask) -> bool:
@@ -111,30 +111,36 @@ def _changed(task: WatchTask) -> bool:
 def carried_limits(task: WatchTask) -> tuple[dict[str, Any] | None, str, dict[str, str]]:
     """The limits each sheet carries, the outputs they come from, and per sheet in words where its limits come from.
 
-    Automatic (no --limits-from): each sheet takes the entry of the newest earlier output whose
-    limits block has one under its sheet name; a sheet whose own settings or the command line give
-    a base period (limits_from) sets its limits afresh (None: nothing carried, nothing missing).
+    Each sheet takes the entry of the newest earlier output whose limits block has one under its
+    sheet name (or of the --limits-from output); a sheet whose settings say new_limits yes (its cells,
+    the settings sheet or --set) sets its limits afresh from its own base period (None: nothing
+    carried, nothing missing).
     """
-    if task.carried is not None or not task.earlier:
-        return task.carried, task.carried_from, {}
+    blocks: dict[Path, dict[str, dict[str, Any]]] = {}
+    earlier = task.earlier
+    if task.carried is not None:  # --limits-from: that output for every file
+        blocks[Path(task.carried_from)] = task.carried
+        earlier = [(Path(task.carried_from), frozenset(task.carried))]
+    if not earlier:
+        return None, "", {}
     try:
         read = read_workbook(task.path, task.settings)
     except SheettoolError:
         return None, "", {}  # the evaluation reports it in the command line's words
-    blocks: dict[Path, dict[str, dict[str, Any]]] = {}
     carried: dict[str, Any] = {}
     words: dict[str, str] = {}
     sources: list[str] = []
     for sheet in read.sheets:
         try:
-            own = options_for(sheet, read.settings, task.settings)[1]["limits_from"].origin != "default"
+            asked = options_for(sheet, read.settings, task.settings)[1].get("new_limits")
+            own = asked is not None and asked.value is True
         except ValueError:
             own = False  # a bad setting: the evaluation reports it
         if own:
             carried[sheet.sheet] = None
             words[sheet.sheet] = "own base period, as its settings ask"
             continue
-        for output, names in task.earlier:
+        for output, names in earlier:
             if sheet.sheet in names:
                 if output not in blocks:
                     try:
@@ -163,10 +169,9 @@ def problem_words(report: EvaluationReport) -> list[str]:
     return [f"{p.where}: {p.message}" for p in sorted(found, key=lambda p: p.severity != "error")]
 
 
-def limits_words(carried: dict[str, Any] | None, words: dict[str, str], sheets: list[str]) -> str:
+def limits_words(words: dict[str, str], sheets: list[str]) -> str:
     """Where the limits came from: 'carried from FILE' or 'own base period', per sheet where they differ."""
-    said = {s: words.get(s) or (f"carried from {carried[s]['read_from']}" if carried and carried.get(s)
-                                else "own base period") for s in sheets}
+    said = {sheet: words.get(sheet, "own base period") for sheet in sheets}
     if len(set(said.values())) == 1:
         return next(iter(said.values()))
     return "; ".join(f"{sheet}: {w}" for sheet, w in said.items())

@@ -26,14 +26,20 @@ DEMO_SHEETS = {"Bore diameter", "Leak test", "Crimp force"}
 FAST = ("--settle", "0.4", "--poll", "0.1")  # the real-process runs: a short settle time and poll interval
 
 
-def _workbook(path: Path, seed: int, sheet: str) -> None:
-    """A plain subgroups-across workbook of 25 subgroups of 4 (fixed seed)."""
+def _workbook(path: Path, seed: int, *sheets: str, labels: dict[str, list[str]] | None = None) -> None:
+    """Plain subgroups-across sheets of 25 subgroups of 4 (fixed seed), with labelled cells above a
+    sheet's header where `labels` gives them."""
     rng = np.random.default_rng(seed)
     book = xlsxwriter.Workbook(str(path))
-    ws = book.add_worksheet(sheet)
-    ws.write_row(0, 0, ["Sample", "R1", "R2", "R3", "R4"])
-    for r in range(25):
-        ws.write_row(r + 1, 0, [r + 1, *np.round(rng.normal(20.0, 0.005, 4), 4).tolist()])
+    for sheet in sheets:
+        ws = book.add_worksheet(sheet)
+        above = (labels or {}).get(sheet, [])
+        if above:
+            ws.write_row(0, 0, above)
+        top = 2 if above else 0
+        ws.write_row(top, 0, ["Sample", "R1", "R2", "R3", "R4"])
+        for r in range(25):
+            ws.write_row(top + r + 1, 0, [r + 1, *np.round(rng.normal(20.0, 0.005, 4), 4).tolist()])
     book.close()
 
 
@@ -80,7 +86,7 @@ def test_drop_folder_with_real_processes(tmp_path, run_cli):
     try:
         _until(lambda: (out / "watch-state.sqlite").exists(), "the watcher to start")
         _copy_slowly(BUNDLED, drop / "bore-nov.xlsx")
-        _workbook(drop / "line 2" / "shaft.xlsx", seed=1, sheet="Shaft")
+        _workbook(drop / "line 2" / "shaft.xlsx", 1, "Shaft")
         _until(lambda: len(_log(out)) == 2, "the first two evaluations")
         shutil.copyfile(BUNDLED, drop / "bore-nov.xlsx")  # saved again: the same bytes, a new time
         # Never evaluated: lock files, temporary saves, hidden files and folders, a FIFO, our own output.
@@ -94,7 +100,7 @@ def test_drop_folder_with_real_processes(tmp_path, run_cli):
         (drop / "bad.xlsx").write_text("not a workbook")
         _until(lambda: (out / "bad.xlsx-not-evaluated.txt").exists(), "the note on the bad file")
         # Stopped while a file is being evaluated (its output being written): that file is finished first.
-        _workbook(drop / "late.xlsx", seed=4, sheet="Late")
+        _workbook(drop / "late.xlsx", 4, "Late")
         _until(lambda: any(out.glob(".sheettool-*")) or (out / "late-evaluated.xlsx").exists(), "the late file")
         watcher.send_signal(signal.SIGTERM)
         _, err = watcher.communicate(timeout=20)
@@ -125,9 +131,9 @@ def test_drop_folder_with_real_processes(tmp_path, run_cli):
     # Restarted while stopped: next month's file, the bad one corrected, the shaft changed, a new bad one.
     shutil.copyfile(BUNDLED, drop / "bore-dec.xlsx")
     (drop / "bad.xlsx").unlink()
-    _workbook(drop / "bad.xlsx", seed=2, sheet="Seal")
+    _workbook(drop / "bad.xlsx", 2, "Seal")
     first_shaft = sha256(out / "line 2" / "shaft-evaluated.xlsx")
-    _workbook(drop / "line 2" / "shaft.xlsx", seed=3, sheet="Shaft")
+    _workbook(drop / "line 2" / "shaft.xlsx", 3, "Shaft")
     (drop / "bad2.csv").write_text("Reading,Comment\nfirst,no numbers here\n")
     again = subprocess.run([sys.executable, "-m", "sheettool", "watch", str(drop), *FAST, "--once", "--jobs", "2"],
                            capture_output=True, text=True, timeout=60)
@@ -138,10 +144,7 @@ def test_drop_folder_with_real_processes(tmp_path, run_cli):
     assert {f: r["result"] for f, r in new.items()} == {
         "bore-dec.xlsx": "evaluated", "bad.xlsx": "evaluated", "line 2/shaft.xlsx": "evaluated",
         "bad2.csv": "not evaluated"}
-    # The demo gives Leak test and Crimp force a base period in their own cells: those set limits afresh.
-    assert new["bore-dec.xlsx"]["limits"] == ("Bore diameter: carried from bore-nov-evaluated.xlsx; Leak test: own "
-                                              "base period, as its settings ask; Crimp force: own base period, as its "
-                                              "settings ask")
+    assert new["bore-dec.xlsx"]["limits"] == "carried from bore-nov-evaluated.xlsx"  # every sheet's
     assert not (out / "bad.xlsx-not-evaluated.txt").exists() and (out / "bad-evaluated.xlsx").exists()
     assert (out / "bad2.csv-not-evaluated.txt").exists()
     assert sha256(out / "line 2" / "shaft-evaluated.xlsx") != first_shaft  # replaced: one output per input name
@@ -150,10 +153,11 @@ def test_drop_folder_with_real_processes(tmp_path, run_cli):
     dec_rows, nov_rows = ({r[0]: json.loads(r[2]) for r in book["limits-block"].iter_rows(min_row=3, values_only=True)}
                           for book in (dec, nov_book))
     assert set(dec_rows) == DEMO_SHEETS
-    assert dec_rows["Bore diameter"]["limits_source"].startswith("carried from bore-nov-evaluated.xlsx")
-    assert dec_rows["Leak test"]["limits_source"].startswith("base period")
-    for key in ("process_mean", "sigma_within", "limits"):
-        assert dec_rows["Bore diameter"][key] == nov_rows["Bore diameter"][key]
+    for sheet in DEMO_SHEETS:
+        assert dec_rows[sheet]["limits_source"].startswith("carried from bore-nov-evaluated.xlsx")
+        assert nov_rows[sheet]["limits_source"].startswith("base period")
+        assert (dec_rows[sheet]["parameters"], dec_rows[sheet]["limits"]) == (nov_rows[sheet]["parameters"],
+                                                                              nov_rows[sheet]["limits"])
 
     # Once more with nothing new: exits at once, nothing evaluated twice.
     idle = subprocess.run([sys.executable, "-m", "sheettool", "watch", str(drop), *FAST, "--once"],
@@ -186,7 +190,7 @@ def test_complete_packages_and_own_outputs(tmp_path, run_cli):
     assert examine(part, accept_incomplete=True).sheets == frozenset()
     whole = examine(BUNDLED, accept_incomplete=False)
     assert whole.sheets == DEMO_SHEETS and not whole.own_output and whole.sha256 == sha256(BUNDLED)
-    _workbook(tmp_path / "small.xlsx", seed=1, sheet="Shaft")
+    _workbook(tmp_path / "small.xlsx", 1, "Shaft")
     assert run_cli("evaluate", tmp_path / "small.xlsx", "-o", tmp_path / "renamed output.xlsx").code == 0
     assert examine(tmp_path / "renamed output.xlsx", accept_incomplete=False).own_output
     (tmp_path / "m.csv").write_text("Sample,R1\n1,2\n")
@@ -196,7 +200,7 @@ def test_complete_packages_and_own_outputs(tmp_path, run_cli):
 def test_once_in_process_collisions_json_and_deleted_output(tmp_path, run_cli):
     drop = tmp_path / "drop"
     drop.mkdir()
-    _workbook(drop / "a.xlsx", seed=1, sheet="Shaft")
+    _workbook(drop / "a.xlsx", 1, "Shaft")
     rows = "\n".join(f"{i},{20 + 0.001 * (i % 5)},{20 - 0.001 * (i % 3)}" for i in range(1, 26))
     (drop / "a.csv").write_text("Sample,R1,R2\n" + rows + "\n")
     os.utime(drop / "a.csv", ns=(1, 2_000_000_000))  # the older of the two: it gets the name a-evaluated.xlsx
@@ -222,3 +226,16 @@ def test_once_in_process_collisions_json_and_deleted_output(tmp_path, run_cli):
     assert [(r["file"], r["result"]) for r in _log(drop / "evaluated")] == [
         ("a.xlsx", "not evaluated"), ("a.csv", "evaluated"), ("a.csv", "evaluated")]
     assert (drop / "evaluated" / "a-evaluated.xlsx").exists()
+
+
+def test_new_limits_asked_in_the_workbook(tmp_path, run_cli):
+    drop = tmp_path / "drop"
+    drop.mkdir()
+    once = ("watch", drop, "--once", "--settle", "0", "--poll", "0.05", "--jobs", "1")
+    _workbook(drop / "nov.xlsx", 1, "Shaft", "Seal")
+    assert run_cli(*once).code == 0
+    _workbook(drop / "dec.xlsx", 2, "Shaft", "Seal", labels={"Seal": ["New limits", "yes"]})
+    assert run_cli(*once, "--json").code == 0
+    *_, dec = _log(drop / "evaluated")
+    assert dec["limits"] == "Shaft: carried from nov-evaluated.xlsx; Seal: own base period, as its settings ask"
+    assert "carried" not in dec["first problems"]  # no word of limits missing for the sheet that asked for new ones
