@@ -27,7 +27,8 @@ def add_parser(subs: argparse._SubParsersAction) -> None:
         description="Evaluate every measurement workbook (.xlsx, .xlsm, .csv) saved into FOLDER or its subfolders, "
         "once per version, into an output folder, with a log (watch-log.csv) and, for a file that could not be "
         "evaluated, a note saying why. Each sheet's limits are carried from the latest earlier output with the "
-        "same sheet name, unless its workbook gives a base period. Stop it with Ctrl-C.")
+        "same sheet name, unless its settings say 'New limits: yes'. Stop it with Ctrl-C; it finishes the file "
+        "being evaluated first.")
     p.add_argument("folder", type=Path, metavar="FOLDER", help="the folder workbooks are saved into")
     p.add_argument("-o", "--output", type=Path, metavar="OUTPUT",
                    help=f"where the evaluated workbooks, the log and the notes go (default: FOLDER/{OUTPUT_FOLDER})")
