@@ -159,8 +159,11 @@ def write_text_atomically(path: Path, text: str) -> None:
 def remove_temporaries(folder: Path) -> None:
     """Temporary files a stopped watcher left behind in the output folder."""
     for leftover in Path(folder).rglob(f"{TEMP_PREFIX}*"):
-        if leftover.is_file():
-            leftover.unlink(missing_ok=True)
+        try:
+            if leftover.is_file():
+                leftover.unlink(missing_ok=True)
+        except OSError:
+            pass  # in use or not ours to remove: harmless, it is hidden
 
 
 WATCHED_SUFFIXES = (".xlsx", ".xlsm", ".csv")
