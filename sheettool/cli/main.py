@@ -7,9 +7,9 @@ import sys
 
 from sheettool import TOOL_NAME, __version__
 from sheettool.base.errors import SheettoolError
-from sheettool.cli import design_cmd, evaluate_cmd, pack_cmd, runlength_cmd, template_cmd
+from sheettool.cli import design_cmd, evaluate_cmd, pack_cmd, runlength_cmd, template_cmd, watch_cmd
 
-COMMANDS = (evaluate_cmd, pack_cmd, runlength_cmd, design_cmd, template_cmd)
+COMMANDS = (evaluate_cmd, pack_cmd, watch_cmd, runlength_cmd, design_cmd, template_cmd)
 
 
 class _Parser(argparse.ArgumentParser):

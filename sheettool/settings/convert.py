@@ -95,10 +95,10 @@ def convert(setting: Setting) -> Setting:
         except ValueError as exc:
             raise ValueError(f"{origin}: rules '{text}': {exc}") from None
         return Setting(name, text, origin)
-    if name == "revise":
+    if name in ("revise", "new_limits"):
         word = str(value).strip().lower()
         if word not in _YES | _NO:
-            raise ValueError(f"{origin}: revise must be yes or no, not '{value}'")
+            raise ValueError(f"{origin}: {name} must be yes or no, not '{value}'")
         return Setting(name, word in _YES, origin)
     if name in _TEXTS:
         text = str(int(value)) if isinstance(value, float) and value.is_integer() else str(value).strip()

@@ -41,6 +41,8 @@ KNOWN_SETTINGS: dict[str, str] = {
     "h": "CUSUM decision interval in sigmas",
     "confidence": "confidence level of intervals",
     "revise": "drop signalling base points and recompute the limits (yes/no)",
+    "new_limits": "set the limits from this workbook's own base period, not carried from an earlier output "
+                  "(yes/no; sheettool watch)",
 }
 KNOWN_SETTINGS["part"] = "part number or name, as written above the header"
 # What the monitoring scheme must achieve (the keys of sheettool.core.design.REQUIREMENT_KEYS).

@@ -22,7 +22,8 @@ def test_label_matching_ignores_case_and_punctuation(label, name):
 @pytest.mark.parametrize(("name", "raw", "value"), [
     ("usl", "12,05", 12.05), ("usl", "12.05 mm", 12.05), ("interval_hours", "30 min", 0.5),
     ("interval_minutes", 90, 1.5), ("interval_hours", 2, 2.0), ("confidence", "95 %", 0.95),
-    ("revise", "Yes", True), ("chart", "X-bar R", "xbar-r"), ("subgroup_size", 5.0, 5), ("part", 4471.0, "4471"),
+    ("revise", "Yes", True), ("new_limits", " no ", False), ("chart", "X-bar R", "xbar-r"), ("subgroup_size", 5.0, 5),
+    ("part", 4471.0, "4471"),
 ])
 def test_values_are_converted(name, raw, value):
     assert convert(Setting(name, raw, "here")).value == value
@@ -31,7 +32,7 @@ def test_values_are_converted(name, raw, value):
 @pytest.mark.parametrize(("name", "raw", "words"), [
     ("usl", "twelve", "upper specification limit must be a number"), ("chart", "pie", "unknown chart 'pie'"),
     ("subgroup_size", 2.5, "whole number"), ("interval_hours", "2 days", "hours (h) or minutes (min)"),
-    ("rules", "9/3>2", "rules '9/3>2'"), ("revise", "maybe", "yes or no"),
+    ("rules", "9/3>2", "rules '9/3>2'"), ("revise", "maybe", "yes or no"), ("new_limits", "later", "yes or no"),
     ("arl_in_control", "many", "must be a number"), ("arl_in_control", 0.5, "in-control ARL"),
     ("shift", -1, "the shift must be"), ("detect_hours", "2 days", "hours (h) or minutes (min)"),
     ("detect_arl", 0.5, "ARL at the shift"),
