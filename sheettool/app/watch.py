@@ -90,7 +90,7 @@ def evaluate_task(task: WatchTask) -> TaskResult:
     if report.input_sha256 != task.content.sha256:
         return TaskResult(task, changed=True)
     try:
-        write_evaluated_workbook(report, report.reads, task.output, task.writer)
+        write_evaluated_workbook(report, task.output, task.writer)
     except SheettoolError as exc:
         return TaskResult(task, error=str(exc), code=exc.exit_code)
     report.output = task.output
