@@ -18,7 +18,7 @@ from sheettool.base.errors import OutputError
 from sheettool.evaluation.carried import limits_entry
 from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook.limits_block import LIMITS_SHEET, limits_rows
-from sheettool.workbook.report import EvaluationReport
+from sheettool.workbook.report import EvaluationReport, SheetEvaluation
 from sheettool.workbook.writer.book_writer import NOTES_TAB, PERFORMANCE_TAB, BookWriter
 from sheettool.workbook.writer.data_tab import plan_data_tab, write_data_tab
 from sheettool.workbook.writer.evaluation_tab import write_evaluation_tab
@@ -127,8 +127,9 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
           block_keys: list[str]) -> None:
     """Add the tabs in their order, then write each: evaluation and data tabs per characteristic, then the rest."""
     sheets = [sheet for report in reports for sheet in report.sheets]
-    names = [(out.tab_name(s.result.characteristic.name, "chart"), out.tab_name(s.result.characteristic.name, "data"))
-             for s in sheets]
+    tells = [_tells(sheet, report) for report in reports for sheet in report.sheets]
+    names = [(out.tab_name(s.result.characteristic.name, "chart", t),
+              out.tab_name(s.result.characteristic.name, "data", t)) for s, t in zip(sheets, tells, strict=True)]
     summary_tab = out.add_tab(summary.name) if summary is not None else None
     eval_tabs = [out.add_tab(chart) for chart, _ in names]
     performance_tab = out.add_tab(PERFORMANCE_TAB)
@@ -153,6 +154,15 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
     _limits_block(block_tab, results, block_keys)
     out.lines.write(lines_tab.ws)
     (summary_tab or eval_tabs[0]).ws.activate()
+
+
+def _tells(sheet: SheetEvaluation, report: EvaluationReport) -> tuple[str, ...]:
+    """What tells a characteristic's tabs apart from another of the same name: its part, its sheet, its input."""
+    part = sheet.result.settings.get("part")
+    own = [str(part.value)] if part is not None and part.value not in (None, "") else []
+    if sheet.read.sheet != sheet.result.characteristic.name:
+        own.append(sheet.read.sheet)
+    return (*own, report.input.stem)
 
 
 def _limits_block(tab: Tab, results: list[CharacteristicResult], keys: list[str]) -> None:

@@ -47,9 +47,9 @@ class BookWriter:
         self._tab_names = {name.lower() for name in reserved}
         self._defined: set[str] = set()
 
-    def tab_name(self, base: str, suffix: str) -> str:
+    def tab_name(self, base: str, suffix: str, tells: tuple[str, ...] = ()) -> str:
         """A tab name not taken yet, built from a characteristic's name and a suffix (see cells.tab_name)."""
-        return cells.tab_name(base, suffix, self._tab_names)
+        return cells.tab_name(base, suffix, self._tab_names, tells)
 
     def add_tab(self, name: str) -> Tab:
         """Add a worksheet (tabs appear in the order they are added) with a cursor at its first row."""

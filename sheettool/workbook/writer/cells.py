@@ -59,18 +59,52 @@ def internal_link(tab: str, row: int = 0, col: int = 0) -> str:
     return f"internal:{quoted(tab)}!{xl_rowcol_to_cell(row, col)}"
 
 
-def tab_name(base: str, suffix: str, used: set[str]) -> str:
-    """A unique tab name of at most 31 characters, free of the characters tab names refuse."""
-    clean = re.sub(r"[\[\]:*?/\\']", "_", base).strip() or "sheet"
-    room = 31 - len(suffix) - (1 if suffix else 0)
-    name = f"{clean[:room]} {suffix}".strip()
+TAB_UNITS = 31  # the format's longest tab name, in UTF-16 code units (a character past U+FFFF counts 2)
+
+
+def utf16_len(text: str) -> int:
+    """Length in UTF-16 code units, as the format counts tab names."""
+    return sum(2 if ord(ch) > 0xFFFF else 1 for ch in text)
+
+
+def utf16_cut(text: str, units: int) -> str:
+    """The longest start of `text` within `units` UTF-16 units; a character is never cut in half."""
+    out, used = [], 0
+    for ch in text:
+        used += 2 if ord(ch) > 0xFFFF else 1
+        if used > units:
+            break
+        out.append(ch)
+    return "".join(out)
+
+
+def tab_name(base: str, suffix: str, used: set[str], tells: tuple[str, ...] = ()) -> str:
+    """A unique tab name of at most 31 UTF-16 units, free of the characters tab names refuse.
+
+    A name already taken is told apart by the first of `tells` (a part, an input's name) that makes it
+    unique; "~2", "~3"... is the last resort.
+    """
+    clean = _tab_clean(base) or "sheet"
+    room = TAB_UNITS - utf16_len(suffix) - (1 if suffix else 0)
+    name = f"{utf16_cut(clean, room).rstrip()} {suffix}".strip()
+    for tell in (t for t in (_tab_clean(t) for t in tells) if t):
+        if name.lower() not in used:
+            break
+        tag = f" ({utf16_cut(tell, max(4, room // 2))})"
+        name = f"{utf16_cut(clean, room - utf16_len(tag)).rstrip()}{tag} {suffix}".strip()
     i = 2
     while name.lower() in used:
         tag = f"~{i}"
-        name = f"{clean[:room - len(tag)]}{tag} {suffix}".strip()
+        name = f"{utf16_cut(clean, room - len(tag))}{tag} {suffix}".strip()
         i += 1
     used.add(name.lower())
     return name
+
+
+def _tab_clean(text: str) -> str:
+    """Text with the characters tab names refuse replaced, no control characters, no leading or trailing blanks."""
+    text = re.sub(r"[\[\]:*?/\\']", "_", text)
+    return "".join(ch if ch.isprintable() else " " for ch in text).strip()
 
 
 def defined_name(*parts: str) -> str:
