@@ -162,7 +162,7 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
     _hand_back(reports[0].problems, out.found())
     write_notes_tab(out, notes_tab, reports, stamp, as_values, tab_names)
     _limits_block(block_tab, results, block_keys)
-    out.lines.write(lines_tab.ws)
+    out.lines.write(lines_tab.ws, lambda name: out.add_tab(name).ws)
     (summary_tab or eval_tabs[0]).ws.activate()
 
 

@@ -185,13 +185,15 @@ def _axis_decimals(step: float) -> int:
     return max(0, extra - power)
 
 
-def arl_chart(out: BookWriter, series: list[tuple[str, str, str]], largest: float, widest: float) -> ChartScatter:
-    """ARL against mean shift, one line per scheme, logarithmic y axis. series: (name, x ref, y ref)."""
+def arl_chart(out: BookWriter, series: list[tuple[str, str, str]], largest: float, widest: float,
+              part: str = "") -> ChartScatter:
+    """ARL against mean shift, one line per scheme, logarithmic y axis. series: (name, x ref, y ref), at most
+    format_limits.CHART_SERIES; `part` says which characteristics a chart of several holds."""
     chart = out.scatter_chart("straight_with_markers")
     for i, (name, xs, ys) in enumerate(series):
         chart.add_series({"name": chart_text(name), "categories": xs, "values": ys, **style.performance_look(i)})
     top = 10 ** math.ceil(math.log10(max(largest, 10.0)))
-    chart.set_title({"name": "Average run length against the size of a mean shift",
+    chart.set_title({"name": "Average run length against the size of a mean shift" + part,
                      "name_font": {"size": 11, "bold": True, "color": style.SLATE}})
     chart.set_x_axis({"name": "Mean shift (process standard deviations)", "name_font": {"size": 9},
                       "num_font": {"size": 8}, "min": 0, "max": widest if widest > 0 else None,
