@@ -204,7 +204,7 @@ def write_data_tab(out: BookWriter, tabs: Tab | list[Tab], layout: DataLayout, s
         _head(tab, layout, f"Data of {ch.name}" + (f" ({k + 1} of {len(tabs)})" if layout.split else ""), told)
         _rows(tab, layout, sheet, jobs, fmts, first, end)
         _table(tab, layout, read, f"{table}_{k + 1}" if k else table, end - first, f"data of {ch.name}")
-    _said(out, layout)
+    _said(out, layout, ch.dates)
     return as_values
 
 
@@ -222,9 +222,12 @@ def _continued(layout: DataLayout, k: int) -> str:
     return text
 
 
-def _said(out: BookWriter, layout: DataLayout) -> None:
+def _said(out: BookWriter, layout: DataLayout, dates: list) -> None:
     """The problems of the data tab: subgroups continued on more tabs, columns left out, dates not used."""
     where = {"file": layout.file, "sheet": layout.sheet}
+    if not layout.x_is_date and any(isinstance(d, dt.datetime) for d in dates):
+        out.problems.append(Problem("note", "the charts are drawn by point number, not by date: not every subgroup "
+                                    "has a date later than the one before", **where))
     if layout.split:
         out.problems.append(Problem("note", f"{layout.m:,} subgroups are more than one tab holds "
                                     f"({rows_per_tab():,} below the head; the format has {format_limits.ROWS:,} "
