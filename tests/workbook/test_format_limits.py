@@ -163,3 +163,26 @@ def test_cut_text_never_halves_a_character(monkeypatch):
     cut = format_limits.cut_text("ab\U0001d11ecdefgh")  # a musical symbol counts two UTF-16 units
     assert cut == "ab\U0001d11ec" + format_limits.CUT_MARK
     assert format_limits.utf16_len(cut) <= format_limits.CELL_TEXT
+
+
+@pytest.mark.slow
+def test_real_limits_on_a_600k_subgroup_p_chart_and_a_million_individuals(tmp_path):
+    # the cases at the real limits, without writing the million-row file: the plan and the chart's lines
+    from sheettool.workbook.writer.book_writer import BookWriter
+    from sheettool.workbook.writer.charts import control_chart
+    from sheettool.workbook.writer.data_tab import data_tab_count, plan_data_tab, rows_per_tab
+    from tests.writer_cases import attribute_case
+
+    assert format_limits.ROWS == 1_048_576 and format_limits.CHART_SERIES == 255  # the format's own (common practice)
+    assert data_tab_count(1_048_575) == 2  # 1,048,573 subgroups below a tab's three head rows, 2 on the next
+    assert format_limits.spans(1_048_575, rows_per_tab()) == [(0, 1_048_573), (1_048_573, 1_048_575)]
+    result, read = attribute_case(m=600_000)  # lot sizes vary: stepped limits, two chart-lines rows a subgroup
+    out = BookWriter(str(tmp_path / "unwritten.xlsx"))
+    layout = plan_data_tab(result, read, "Seal leaks data", "Seal leaks chart")
+    chart = control_chart(out, layout, next(iter(layout.stats.values())), False, "p: Seal leaks", "", [])
+    assert max(len(values) for _, values in out.lines.columns) <= 1_048_576 - 1  # below the header row
+    last_rows = [int(ref.rsplit("$", 1)[1]) for s in chart.series for ref in (s["values"], s["categories"])]
+    assert max(last_rows) <= 1_048_576
+    most = (1_048_576 - 1) // 2
+    assert chart.series[-1]["values"] == f"'Seal leaks data'!$F${600_003 - most + 1}:$F$600003"  # the p column
+    assert any(f"the last {most:,} of 600,000 subgroups" in p.message for p in out.found())

@@ -172,12 +172,11 @@ def _as_float(value: object) -> float:
     return np.nan
 
 
-def write_data_tab(out: BookWriter, tabs: Tab | list[Tab], layout: DataLayout, sheet: SheetEvaluation,
+def write_data_tab(out: BookWriter, tabs: list[Tab], layout: DataLayout, sheet: SheetEvaluation,
                    limit_names: dict[tuple[str, str], str], table: str) -> list[str]:
     """Write the data tab (and the tabs it continues on); return the statistics written as values although
     --formulas was asked."""
     result, read, live = sheet.result, sheet.read, out.live
-    tabs = tabs if isinstance(tabs, list) else [tabs]
     ch = result.characteristic
     decimals = layout.decimals
     fmts = (tabs[0].fmt[f"dec{min(10, decimals)}"], tabs[0].fmt[f"dec{min(10, decimals + 1)}"],
