@@ -17,7 +17,8 @@ import pytest
 
 from sheettool.app.api import evaluate_file
 from sheettool.workbook import style
-from sheettool.workbook.writer import format_limits
+from sheettool.workbook.writer import WriterOptions, format_limits
+from sheettool.workbook.writer.book_writer import BookWriter
 
 REFERENCE = re.compile(r"<c:f>(?:'((?:[^']|'')+)'|([^!<']+))!\$([A-Z]+)\$(\d+)(?::\$([A-Z]+)\$(\d+))?</c:f>")
 
@@ -60,7 +61,7 @@ def test_data_continues_on_a_second_tab_and_charts_draw_their_last_points(tmp_pa
     monkeypatch.setattr(format_limits, "ROWS", 1000)  # a sheet of 1,000 rows stands in for 1,048,576
     values = np.round(np.random.default_rng(19).normal(10.0, 0.1, 1500), 3)
     out = tmp_path / "out.xlsx"
-    report = evaluate_file(_individuals_csv(tmp_path / "bore.csv", values), out)
+    report = evaluate_file(_individuals_csv(tmp_path / "bore.csv", values), out, writer=WriterOptions(formulas=True))
     book = openpyxl.load_workbook(out)
     assert [n for n in book.sheetnames if n.startswith("bore data")] == ["bore data", "bore data 2"]
     # no tab holds a row past the limit
@@ -77,7 +78,10 @@ def test_data_continues_on_a_second_tab_and_charts_draw_their_last_points(tmp_pa
     titles = _chart_titles(out)
     assert sum(f"(last {most} of 1,500 subgroups)" in t for t in titles) == 2  # individuals and moving range
     said = [p.message for p in report.problems]
-    assert any("continues on 'bore data 2'" in m and "every reading is kept" in m for m in said)
+    assert any("continues on 'bore data 2'" in m and "every reading is kept" in m and "values, not formulas" in m
+               for m in said)
+    assert not [c for n in ("bore data", "bore data 2", "bore chart") for row in book[n].iter_rows() for c in row
+                if c.data_type == "f"]  # no formula averages over the first tab alone
     assert sum(f"draws the last {most} of 1,500 subgroups" in m for m in said) == 2
     audit = _audit_text(book)
     assert "continues on 'bore data 2'" in audit and f"draws the last {most}" in audit
@@ -152,6 +156,15 @@ def test_a_library_warning_becomes_a_note_not_a_terminal_line(tmp_path, monkeypa
     assert "pentagram" in _audit_text(openpyxl.load_workbook(out))
 
 
+def test_no_row_is_taller_than_the_format_allows(tmp_path):
+    out = BookWriter(str(tmp_path / "tall.xlsx"))
+    tab = out.add_tab("tall")
+    tab.fit("word " * 20_000, 20)  # a thousand wrapped lines
+    out.close()
+    height = openpyxl.load_workbook(tmp_path / "tall.xlsx")["tall"].row_dimensions[1].height
+    assert 408 <= height <= 409  # the format's tallest row is 409 points (common practice), whole pixels
+
+
 @pytest.mark.parametrize(("count", "room", "expected"), [
     (0, 5, [(0, 0)]), (5, 5, [(0, 5)]), (6, 5, [(0, 5), (5, 6)]), (11, 5, [(0, 5), (5, 10), (10, 11)])])
 def test_spans_cover_every_item_once(count, room, expected):
@@ -168,7 +181,6 @@ def test_cut_text_never_halves_a_character(monkeypatch):
 @pytest.mark.slow
 def test_real_limits_on_a_600k_subgroup_p_chart_and_a_million_individuals(tmp_path):
     # the cases at the real limits, without writing the million-row file: the plan and the chart's lines
-    from sheettool.workbook.writer.book_writer import BookWriter
     from sheettool.workbook.writer.charts import control_chart
     from sheettool.workbook.writer.data_tab import data_tab_count, plan_data_tab, rows_per_tab
     from tests.writer_cases import attribute_case

@@ -53,6 +53,7 @@ class BookWriter:
         self._warned: set[str] = set()
         self.fmt = style.formats(self.book)
         self.live = live
+        self.formulas = live  # --formulas was asked (live may be turned off for a while, see values_only)
         self.links = Links()
         self.lines = LineSheet()
         self._tab_names = {name.lower() for name in reserved}
@@ -100,6 +101,7 @@ class BookWriter:
             yield
         finally:
             self.live = live
+        self.formulas = live  # --formulas was asked (live may be turned off for a while, see values_only)
 
     def define(self, name: str, ref: str) -> str:
         """Define a workbook-level name for `ref`, made unique with trailing underscores; return the name."""

@@ -232,7 +232,9 @@ def _said(out: BookWriter, layout: DataLayout, dates: list) -> None:
                                     f"({rows_per_tab():,} below the head; the format has {format_limits.ROWS:,} "
                                     f"rows): the data continues on " + ", ".join(f"'{t}'" for t, _, _ in
                                                                                 layout.parts[1:])
-                                    + "; every reading is kept", **where))
+                                    + "; every reading is kept" + ("; its numbers are values, not formulas (a "
+                                                                   "formula cannot reach over several tabs)"
+                                                                   if out.formulas else ""), **where))
     if layout.left_out:
         out.problems.append(Problem("warning", f"the data tab leaves out the input's last {layout.left_out:,} "
                                     f"column(s): with the computed columns they pass the format's "

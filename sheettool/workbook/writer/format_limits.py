@@ -21,6 +21,7 @@ ROWS = 1_048_576  # rows of a worksheet
 COLUMNS = 16_384  # columns of a worksheet
 CELL_TEXT = 32_767  # characters (UTF-16 code units) of one cell's text
 CHART_SERIES = 255  # series of one chart
+ROW_HEIGHT = 409.0  # points: the tallest row
 CUT_MARK = " [... cut: a cell holds at most 32,767 characters]"
 
 
