@@ -226,7 +226,7 @@ def _said(out: BookWriter, layout: DataLayout, dates: list) -> None:
     where = {"file": layout.file, "sheet": layout.sheet}
     if not layout.x_is_date and any(isinstance(d, dt.datetime) for d in dates):
         out.problems.append(Problem("note", "the charts are drawn by point number, not by date: not every subgroup "
-                                    "has a date later than the one before", **where))
+                                    "has a date, each later than the one before", **where))
     if layout.split:
         out.problems.append(Problem("note", f"{layout.m:,} subgroups are more than one tab holds "
                                     f"({rows_per_tab():,} below the head; the format has {format_limits.ROWS:,} "
