@@ -1,9 +1,11 @@
 """What reading a sheet found beside its data: subgroups kept out of the limits, the account of the
-cells read (not numbers, blanks, hidden cells, formulas without a value) and the problems saying so.
+cells read (not numbers, blanks, hidden cells, formulas without a value), dates out of order, repeated
+or implausible, and the problems saying so.
 """
 
 from __future__ import annotations
 
+import datetime as dt
 import re
 from dataclasses import dataclass
 
@@ -20,6 +22,9 @@ from sheettool.workbook.reader.layouts import Subgroups
 from sheettool.workbook.reader.raw_sheet import RawSheet
 
 MIN_READINGS = 2  # a subgroup with fewer readings (where subgroups are larger) stays out of the limits
+EARLIEST_DATE = dt.datetime(1980, 1, 1)  # a subgroup dated before it is taken for a typing or conversion error
+LATEST_AHEAD = dt.timedelta(days=365)  # nor more than this after the time of the evaluation
+ROWS_NAMED = 50  # rows named in one problem, the rest counted
 EXCLUDE_WORDS = re.compile(r"\b(exclude[ds]?|excluding|ignore[ds]?|omit(?:s|ted)?|discard(?:s|ed)?|"
                            r"do not use|don'?t use)\b", re.IGNORECASE)
 
@@ -74,7 +79,41 @@ def problems(title: str, seen: Account, shape: Subgroups, out: Exclusions) -> li
     """The problems of one sheet, in the order a reader meets them: cells, rows, counts, subgroups, hidden cells,
     formulas."""
     found = [*_cell_problems(seen, shape), *_subgroup_problems(shape, out), *_hidden_problems(seen)]
-    return [Problem(severity, message, sheet=title) for severity, message in found]
+    return [Problem(severity, message, sheet=title) for severity, message in found] + [
+        Problem("warning", message, sheet=title, cell=rows) for message, rows in date_problems(shape)]
+
+
+def date_problems(shape: Subgroups, now: dt.datetime | None = None) -> list[tuple[str, str]]:
+    """(message, rows) for subgroups dated before EARLIEST_DATE or more than LATEST_AHEAD after `now` (default: the
+    clock), and for those dated before or at the same time as the subgroup above them (implausible dates left out)."""
+    latest = (now or dt.datetime.now()) + LATEST_AHEAD
+    absurd, earlier, same = [], [], []
+    last: dt.datetime | None = None
+    for date, start in zip(shape.dates, shape.starts, strict=True):
+        if not isinstance(date, dt.datetime):
+            continue
+        date = date.replace(tzinfo=None)
+        if not EARLIEST_DATE <= date <= latest:
+            absurd.append(start + 1)
+            continue
+        if last is not None and date < last:
+            earlier.append(start + 1)
+        elif last is not None and date == last:
+            same.append(start + 1)
+        last = date
+    found = [(f"{len(rows)} subgroup(s) {words}", _rows_named(rows)) for rows, words in (
+        (absurd, f"dated before {EARLIEST_DATE:%Y-%m-%d} or more than a year in the future, which is taken for a "
+                 "typing or conversion error; check the date cells"),
+        (earlier, "dated before the subgroup above them: the dates are out of order; check the order of the rows "
+                  "or their dates"),
+        (same, "dated the same as the subgroup above them; give each subgroup its own date and time")) if rows]
+    return found
+
+
+def _rows_named(rows: list[int]) -> str:
+    """Rows in words, at most ROWS_NAMED of them: "rows 3, 5-8 and 12 more"."""
+    more = len(rows) - ROWS_NAMED
+    return f"row{'s' if len(rows) > 1 else ''} {_ranges(rows[:ROWS_NAMED])}" + (f" and {more} more" if more > 0 else "")
 
 
 def _cell_problems(seen: Account, shape: Subgroups) -> list[tuple[str, str]]:

@@ -15,12 +15,13 @@ from pathlib import Path
 
 from sheettool import TOOL_NAME, __version__
 from sheettool.base.errors import OutputError
+from sheettool.base.problems import Problem
 from sheettool.evaluation.carried import limits_entry
 from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook.limits_block import LIMITS_SHEET, limits_rows
 from sheettool.workbook.report import EvaluationReport, SheetEvaluation
 from sheettool.workbook.writer.book_writer import NOTES_TAB, PERFORMANCE_TAB, BookWriter
-from sheettool.workbook.writer.data_tab import plan_data_tab, write_data_tab
+from sheettool.workbook.writer.data_tab import data_tab_count, plan_data_tab, write_data_tab
 from sheettool.workbook.writer.evaluation_tab import write_evaluation_tab
 from sheettool.workbook.writer.lines import LINES_SHEET
 from sheettool.workbook.writer.notes_tab import Stamp, stamp_for, write_notes_tab
@@ -101,11 +102,13 @@ def write_workbook(reports: list[EvaluationReport], path: Path, options: WriterO
 
     def build(tmp: str) -> None:
         fixed = (NOTES_TAB, LIMITS_SHEET, PERFORMANCE_TAB, LINES_SHEET) + ((summary.name,) if summary else ())
-        out = BookWriter(tmp, live=options.formulas, reserved=fixed)
-        _properties(out, reports, stamp)
-        out.book.set_calc_mode("auto")
-        _tabs(out, reports, stamp, summary, block_keys or [])
-        out.close()
+        out = BookWriter(tmp, live=options.formulas, reserved=fixed, file=path.name)
+        with out.catching():
+            _properties(out, reports, stamp)
+            out.book.set_calc_mode("auto")
+            _tabs(out, reports, stamp, summary, block_keys or [])
+            out.close()
+            _hand_back(reports[0].problems, out.found())
 
     write_atomically(path, build)
 
@@ -128,32 +131,44 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
     """Add the tabs in their order, then write each: evaluation and data tabs per characteristic, then the rest."""
     sheets = [sheet for report in reports for sheet in report.sheets]
     tells = [_tells(sheet, report) for report in reports for sheet in report.sheets]
+    owners = [report for report in reports for _ in report.sheets]
     names = [(out.tab_name(s.result.characteristic.name, "chart", t),
-              out.tab_name(s.result.characteristic.name, "data", t)) for s, t in zip(sheets, tells, strict=True)]
+              [out.tab_name(s.result.characteristic.name, "data" + (f" {k}" if k > 1 else ""), t)
+               for k in range(1, data_tab_count(s.result.characteristic.data.subgroups) + 1)])
+             for s, t in zip(sheets, tells, strict=True)]
     summary_tab = out.add_tab(summary.name) if summary is not None else None
     eval_tabs = [out.add_tab(chart) for chart, _ in names]
     performance_tab = out.add_tab(PERFORMANCE_TAB)
-    data_tabs = [out.add_tab(data) for _, data in names]
+    data_tabs = [[out.add_tab(data) for data in datas] for _, datas in names]
     notes_tab = out.add_tab(NOTES_TAB)
     block_tab = out.add_tab(LIMITS_SHEET)
     lines_tab = out.add_tab(LINES_SHEET)
     as_values: list[str] = []
     for i, (sheet, eval_tab, data_tab) in enumerate(zip(sheets, eval_tabs, data_tabs, strict=True), start=1):
         result = sheet.result
-        layout = plan_data_tab(result, sheet.read, data_tab.name, eval_tab.name, out.live)
-        written = write_evaluation_tab(out, eval_tab, result, layout, f"signals_{i}")
-        stats_as_values = write_data_tab(out, data_tab, layout, sheet, written.limit_names if out.live else {},
-                                         f"data_{i}")
+        layout = plan_data_tab(result, sheet.read, data_tab[0].name, eval_tab.name, out.live,
+                               tuple(t.name for t in data_tab[1:]))
+        with out.values_only(layout.split):
+            written = write_evaluation_tab(out, eval_tab, result, layout, f"signals_{i}")
+            stats_as_values = write_data_tab(out, data_tab, layout, sheet, written.limit_names if out.live else {},
+                                             f"data_{i}")
         as_values += [f"{result.characteristic.name}: {what}" for what in stats_as_values + written.as_values]
+        _hand_back(owners[i - 1].problems, out.found())
     tab_names = [tab.name for tab in eval_tabs]
     results = [sheet.result for sheet in sheets]
     if summary is not None and summary_tab is not None:
         summary.write(summary_tab, tab_names)
     write_performance_tab(out, performance_tab, results, tab_names)
+    _hand_back(reports[0].problems, out.found())
     write_notes_tab(out, notes_tab, reports, stamp, as_values, tab_names)
     _limits_block(block_tab, results, block_keys)
-    out.lines.write(lines_tab.ws)
+    out.lines.write(lines_tab.ws, lambda name: out.add_tab(name).ws)
     (summary_tab or eval_tabs[0]).ws.activate()
+
+
+def _hand_back(problems: list[Problem], found: list[Problem]) -> None:
+    """Add the problems met while writing to a report's own (once: a report may be written twice)."""
+    problems += [p for p in found if p not in problems]
 
 
 def _tells(sheet: SheetEvaluation, report: EvaluationReport) -> tuple[str, ...]:

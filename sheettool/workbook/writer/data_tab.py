@@ -2,7 +2,9 @@
 per-subgroup statistics, limits and signal flags, as one filterable spreadsheet table.
 
 Printing: only the first PRINT_ROWS subgroups are in the print area, so a month of hourly data
-does not turn into hundreds of pages (the method notes say so).
+does not turn into hundreds of pages (the method notes say so). Subgroups past the rows a tab holds
+continue on "NAME data 2" and so on, and columns past the format's last are left out (format_limits),
+each said in a problem; every tab of the data carries the same columns.
 """
 
 from __future__ import annotations
@@ -16,13 +18,14 @@ from xlsxwriter.format import Format
 from xlsxwriter.utility import xl_cell_to_rowcol
 from xlsxwriter.worksheet import Worksheet
 
+from sheettool.base.problems import Problem
 from sheettool.core.charts import PlottedStatistic
 from sheettool.core.data import Measurements
 from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook import style
 from sheettool.workbook.reader import SheetRead
 from sheettool.workbook.report import SheetEvaluation
-from sheettool.workbook.writer import cells, formulas
+from sheettool.workbook.writer import cells, format_limits, formulas
 from sheettool.workbook.writer.book_writer import BookWriter
 from sheettool.workbook.writer.tab import Tab
 
@@ -61,6 +64,11 @@ class DataLayout:
     readings: np.ndarray | None  # the copied readings as numbers, for checking formulas
     decimals: int = 3
     headers: list[str] = field(default_factory=list)
+    parts: list[tuple[str, int, int]] = field(default_factory=list)  # (tab, first, end subgroup index) of each tab
+    copied: int = 0  # input columns copied: all of them, unless the format's last column came first
+    left_out: int = 0  # input columns left out for the format's last column
+    file: str = ""  # the input file and sheet, where the problems of this data say they are
+    sheet: str = ""
 
     @property
     def first_row(self) -> int:
@@ -69,12 +77,34 @@ class DataLayout:
 
     @property
     def last_row(self) -> int:
-        """0-based row of the last subgroup."""
-        return HEADER_ROW + self.m
+        """0-based row of the last subgroup on the (first) data tab."""
+        return HEADER_ROW + (self.parts[0][2] if self.parts else self.m)
+
+    @property
+    def split(self) -> bool:
+        """True when the subgroups continue on more than one data tab."""
+        return len(self.parts) > 1
 
     def range(self, col: int) -> str:
-        """Absolute reference to a column's subgroup rows."""
+        """Absolute reference to a column's subgroup rows (on the first data tab)."""
         return cells.column_range(self.tab, col, self.first_row, self.last_row)
+
+    def window(self, col: int, first: int) -> str | None:
+        """Reference to a column's rows of subgroups first.. to the last, or None when they span two tabs."""
+        for tab, start, end in self.parts or [(self.tab, 0, self.m)]:
+            if start <= first and end == self.m:
+                return cells.column_range(tab, col, self.first_row + first - start, HEADER_ROW + end - start)
+        return None
+
+
+def rows_per_tab() -> int:
+    """Subgroups one data tab holds below its title, note and table head."""
+    return format_limits.ROWS - HEADER_ROW - 1
+
+
+def data_tab_count(m: int) -> int:
+    """How many data tabs m subgroups take."""
+    return len(format_limits.spans(m, rows_per_tab()))
 
 
 def _dates(result: CharacteristicResult) -> np.ndarray | None:
@@ -86,13 +116,19 @@ def _dates(result: CharacteristicResult) -> np.ndarray | None:
 
 
 def plan_data_tab(result: CharacteristicResult, read: SheetRead, tab: str, eval_tab: str,
-                  live: bool = False) -> DataLayout:
-    """Decide the columns of the data tab; with `live`, gather the copied readings to check formulas on."""
+                  live: bool = False, more: tuple[str, ...] = ()) -> DataLayout:
+    """Decide the columns of the data tab; with `live`, gather the copied readings to check formulas on.
+
+    `more` names the tabs the subgroups continue on past the rows one tab holds (see data_tab_count).
+    """
     m = result.characteristic.data.subgroups
     dates = _dates(result)
     headers = ["Point"] + (["Date"] if dates is not None else [])
     copy_col = len(headers)
     width = max([len(read.header)] + [len(r) for r in read.rows[:1]])
+    computed = 2 + 5 * len(result.fit.statistics)  # base, five per statistic, flags
+    left_out = max(0, copy_col + width + computed - format_limits.COLUMNS)
+    width -= left_out
     headers += [read.header[c] if c < len(read.header) else "" for c in range(width)]
     measured = sorted(_column_index(letter) for letter, meaning in read.columns.items()
                       if meaning.startswith("measurement"))
@@ -108,18 +144,21 @@ def plan_data_tab(result: CharacteristicResult, read: SheetRead, tab: str, eval_
     flags_col = len(headers)
     headers.append("Signals at this point")
     readings = None
-    if live and reading_cols and len(read.rows) == m:
+    if live and reading_cols and len(read.rows) == m and not left_out:
         readings = np.array([[_as_float(row[c - copy_col]) if c - copy_col < len(row) else np.nan
                               for c in reading_cols] for row in read.rows], dtype=float).reshape(m, len(reading_cols))
     data = result.characteristic.data
     source = (data.values if isinstance(data, Measurements)
               else np.concatenate([s.values for s in result.fit.statistics]))
+    spans = format_limits.spans(m, rows_per_tab())
     return DataLayout(
         tab=tab, eval_tab=eval_tab, m=m,
         x=dates if dates is not None else np.arange(1, m + 1, dtype=float),
         x_is_date=dates is not None, x_col=1 if dates is not None else 0,
         copy_col=copy_col, reading_cols=reading_cols, base_col=base_col, stats=stats, flags_col=flags_col,
         readings=readings, decimals=cells.decimals(source), headers=cells.unique_headers(headers),
+        parts=[(name, first, end) for name, (first, end) in zip((tab, *more), spans, strict=True)],
+        copied=width, left_out=left_out, file=result.file, sheet=read.sheet,
     )
 
 
@@ -133,22 +172,15 @@ def _as_float(value: object) -> float:
     return np.nan
 
 
-def write_data_tab(out: BookWriter, tab: Tab, layout: DataLayout, sheet: SheetEvaluation,
+def write_data_tab(out: BookWriter, tabs: list[Tab], layout: DataLayout, sheet: SheetEvaluation,
                    limit_names: dict[tuple[str, str], str], table: str) -> list[str]:
-    """Write the tab; return the statistics that were written as values although --formulas was asked."""
+    """Write the data tab (and the tabs it continues on); return the statistics written as values although
+    --formulas was asked."""
     result, read, live = sheet.result, sheet.read, out.live
-    ws, fmt = tab.ws, tab.fmt
     ch = result.characteristic
-    ws.write_string(0, 0, f"Data of {ch.name}", fmt["title"])
-    ws.write_url(0, 4, cells.internal_link(layout.eval_tab), fmt["link"], string="Back to the evaluation")
-    ws.write_string(1, 0, "The input rows copied as values; statistics, limits and signals beside them were "
-                    "computed by sheettool." + (" Statistics and limits are live formulas." if live else ""))
-    base = np.asarray(result.fit.base, dtype=bool)
-    read_fmt = fmt[f"dec{min(10, layout.decimals)}"]
-    stat_fmt = fmt[f"dec{min(10, layout.decimals + 1)}"]
-    limit_fmt = fmt[f"dec{min(10, layout.decimals + 2)}"]
-    reading_set = set(layout.reading_cols)
-    flags = _signal_flags(result)
+    decimals = layout.decimals
+    fmts = (tabs[0].fmt[f"dec{min(10, decimals)}"], tabs[0].fmt[f"dec{min(10, decimals + 1)}"],
+            tabs[0].fmt[f"dec{min(10, decimals + 2)}"])
     builders: dict[str, Callable[[int], str] | None] = {}
     as_values: list[str] = []
     for name, sc in layout.stats.items():
@@ -156,26 +188,88 @@ def write_data_tab(out: BookWriter, tab: Tab, layout: DataLayout, sheet: SheetEv
                           if live else None)
         if live and builders[name] is None:
             as_values.append(sc.stat.label)
-    signalled = {name: {s.subgroup - 1 for s in result.signals if s.statistic == name} for name in layout.stats}
-    # One job per computed column: (column, values, format, formula builder or None); the loop below is
+    # One job per computed column: (column, values, format, formula builder or None); the loop in _rows is
     # the hot path for large files, so it is kept free of lookups.
     jobs: list[tuple[int, list[float], Format, Callable[[int], str] | None]] = []
     for name, sc in layout.stats.items():
-        jobs.append((sc.value, sc.stat.values.tolist(), stat_fmt, builders[name]))
+        jobs.append((sc.value, sc.stat.values.tolist(), fmts[1], builders[name]))
         for key, col in (("center", sc.center), ("lcl", sc.lcl), ("ucl", sc.ucl)):
             ref = limit_names.get((name, key))
-            jobs.append((col, getattr(sc.stat, key).tolist(), limit_fmt, None if ref is None else _constant(ref)))
-    copy_fmt = [read_fmt if layout.copy_col + c in reading_set else None for c in range(len(layout.headers))]
+            jobs.append((col, getattr(sc.stat, key).tolist(), fmts[2], None if ref is None else _constant(ref)))
+    note = ("The input rows copied as values; statistics, limits and signals beside them were computed by "
+            "sheettool." + (" Statistics and limits are live formulas." if live else ""))
+    for k, (tab, (_, first, end)) in enumerate(zip(tabs, layout.parts, strict=True)):
+        told = note + _continued(layout, k)
+        _head(tab, layout, f"Data of {ch.name}" + (f" ({k + 1} of {len(tabs)})" if layout.split else ""), told)
+        _rows(tab, layout, sheet, jobs, fmts, first, end)
+        _table(tab, layout, read, f"{table}_{k + 1}" if k else table, end - first, f"data of {ch.name}")
+    _said(out, layout, ch.dates)
+    return as_values
+
+
+def _continued(layout: DataLayout, k: int) -> str:
+    """What a data tab says of the tabs its subgroups continue on, and of input columns left out."""
+    text = ""
+    if layout.split:
+        _, first, end = layout.parts[k]
+        others = ", ".join(f"'{tab}'" for tab, _, _ in layout.parts)
+        text += (f" Subgroups {first + 1:,} to {end:,} of {layout.m:,}: one tab holds {rows_per_tab():,} "
+                 f"(the format's {format_limits.ROWS:,} rows); the data is on {others}.")
+    if layout.left_out:
+        text += (f" The last {layout.left_out:,} input column(s) are left out: a tab holds "
+                 f"{format_limits.COLUMNS:,} columns.")
+    return text
+
+
+def _said(out: BookWriter, layout: DataLayout, dates: list) -> None:
+    """The problems of the data tab: subgroups continued on more tabs, columns left out, dates not used."""
+    where = {"file": layout.file, "sheet": layout.sheet}
+    if not layout.x_is_date and any(isinstance(d, dt.datetime) for d in dates):
+        out.problems.append(Problem("note", "the charts are drawn by point number, not by date: not every subgroup "
+                                    "has a date, each later than the one before", **where))
+    if layout.split:
+        out.problems.append(Problem("note", f"{layout.m:,} subgroups are more than one tab holds "
+                                    f"({rows_per_tab():,} below the head; the format has {format_limits.ROWS:,} "
+                                    f"rows): the data continues on " + ", ".join(f"'{t}'" for t, _, _ in
+                                                                                layout.parts[1:])
+                                    + "; every reading is kept" + ("; its numbers are values, not formulas (a "
+                                                                   "formula cannot reach over several tabs)"
+                                                                   if out.formulas else ""), **where))
+    if layout.left_out:
+        out.problems.append(Problem("warning", f"the data tab leaves out the input's last {layout.left_out:,} "
+                                    f"column(s): with the computed columns they pass the format's "
+                                    f"{format_limits.COLUMNS:,} columns", **where))
+
+
+def _head(tab: Tab, layout: DataLayout, title: str, note: str) -> None:
+    """Title, link back to the evaluation and the note above the table."""
+    ws, fmt = tab.ws, tab.fmt
+    ws.write_string(0, 0, title, fmt["title"])
+    ws.write_url(0, 4, cells.internal_link(layout.eval_tab), fmt["link"], string="Back to the evaluation")
+    ws.write_string(1, 0, note)
+
+
+def _rows(tab: Tab, layout: DataLayout, sheet: SheetEvaluation,
+          jobs: list[tuple[int, list[float], Format, Callable[[int], str] | None]],
+          fmts: tuple[Format, Format, Format], first: int, end: int) -> None:
+    """The subgroups first..end-1 on one tab: the copied input row, then the computed columns."""
+    result, read, ws, fmt = sheet.result, sheet.read, tab.ws, tab.fmt
+    ch = result.characteristic
+    reading_set = set(layout.reading_cols)
+    copy_fmt = [fmts[0] if layout.copy_col + c in reading_set else None for c in range(len(layout.headers))]
     rows = read.rows if len(read.rows) == layout.m else [()] * layout.m
+    width = layout.copied if layout.left_out else None
+    flags = _signal_flags(result)
     write_number, write_formula, copy_col = ws.write_number, ws.write_formula, layout.copy_col
     base_col, flags_col = layout.base_col, layout.flags_col
-    base_list = base.tolist()
-    for i in range(layout.m):
-        r = layout.first_row + i
+    base_list = np.asarray(result.fit.base, dtype=bool).tolist()
+    shift = layout.first_row - first
+    for i in range(first, end):
+        r = i + shift
         write_number(r, 0, i + 1)
         if layout.x_is_date:
             ws.write_datetime(r, 1, ch.dates[i], fmt["date"])
-        for c, value in enumerate(rows[i]):
+        for c, value in enumerate(rows[i] if width is None else rows[i][:width]):
             kind = type(value)
             if kind is float or kind is int:
                 if value - value == 0:
@@ -194,18 +288,23 @@ def write_data_tab(out: BookWriter, tab: Tab, layout: DataLayout, sheet: SheetEv
             ws.write_string(r, flags_col, flags[i])
     for name, sc in layout.stats.items():
         values = sc.stat.values
-        for i in sorted(signalled[name]):
-            cells.number(ws, layout.first_row + i, sc.signal, float(values[i]), stat_fmt)
-    last = layout.flags_col
-    ws.add_table(HEADER_ROW, 0, layout.last_row, last, {
+        for i in sorted({s.subgroup - 1 for s in result.signals if s.statistic == name}):
+            if first <= i < end:
+                cells.number(ws, i + shift, sc.signal, float(values[i]), fmts[1])
+
+
+def _table(tab: Tab, layout: DataLayout, read: SheetRead, table: str, count: int, what: str) -> None:
+    """The filterable table over one tab's rows, frozen head, widths and the print area."""
+    ws, fmt = tab.ws, tab.fmt
+    last_row, last = HEADER_ROW + count, layout.flags_col
+    ws.add_table(HEADER_ROW, 0, last_row, last, {
         "name": table, "style": "Table Style Light 1",
         "columns": [{"header": h, "header_format": fmt["head"]} for h in layout.headers]})
     ws.freeze_panes(layout.first_row, 1)
     _widths(tab, layout, read)
-    cells.print_setup(ws, f"data of {ch.name}")
+    cells.print_setup(ws, what)
     ws.repeat_rows(HEADER_ROW)
-    ws.print_area(0, 0, min(layout.last_row, layout.first_row + PRINT_ROWS - 1), last)
-    return as_values
+    ws.print_area(0, 0, min(last_row, layout.first_row + PRINT_ROWS - 1), last)
 
 
 def _constant(text: str) -> Callable[[int], str]:

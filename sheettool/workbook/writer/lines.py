@@ -2,17 +2,19 @@
 
 A constant line is two points from the first to the last subgroup, a varying one a staircase of two
 points per subgroup (each limit holds from half way after the previous subgroup to half way before the
-next). The columns are collected while the charts are built and written row by row at the end.
+next). The columns are collected while the charts are built and written row by row at the end; past
+the format's last column they continue on "chart-lines 2" and so on (format_limits.COLUMNS).
 """
 
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 
 import numpy as np
 from xlsxwriter.worksheet import Worksheet
 
-from sheettool.workbook.writer import cells
+from sheettool.workbook.writer import cells, format_limits
 
 LINES_SHEET = "chart-lines"
 
@@ -38,8 +40,9 @@ class LineSheet:
         return len(self.columns) - 1
 
     def ref(self, col: int) -> str:
-        """Reference to a column's values (rows 2.. of the hidden tab)."""
-        return cells.column_range(LINES_SHEET, col, 1, max(1, len(self.columns[col][1])))
+        """Reference to a column's values (rows 2.. of the hidden tab it falls on)."""
+        page, at = divmod(col, format_limits.COLUMNS)
+        return cells.column_range(page_name(page), at, 1, max(1, len(self.columns[col][1])))
 
     def line(self, tab: str, x: np.ndarray, header: str, y: np.ndarray) -> tuple[str, str]:
         """(x reference, y reference) of a center, limit or zone line over the subgroups at `x` of a data tab."""
@@ -54,13 +57,23 @@ class LineSheet:
         col = self.add(header, [v if math.isfinite(v) else None for v in ys.tolist()])
         return self.ref(self._x[key]), self.ref(col)
 
-    def write(self, ws: Worksheet) -> None:
-        """Write the collected columns (header row, then values) and hide the tab."""
-        for c, (header, _) in enumerate(self.columns):
-            ws.write_string(0, c, header)
-        longest = max((len(v) for _, v in self.columns), default=0)
-        for r in range(longest):
-            for c, (_, values) in enumerate(self.columns):
-                if r < len(values) and values[r] is not None:
-                    ws.write_number(r + 1, c, values[r])
-        ws.hide()
+    def write(self, ws: Worksheet, more: Callable[[str], Worksheet]) -> None:
+        """Write the collected columns (header row, then values) and hide the tab; `more` adds a tab by name for
+        the columns past the format's last."""
+        width = format_limits.COLUMNS
+        for page in range(0, max(1, len(self.columns)), width):
+            sheet = ws if not page else more(page_name(page // width))
+            columns = self.columns[page:page + width]
+            for c, (header, _) in enumerate(columns):
+                sheet.write_string(0, c, header)
+            longest = max((len(v) for _, v in columns), default=0)
+            for r in range(longest):
+                for c, (_, values) in enumerate(columns):
+                    if r < len(values) and values[r] is not None:
+                        sheet.write_number(r + 1, c, values[r])
+            sheet.hide()
+
+
+def page_name(page: int) -> str:
+    """The chart-lines tab of a page of columns: "chart-lines", then "chart-lines 2", ..."""
+    return LINES_SHEET if not page else f"{LINES_SHEET} {page + 1}"

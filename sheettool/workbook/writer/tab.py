@@ -11,7 +11,7 @@ from collections.abc import Sequence
 from xlsxwriter.worksheet import Worksheet
 
 from sheettool.workbook import style
-from sheettool.workbook.writer import cells
+from sheettool.workbook.writer import cells, format_limits
 
 FACT_CHARS = 105  # characters a line of a fact's merged B:E cell (112 wide) holds, less a margin so none is cut
 
@@ -51,8 +51,8 @@ class Tab:
             self.height(height, row)
 
     def height(self, points: float, row: int | None = None) -> None:
-        """Give a row (default the cursor's) a fixed height in points."""
-        self.ws.set_row(self.row if row is None else row, points)
+        """Give a row (default the cursor's) a fixed height in points, at most the format's tallest row."""
+        self.ws.set_row(self.row if row is None else row, min(points, format_limits.ROW_HEIGHT))
 
     def fact(self, label: str, value: str, wrap: bool = False) -> None:
         """A label and its value on one row; a wrapped value takes the merged columns 1 to last_col."""
