@@ -1,0 +1,49 @@
+"""Numerical defects found by independent checks (issue 13): each test names its independent check."""
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from sheettool.core.rules import parse_rules
+from sheettool.core.runlength.markov import WithCompanion
+from sheettool.core.runlength.zones import ZoneChain
+
+
+def _success_run_arl(p: float, k: int) -> float:
+    """Expected waiting time for a run of k successes with success probability p: (1 - p^k) / ((1 - p) p^k)
+    (Feller 1968, waiting time for a success run; recalled from memory)."""
+    return (1 - p**k) / ((1 - p) * p**k)
+
+
+@pytest.mark.parametrize("shift", [0.0, 1.0, 2.0, 3.0, 4.0, 5.0])
+def test_within_band_rule_alone_matches_the_success_run_waiting_time(shift):
+    # "15 in a row within 1 sigma" alone signals at the first run of 15 points with |Z| < 1; p from scipy.stats.
+    # Independent check: Feller's closed form for the waiting time of a success run (recalled from memory),
+    # to 1e-9 relative. Before, shift 3 gave 7.4e16 (true 4.6e24) and shift 4 a negative ARL.
+    chain = ZoneChain(parse_rules("15/15<1"))
+    p = stats.norm.cdf(1 - shift) - stats.norm.cdf(-1 - shift)
+    expected = _success_run_arl(p, 15)
+    assert chain.arl(shift) == pytest.approx(expected, rel=1e-9)
+    rl = chain.run_length(shift)
+    assert rl.arl == pytest.approx(expected, rel=1e-9)
+    # the run length is geometric-tailed: SDRL about ARL for large ARLs (SDRL^2 = ARL^2 - ARL for a geometric)
+    assert rl.sdrl == pytest.approx(np.sqrt(max(expected**2 - expected, 0.0)), rel=0.1)
+    if shift >= 3:
+        # median of a geometric with mean A: A ln 2 (common practice), to 1e-6
+        assert rl.percentiles[50] == pytest.approx(expected * np.log(2), rel=1e-6)
+
+
+def test_within_band_rule_with_a_companion_stays_finite_and_positive():
+    # A companion (independent) chart that signals with probability c on each point (as the R chart beside
+    # X-bar). Independent check, a renewal argument written here: attempts are runs of q = p (1 - c) points
+    # (in band, no companion signal), restarted by an out-of-band point without a companion signal
+    # (r = (1 - p)(1 - c)), ended by a companion signal or the 15th point in band. Points per attempt
+    # (1 - q^15) / (1 - q), P(an attempt ends) (c + r q^15) / (1 - q), so ARL = (1 - q^15) / (c + r q^15)
+    # (c = 0 gives Feller's form). Compared to 1e-9 relative.
+    shift, c = 3.0, 1e-12
+    p = stats.norm.cdf(1 - shift) - stats.norm.cdf(-1 - shift)
+    q, r = p * (1 - c), (1 - p) * (1 - c)
+    expected = (1 - q**15) / (c + r * q**15)
+    chart = WithCompanion(ZoneChain(parse_rules("15/15<1")), lambda s, sr: c, "test")
+    assert chart.arl(shift) == pytest.approx(expected, rel=1e-9)
+    assert chart.run_length(shift).arl == pytest.approx(expected, rel=1e-9)
