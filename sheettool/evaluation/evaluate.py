@@ -16,7 +16,7 @@ from sheettool.core.charts.base import typical_size
 from sheettool.core.charts.variables import within_sigma
 from sheettool.core.data import Characteristic, Counts, Measurements
 from sheettool.core.limits import fit_limits
-from sheettool.core.rules import Rule, find_hits, parse_rules
+from sheettool.core.rules import Rule, find_hits, parse_rules, standardized
 from sheettool.core.runlength.scheme import performance_of
 from sheettool.evaluation.carried import carried_parameters
 from sheettool.evaluation.checks import scheme_checks
@@ -158,9 +158,7 @@ def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Si
     """Apply the rules to each plotted statistic in standard-error units."""
     signals: list[Signal] = []
     for stat in fit.statistics:
-        with np.errstate(divide="ignore", invalid="ignore"):
-            z = (stat.values - stat.center) / stat.sigma
-        for hit in find_hits(z, rules):
+        for hit in find_hits(standardized(stat.values, stat.center, stat.sigma, rules), rules):
             signals.append(Signal(
                 subgroup=hit.point + 1,
                 label=labels[hit.point],

@@ -1,5 +1,7 @@
 """Numerical defects found by independent checks (issue 13): each test names its independent check."""
 
+from dataclasses import replace
+
 import numpy as np
 import pytest
 from scipy import stats
@@ -47,3 +49,39 @@ def test_within_band_rule_with_a_companion_stays_finite_and_positive():
     chart = WithCompanion(ZoneChain(parse_rules("15/15<1")), lambda s, sr: c, "test")
     assert chart.arl(shift) == pytest.approx(expected, rel=1e-9)
     assert chart.run_length(shift).arl == pytest.approx(expected, rel=1e-9)
+
+
+def _individuals(values):
+    from sheettool.core.data import Characteristic, Measurements
+
+    x = np.asarray(values, dtype=float)[:, None]
+    return Characteristic(name="On limit", data=Measurements(x), labels=[str(i + 1) for i in range(len(x))])
+
+
+_ON_LINES = {"1/1>3": [3, -3] * 4, "2/3>2": [2, 2, 2, -2, -2, -2], "4/5>1": [1] * 5 + [-1] * 5,
+             "15/15<1": [1, -1] * 8, "8/8>>1": [1, -1] * 4}
+
+
+@pytest.mark.parametrize(("mean", "sigma"), [(10.0, 0.1), (2.0, 0.01), (0.3, 0.1), (100.0, 0.7)])
+@pytest.mark.parametrize("rule", list(_ON_LINES))
+def test_a_reading_on_a_limit_is_not_beyond_for_every_rule(mean, sigma, rule):
+    # Readings typed as the displayed lines center + j sigma (given standards, individuals), for each rule
+    # on its own lines: on a limit is neither beyond nor within, for every rule alike, whatever the rounding
+    # of z. Independent check: the decimal arithmetic of the typed values (common practice: a point on the
+    # line is not beyond it); the ulps of (x - center) / sigma decided it before (10.3 flagged, 2.03 not).
+    from sheettool.core.charts.base import beyond_limits
+    from sheettool.evaluation.evaluate import fit_characteristic
+    from sheettool.evaluation.options import EvaluationOptions
+
+    on = [round(mean + j * sigma, 10) for j in _ON_LINES[rule]]
+    options = EvaluationOptions(rules=rule, standard={"mean": mean, "sigma": sigma})
+    fitted = fit_characteristic(_individuals(on), "On limit", options)
+    first = fitted.fit.statistics[0].name  # the individual values (the moving range has limits of its own)
+    assert [s for s in fitted.signals if s.statistic == first] == []
+    if rule == "1/1>3":
+        assert not beyond_limits(replace(fitted.fit, statistics=fitted.fit.statistics[:1])).any()
+    # one part in 1e9 beyond (or, for the within rule, inside) each line counts: the comparison is not loose
+    inward = -1 if rule == "15/15<1" else 1
+    nudged = [x + inward * np.sign(j) * abs(x) * 1e-9 for x, j in zip(on, _ON_LINES[rule], strict=True)]
+    fitted = fit_characteristic(_individuals(nudged), "On limit", options)
+    assert [s for s in fitted.signals if s.statistic == first]
