@@ -16,7 +16,9 @@ from sheettool.core.charts.base import typical_size
 from sheettool.core.charts.variables import within_sigma
 from sheettool.core.data import Characteristic, Counts, Measurements
 from sheettool.core.limits import fit_limits
+from sheettool.core.parameters import EwmaParameters
 from sheettool.core.rules import Rule, find_hits, parse_rules, standardized
+from sheettool.core.runlength.ewma import limits_as_drawn
 from sheettool.core.runlength.scheme import performance_of
 from sheettool.evaluation.carried import carried_parameters
 from sheettool.evaluation.checks import scheme_checks
@@ -130,6 +132,9 @@ def assess(fitted: Fitted, options: EvaluationOptions | None = None) -> Assessme
     """How the fitted scheme behaves (run lengths at the shifts), and the extra checks on it."""
     options = options or EvaluationOptions()
     performance = performance_of(fitted.fit, fitted.rules, options)
+    if fitted.fit.chart == "ewma":  # the ARL of the exact, widening limits the chart draws
+        performance = limits_as_drawn(performance, EwmaParameters.from_mapping(fitted.fit.parameters),
+                                      fitted.fit.parameters["n"], options.hours_per_month)
     checks = scheme_checks(fitted.characteristic, fitted.fit, fitted.rules, performance, options, fitted.sheet)
     return Assessment(performance=performance, estimated_limits=checks.estimated_limits,
                       data_shape=checks.data_shape, requirements_check=checks.requirements,

@@ -85,3 +85,47 @@ def test_a_reading_on_a_limit_is_not_beyond_for_every_rule(mean, sigma, rule):
     nudged = [x + inward * np.sign(j) * abs(x) * 1e-9 for x, j in zip(on, _ON_LINES[rule], strict=True)]
     fitted = fit_characteristic(_individuals(nudged), "On limit", options)
     assert [s for s in fitted.signals if s.statistic == first]
+
+
+def _simulated_ewma_arl(lam: float, L: float, shift: float, runs: int, seed: int) -> tuple[float, float]:
+    """Mean run length and its standard error of an EWMA from Z_0 = 0 with the exact limits
+    L sqrt(lambda / (2 - lambda) (1 - (1 - lambda)^(2t))), simulated here."""
+    rng = np.random.default_rng(seed)
+    z, out, active, t = np.zeros(runs), np.zeros(runs), np.arange(runs), 0
+    while active.size:
+        t += 1
+        z[active] = lam * rng.normal(shift, 1.0, active.size) + (1 - lam) * z[active]
+        beyond = np.abs(z[active]) > L * np.sqrt(lam / (2 - lam) * (1 - (1 - lam) ** (2 * t)))
+        out[active[beyond]] = t
+        active = active[~beyond]
+    return float(out.mean()), float(out.std(ddof=1) / np.sqrt(runs))
+
+
+@pytest.mark.parametrize(("shift", "runs"), [(0.5, 100_000), (1.0, 200_000), (2.0, 200_000)])
+def test_ewma_arl_for_the_limits_as_drawn_matches_a_simulation(shift, runs):
+    # Independent check: the EWMA with its exact, widening limits simulated here; within 4 standard errors
+    # of the simulation. The asymptotic-limit ARL lies well outside (44.13 against 42.71 at shift 0.5).
+    from sheettool.core.runlength.ewma import EwmaChart, drawn_limits_arl
+
+    chart = EwmaChart(0.2, 3.0)
+    mean, se = _simulated_ewma_arl(0.2, 3.0, shift, runs, seed=13)
+    assert drawn_limits_arl(chart, shift) == pytest.approx(mean, abs=4 * se)
+    assert abs(chart.arl(shift) - mean) > 8 * se
+
+
+def test_evaluate_reports_the_ewma_arl_for_the_limits_as_drawn():
+    # evaluate's in-control ARL is that of the chart as drawn (554.5 for lambda 0.2, L 3, against 559.9 for
+    # asymptotic limits); the value itself is checked against the simulation above.
+    from sheettool.core.data import Characteristic, Measurements
+    from sheettool.core.runlength.ewma import EwmaChart, drawn_limits_arl
+    from sheettool.evaluation.evaluate import evaluate
+    from sheettool.evaluation.options import EvaluationOptions
+
+    x = np.random.default_rng(5).normal(10.0, 1.0, (25, 4))
+    ch = Characteristic(name="E", data=Measurements(x), labels=[str(i + 1) for i in range(25)])
+    result = evaluate(ch, "E", EvaluationOptions(chart="ewma", shifts=(1.0,)))
+    perf = result.performance
+    assert perf.arl_in_control == pytest.approx(drawn_limits_arl(EwmaChart(0.2, 3.0), 0.0), rel=1e-12)
+    assert perf.arl_in_control == pytest.approx(554.5, abs=0.05)
+    assert perf.shifts[0].arl == pytest.approx(drawn_limits_arl(EwmaChart(0.2, 3.0), 2.0), rel=1e-12)  # 1 sd, n 4
+    assert "as drawn" in perf.method and "asymptotic limits" not in perf.method.split(";")[0]

@@ -12,10 +12,15 @@ are doubled until the ARL no longer changes in the 5th significant figure.
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 from scipy import stats
 
-from sheettool.core.runlength.markov import MarkovChart, arl_only
+from sheettool.core.parameters import EwmaParameters
+from sheettool.core.runlength.markov import MarkovChart, arl_only, zero_state_moments
+from sheettool.core.runlength.results import Performance, ShiftArl
+from sheettool.core.timing import ats_hours, false_alarms_per_month
 
 _NODES_PER_PANEL = 8
 _TOLERANCE = 2e-5  # relative change between two refinements: 4 significant figures with margin
@@ -70,3 +75,53 @@ class EwmaChart(MarkovChart):
         start = np.zeros(len(src))
         start[0] = 1.0
         return q, start
+
+
+def drawn_limits_arl(chart: EwmaChart, shift: float, sigma_ratio: float = 1.0, tail: float = 1e-10) -> float:
+    """Zero-state ARL of the EWMA with the exact limits the chart draws, which widen over the first points.
+
+    The limit at point t is h_t = L sqrt(lambda / (2 - lambda) (1 - (1 - lambda)^(2t))). The density g_t of the
+    unsignalled Z_t is carried step by step at Gauss-Legendre nodes on [-h_t, h_t] (a time-varying chain), until
+    h_t is within `tail` of the asymptotic h; from there the remaining ARL from Z = x is the asymptotic integral
+    equation's, evaluated at any x by Nystroem's interpolation L(x) = 1 + sum_j w_j f(x_j | x) L(x_j). Then
+    ARL = sum_(t < T) P(N > t) + integral g_T(x) L(x) dx.
+    """
+    lam, scale = chart.lam, chart.lam * sigma_ratio
+
+    def kernel(to: np.ndarray, frm: np.ndarray) -> np.ndarray:  # f(to | frm), rows frm
+        return stats.norm.pdf((to[None, :] - (1.0 - lam) * frm[:, None] - lam * shift) / scale) / scale
+
+    steps = max(1, int(np.ceil(np.log(tail) / (2.0 * np.log1p(-lam))))) if lam < 1.0 else 1
+    arl, x, g = 1.0, np.zeros(1), np.ones(1)  # P(N > 0) = 1; Z_0 = 0 with mass 1 (weights folded into g)
+    for t in range(1, steps + 1):
+        h_t = chart.L * np.sqrt(lam / (2.0 - lam) * -np.expm1(2.0 * t * np.log1p(-lam))) if lam < 1.0 else chart.h
+        nodes, weights = _nodes(-h_t, h_t, chart.panels)
+        g = (g @ kernel(nodes, x)) * weights  # mass at each node of the unsignalled Z_t
+        x = nodes
+        if t < steps:
+            arl += float(g.sum())
+    q, start = chart.transient(shift, sigma_ratio)
+    mu = zero_state_moments(q, start)[2][1:]  # the asymptotic ARL at its nodes (state 0 is the start)
+    remaining = 1.0 + kernel(chart.x, x) @ (chart.w * mu)
+    return arl + float(g @ remaining)
+
+
+def limits_as_drawn(performance: Performance, ewma: EwmaParameters, n: float,
+                    hours_per_month: float | None) -> Performance:
+    """The EWMA's performance with the zero-state ARL (and ATS, false alarms) for the exact limits the chart
+    draws (`drawn_limits_arl`); SDRL, percentiles and steady state stay those of the asymptotic limits, as the
+    method note then says. Shifts are in process standard deviations of subgroups of n."""
+    chart = EwmaChart(ewma.lam, ewma.L)
+    interval = performance.interval_hours
+
+    def redrawn(row: ShiftArl) -> ShiftArl:
+        arl = drawn_limits_arl(chart, row.shift * float(np.sqrt(n)))
+        return replace(row, arl=arl, ats_hours=ats_hours(arl, interval))
+
+    shifts, curve = [redrawn(r) for r in performance.shifts], [redrawn(r) for r in performance.curve]
+    arl0 = drawn_limits_arl(chart, 0.0)
+    method = performance.method.replace("; asymptotic limits", "") + (
+        "; ARL and ATS for the limits as drawn, exact and widening over the first points (a time-varying chain "
+        "joined to the asymptotic one); SDRL, percentiles and steady state for the asymptotic limits")
+    return replace(performance, method=method, arl_in_control=arl0, shifts=shifts, curve=curve,
+                   false_alarms_per_month=false_alarms_per_month(arl0, interval, hours_per_month))
