@@ -108,7 +108,8 @@ def fit_characteristic(characteristic: Characteristic, sheet: str,
                              "independent); it signals when a point crosses a limit")
     else:
         rules = parse_rules(options.rules)
-    signals = find_signals(fit, rules, characteristic.labels)
+    flat = fit.sigma_within == 0 and isinstance(characteristic.data, Measurements)  # limits on the center line
+    signals = [] if flat else find_signals(fit, rules, characteristic.labels)
     capability = capability_of(characteristic, fit, bool(signals), options)
     carried_n = (options.carried or {}).get("subgroup_size")
     if carried_n is not None and carried_n != fit.subgroup_size and isinstance(characteristic.data, Measurements):
@@ -116,8 +117,8 @@ def fit_characteristic(characteristic: Characteristic, sheet: str,
                          "the limits follow each subgroup's size from the carried mean and sigma")
     problems = [Problem("note", note, sheet=sheet) for note in fit.notes]
     if fit.sigma_within == 0:
-        collapse = ("every subgroup has zero spread: the limits collapse onto the center line; check the gauge "
-                    "resolution") if isinstance(characteristic.data, Measurements) else (
+        collapse = ("the readings do not vary in the base period (zero spread): limits collapse "
+                    "to the center line; no signals judged; check the gauge resolution") if flat else (
                     "no count in the base period: the limits collapse onto zero; give a standard value (p0, c0) "
                     "or a longer base period")
         problems.append(Problem("warning", collapse, sheet=sheet))
