@@ -40,13 +40,15 @@ def test_cp_cpk_intervals_cover_95_percent(m, n, family):
 
 
 def test_moving_range_sigma_has_fewer_degrees_of_freedom_than_n_minus_1():
-    # MR-bar / d2 from 50 individuals: Patnaik's scaled chi has about 0.62 (m - 1) degrees of freedom
-    # (the usual efficiency of MR-bar for sigma, common practice); the sample sd would have 49.
+    # MR-bar / d2 from 50 individuals: about 0.62 (m - 1) = 30 degrees of freedom (the usual effective degrees
+    # of freedom of MR-bar, recalled from memory), within 5; the sample sd would have 49.
     model = within_sigma_model(np.zeros((50, 1)), SigmaMethod.MOVING_RANGE)
-    assert model is not None and 25 < model.nu < 35
-    # R-bar / d2 for 10 subgroups of 5: about 0.9 m (n - 1) = 36 (Montgomery 2009, sec. 6.4, recalled from memory)
+    assert model is not None and model.nu == pytest.approx(0.62 * 49, abs=5)
+    # R-bar / d2 for 10 subgroups of 5: Var(R-bar / d2 / sigma) = (d3 / d2)^2 / m with d2 = 2.326, d3 = 0.864
+    # (common practice, the tabled constants for n = 5), and a chi with nu degrees of freedom has relative
+    # variance about 1 / (2 nu): nu about 36.2, within 1.5
     model = within_sigma_model(np.zeros((10, 5)), SigmaMethod.RANGE)
-    assert model is not None and model.nu == pytest.approx(36.0, abs=1.5)
+    assert model is not None and model.nu == pytest.approx(1 / (2 * (0.864 / 2.326) ** 2 / 10), abs=1.5)
     # the pooled standard deviation has exactly sum(n_i - 1) degrees of freedom
     x = np.zeros((3, 4))
     x[0, 3] = np.nan
