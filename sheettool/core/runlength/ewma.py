@@ -18,16 +18,20 @@ import numpy as np
 from scipy import stats
 
 from sheettool.core.parameters import EwmaParameters
-from sheettool.core.runlength.markov import MarkovChart, arl_only, zero_state_moments
+from sheettool.core.runlength.markov import MarkovChart, arl_only
 from sheettool.core.runlength.results import Performance, ShiftArl
 from sheettool.core.timing import ats_hours, false_alarms_per_month
 
 _NODES_PER_PANEL = 8
 _TOLERANCE = 2e-5  # relative change between two refinements: 4 significant figures with margin
+_MAX_POINTS = 100_000  # the limits-as-drawn sum is carried this far at most before its geometric tail
+
+
+_LEGENDRE = np.polynomial.legendre.leggauss(_NODES_PER_PANEL)
 
 
 def _nodes(low: float, high: float, panels: int) -> tuple[np.ndarray, np.ndarray]:
-    t, wt = np.polynomial.legendre.leggauss(_NODES_PER_PANEL)
+    t, wt = _LEGENDRE
     edges = np.linspace(low, high, panels + 1)
     half = np.diff(edges) / 2.0
     mid = (edges[:-1] + edges[1:]) / 2.0
@@ -80,30 +84,39 @@ class EwmaChart(MarkovChart):
 def drawn_limits_arl(chart: EwmaChart, shift: float, sigma_ratio: float = 1.0, tail: float = 1e-10) -> float:
     """Zero-state ARL of the EWMA with the exact limits the chart draws, which widen over the first points.
 
-    The limit at point t is h_t = L sqrt(lambda / (2 - lambda) (1 - (1 - lambda)^(2t))). The density g_t of the
-    unsignalled Z_t is carried step by step at Gauss-Legendre nodes on [-h_t, h_t] (a time-varying chain), until
-    h_t is within `tail` of the asymptotic h; from there the remaining ARL from Z = x is the asymptotic integral
-    equation's, evaluated at any x by Nystroem's interpolation L(x) = 1 + sum_j w_j f(x_j | x) L(x_j). Then
-    ARL = sum_(t < T) P(N > t) + integral g_T(x) L(x) dx.
+    The limit at point t is h_t = L sqrt(lambda / (2 - lambda) (1 - (1 - lambda)^(2t))). The mass of the
+    unsignalled Z_t is carried point by point at Gauss-Legendre nodes on [-h_t, h_t] (a time-varying chain; from
+    where h_t is within `tail` of h, the asymptotic chain's own nodes), ARL = sum_t P(N > t), until the hazard
+    P(N = t + 1 | N > t) has settled to the asymptotic chain's; the rest of the sum is then geometric.
     """
     lam, scale = chart.lam, chart.lam * sigma_ratio
 
-    def kernel(to: np.ndarray, frm: np.ndarray) -> np.ndarray:  # f(to | frm), rows frm
-        return stats.norm.pdf((to[None, :] - (1.0 - lam) * frm[:, None] - lam * shift) / scale) / scale
+    def kernel(to: np.ndarray, frm: np.ndarray) -> np.ndarray:  # f(to | frm), rows frm: the normal density
+        u = (to[None, :] - (1.0 - lam) * frm[:, None] - lam * shift) / scale
+        return np.exp(-0.5 * u * u) / (scale * np.sqrt(2.0 * np.pi))
 
-    steps = max(1, int(np.ceil(np.log(tail) / (2.0 * np.log1p(-lam))))) if lam < 1.0 else 1
-    arl, x, g = 1.0, np.zeros(1), np.ones(1)  # P(N > 0) = 1; Z_0 = 0 with mass 1 (weights folded into g)
-    for t in range(1, steps + 1):
-        h_t = chart.L * np.sqrt(lam / (2.0 - lam) * -np.expm1(2.0 * t * np.log1p(-lam))) if lam < 1.0 else chart.h
-        nodes, weights = _nodes(-h_t, h_t, chart.panels)
-        g = (g @ kernel(nodes, x)) * weights  # mass at each node of the unsignalled Z_t
-        x = nodes
-        if t < steps:
-            arl += float(g.sum())
-    q, start = chart.transient(shift, sigma_ratio)
-    mu = zero_state_moments(q, start)[2][1:]  # the asymptotic ARL at its nodes (state 0 is the start)
-    remaining = 1.0 + kernel(chart.x, x) @ (chart.w * mu)
-    return arl + float(g @ remaining)
+    widening = int(np.ceil(np.log(tail) / (2.0 * np.log1p(-lam)))) if lam < 1.0 else 0
+    arl, x, g, hazard = 1.0, np.zeros(1), np.ones(1), np.nan  # P(N > 0) = 1; Z_0 = 0 with mass 1
+    settled: np.ndarray | None = None  # the asymptotic step, once the limits have stopped widening
+    for t in range(1, _MAX_POINTS):
+        if t <= widening:
+            h_t = chart.L * np.sqrt(lam / (2.0 - lam) * -np.expm1(2.0 * t * np.log1p(-lam)))
+            nodes, weights = _nodes(-h_t, h_t, chart.panels)
+            step = kernel(nodes, x) * weights[None, :]
+        else:  # the asymptotic chain's step (the first one from the last widening nodes)
+            if settled is None and t > widening + 1:
+                settled = kernel(chart.x, chart.x) * chart.w[None, :]
+            step = kernel(chart.x, x) * chart.w[None, :] if settled is None else settled
+            nodes = chart.x
+        before, g, x = float(g.sum()), g @ step, nodes
+        survival = float(g.sum())
+        if not survival > 0.0:
+            return arl
+        new_hazard = 1.0 - survival / before
+        if t > widening and abs(new_hazard - hazard) <= max(1e-10 * new_hazard, 1e-14):
+            return arl + survival / new_hazard  # sum_j P(N > t) (1 - hazard)^j
+        arl, hazard = arl + survival, new_hazard
+    return arl + survival / hazard
 
 
 def limits_as_drawn(performance: Performance, ewma: EwmaParameters, n: float,
