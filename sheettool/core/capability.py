@@ -13,7 +13,8 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import stats
 
-from sheettool.core.sigma import SigmaMethod
+from sheettool.core.constants import c4
+from sheettool.core.sigma import SigmaEstimator, SigmaMethod, sigma_estimator
 
 
 @dataclass(frozen=True)
@@ -128,18 +129,48 @@ def _ppm(mean: float, sigma: float, lsl: float | None, usl: float | None) -> flo
     return float(1e6 * (low + high))
 
 
-def cp_interval(cp: float, nu: int, confidence: float) -> Interval:
-    """Chi-square interval for Cp with nu degrees of freedom (Kane 1986; Montgomery 2009, eq. 8.19)."""
+def cp_interval(cp: float, nu: float, confidence: float, scale: float = 1.0) -> Interval:
+    """Chi-square interval for Cp when sigma_hat / sigma is scale * chi_nu / sqrt(nu) (Kane 1986; Montgomery
+    2009, eq. 8.19 with scale 1, the sample standard deviation; Patnaik's (1950) scaled chi otherwise)."""
     alpha = 1 - confidence
-    return Interval(cp * float(np.sqrt(stats.chi2.ppf(alpha / 2, nu) / nu)),
-                    cp * float(np.sqrt(stats.chi2.ppf(1 - alpha / 2, nu) / nu)))
+    return Interval(cp * scale * float(np.sqrt(stats.chi2.ppf(alpha / 2, nu) / nu)),
+                    cp * scale * float(np.sqrt(stats.chi2.ppf(1 - alpha / 2, nu) / nu)))
 
 
-def cpk_interval(cpk: float, n: int, confidence: float) -> Interval:
-    """Normal-approximation interval for Cpk from n readings (Bissell 1990)."""
+def cpk_interval(cpk: float, n: int, confidence: float, nu: float | None = None) -> Interval:
+    """Normal-approximation interval for Cpk from n readings (Bissell 1990), sigma with nu degrees of
+    freedom (n - 1 for the sample standard deviation)."""
+    nu = n - 1 if nu is None else nu
     z = float(stats.norm.ppf(1 - (1 - confidence) / 2))
-    half = z * float(np.sqrt(1 / (9 * n) + cpk * cpk / (2 * (n - 1))))
+    half = z * float(np.sqrt(1 / (9 * n) + cpk * cpk / (2 * nu)))
     return Interval(cpk - half, cpk + half)
+
+
+def within_sigma_model(readings: np.ndarray, method: SigmaMethod | None) -> SigmaEstimator | None:
+    """The distribution of the within sigma_hat / sigma for readings as (subgroups, n) under `method`, or None
+    when the method is not known (the sample standard deviation is then assumed).
+
+    Pooled standard deviation / c4: exact, chi with sum(n_i - 1) degrees of freedom. R-bar / d2, S-bar / c4,
+    MR-bar / d2: Patnaik's (1950) scaled chi with the estimator's exact mean and variance (core/sigma.py);
+    R / d2 with varying sizes is modelled at the usual subgroup size.
+    """
+    x = np.asarray(readings, dtype=float)
+    if method is None or x.ndim != 2:
+        return None
+    sizes = np.sum(~np.isnan(x), axis=1)
+    sizes = sizes[sizes > 0]
+    if method is SigmaMethod.MOVING_RANGE:
+        return sigma_estimator(int(sizes.size), 1, method) if sizes.size >= 2 else None
+    sizes = sizes[sizes >= 2]
+    if sizes.size == 0:
+        return None
+    if method is SigmaMethod.POOLED:
+        nu = int(np.sum(sizes - 1))
+        return SigmaEstimator(method, float(nu), 1.0 / c4(nu + 1), 0.0, exact=True)
+    if sizes.size < 2 or method.modelled is None:
+        return None
+    n = int(np.bincount(sizes).argmax())
+    return sigma_estimator(int(sizes.size), n, method.modelled)
 
 
 def process_capability(readings: np.ndarray, sigma_within: float, lsl: float | None, usl: float | None,
@@ -161,15 +192,19 @@ def process_capability(readings: np.ndarray, sigma_within: float, lsl: float | N
     cpm = None
     if lsl is not None and usl is not None and target is not None and overall > 0:
         cpm = (usl - lsl) / (6 * float(np.sqrt(overall**2 + (mean - target) ** 2)))
-    # intervals with nu = n - 1 for every index (common practice; exact for Pp, approximate for Cp
-    # whose within sigma comes from ranges or subgroup deviations)
+    # Pp, Ppk: the sample standard deviation, nu = n - 1; Cp, Cpk: the degrees of freedom (and scale) of the
+    # within-sigma estimator actually used, which for ranges are fewer than n - 1
+    model = within_sigma_model(readings, sigma_method)
+    nu, scale = (model.nu, model.scale) if model is not None else (n - 1, 1.0)
     ci = {}
-    for name, value, form in (("cp", cp, "chi2"), ("pp", pp, "chi2"), ("cpk", cpk, "bissell"),
-                              ("ppk", ppk, "bissell")):
+    for name, value, dof, factor, form in (("cp", cp, nu, scale, "chi2"), ("pp", pp, n - 1, 1.0, "chi2"),
+                                           ("cpk", cpk, nu, scale, "bissell"), ("ppk", ppk, n - 1, 1.0, "bissell")):
         if value is not None:
-            ci[name] = cp_interval(value, n - 1, confidence) if form == "chi2" else cpk_interval(value, n, confidence)
+            ci[name] = (cp_interval(value, dof, confidence, factor) if form == "chi2"
+                        else cpk_interval(value, n, confidence, dof))
     within = sigma_method.words if sigma_method else "as the chart"
-    notes = [f"from {n} readings; within sigma {within}, overall sigma the "
+    dof_words = f"{nu:.1f} degrees of freedom" + (", Patnaik's scaled chi" if model and not model.exact else "")
+    notes = [f"from {n} readings; within sigma {within} (Cp and Cpk intervals with {dof_words}), overall sigma the "
              "sample standard deviation; expected ppm out of spec under a normal model with the overall sigma"]
     if not sigma_within > 0 or not overall > 0:
         notes.append("the readings have no spread: the indices are undefined; check the gauge resolution")

@@ -25,6 +25,7 @@ PRESETS: dict[str, str] = {
 
 _ZONE = re.compile(r"^(\d+)\s*/\s*(\d+)\s*(>>|>|<)\s*(\d+(?:\.\d*)?|\.\d+)$")
 _RUN = re.compile(r"^(trend|alternate)\s+(\d+)$")
+LIMIT_ULPS = 4  # a value this close to a limit, in units in the last place, lies on it
 
 
 @dataclass(frozen=True)
@@ -134,6 +135,26 @@ def find_hits(z: np.ndarray, rules: list[Rule]) -> list[Hit]:
             hits.append(Hit(rule, int(present[end]), tuple(int(present[i]) for i in members)))
     hits.sort(key=lambda h: (h.point, rules.index(h.rule)))
     return hits
+
+
+def on_limit(values: np.ndarray, limit: np.ndarray | float) -> np.ndarray:
+    """True where a value equals a limit as computed, to LIMIT_ULPS units in the last place of the larger (a
+    reading stored as the displayed limit lies on it, whatever the rounding of the limit's arithmetic)."""
+    values, limit = np.asarray(values, dtype=float), np.asarray(limit, dtype=float)
+    with np.errstate(invalid="ignore"):
+        return np.abs(values - limit) <= LIMIT_ULPS * np.spacing(np.maximum(np.abs(values), np.abs(limit)))
+
+
+def standardized(values: np.ndarray, center: np.ndarray, se: np.ndarray, rules: list[Rule]) -> np.ndarray:
+    """(values - center) / se for the rules, with a point on a rule's threshold center ± Z se (compared in data
+    units by `on_limit`) set to exactly ±Z: on a limit is neither beyond nor within, for every rule alike."""
+    values = np.asarray(values, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        z = (values - center) / se
+    for level in sorted({r.z for r in rules if r.is_zone}):
+        for sign in (1.0, -1.0) if level > 0 else (1.0,):
+            z = np.where(on_limit(values, center + sign * level * se), sign * level, z)
+    return z
 
 
 def zone_flags(rule: Rule, z: np.ndarray) -> list[np.ndarray]:

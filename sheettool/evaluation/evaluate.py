@@ -16,7 +16,9 @@ from sheettool.core.charts.base import typical_size
 from sheettool.core.charts.variables import within_sigma
 from sheettool.core.data import Characteristic, Counts, Measurements
 from sheettool.core.limits import fit_limits
-from sheettool.core.rules import Rule, find_hits, parse_rules
+from sheettool.core.parameters import EwmaParameters
+from sheettool.core.rules import Rule, find_hits, parse_rules, standardized
+from sheettool.core.runlength.ewma import limits_as_drawn
 from sheettool.core.runlength.scheme import performance_of
 from sheettool.evaluation.carried import carried_parameters
 from sheettool.evaluation.checks import scheme_checks
@@ -106,7 +108,8 @@ def fit_characteristic(characteristic: Characteristic, sheet: str,
                              "independent); it signals when a point crosses a limit")
     else:
         rules = parse_rules(options.rules)
-    signals = find_signals(fit, rules, characteristic.labels)
+    flat = fit.sigma_within == 0 and isinstance(characteristic.data, Measurements)  # limits on the center line
+    signals = [] if flat else find_signals(fit, rules, characteristic.labels)
     capability = capability_of(characteristic, fit, bool(signals), options)
     carried_n = (options.carried or {}).get("subgroup_size")
     if carried_n is not None and carried_n != fit.subgroup_size and isinstance(characteristic.data, Measurements):
@@ -114,8 +117,8 @@ def fit_characteristic(characteristic: Characteristic, sheet: str,
                          "the limits follow each subgroup's size from the carried mean and sigma")
     problems = [Problem("note", note, sheet=sheet) for note in fit.notes]
     if fit.sigma_within == 0:
-        collapse = ("every subgroup has zero spread: the limits collapse onto the center line; check the gauge "
-                    "resolution") if isinstance(characteristic.data, Measurements) else (
+        collapse = ("the readings do not vary in the base period (zero spread): limits collapse "
+                    "to the center line; no signals judged; check the gauge resolution") if flat else (
                     "no count in the base period: the limits collapse onto zero; give a standard value (p0, c0) "
                     "or a longer base period")
         problems.append(Problem("warning", collapse, sheet=sheet))
@@ -130,6 +133,9 @@ def assess(fitted: Fitted, options: EvaluationOptions | None = None) -> Assessme
     """How the fitted scheme behaves (run lengths at the shifts), and the extra checks on it."""
     options = options or EvaluationOptions()
     performance = performance_of(fitted.fit, fitted.rules, options)
+    if fitted.fit.chart == "ewma":  # the ARL of the exact, widening limits the chart draws
+        performance = limits_as_drawn(performance, EwmaParameters.from_mapping(fitted.fit.parameters),
+                                      fitted.fit.parameters["n"], options.hours_per_month)
     checks = scheme_checks(fitted.characteristic, fitted.fit, fitted.rules, performance, options, fitted.sheet)
     return Assessment(performance=performance, estimated_limits=checks.estimated_limits,
                       data_shape=checks.data_shape, requirements_check=checks.requirements,
@@ -158,9 +164,7 @@ def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Si
     """Apply the rules to each plotted statistic in standard-error units."""
     signals: list[Signal] = []
     for stat in fit.statistics:
-        with np.errstate(divide="ignore", invalid="ignore"):
-            z = (stat.values - stat.center) / stat.sigma
-        for hit in find_hits(z, rules):
+        for hit in find_hits(standardized(stat.values, stat.center, stat.sigma, rules), rules):
             signals.append(Signal(
                 subgroup=hit.point + 1,
                 label=labels[hit.point],

@@ -20,6 +20,7 @@ from sheettool.core.design import (
     ewma_limit_width,
 )
 from sheettool.core.parameters import EwmaParameters
+from sheettool.core.runlength.ewma import EwmaChart, drawn_limits_arl
 from sheettool.demo.scenario import BUNDLED
 from sheettool.evaluation.checks import ASSURANCE_TOLERANCE
 from sheettool.evaluation.evaluate import evaluate
@@ -227,15 +228,17 @@ def test_standard_values_have_no_estimated_limits_and_bad_requirements_become_a_
 
 
 def test_requirements_on_a_time_weighted_chart_use_its_own_run_length():
-    # EWMA lambda 0.2, L 2.962 on single readings: ARL 10.5 at 1 sigma (Lucas and Saccucci 1990, recalled from
-    # memory), so 10.5 h at one reading an hour meets 12 h and misses 8 h.
+    # EWMA lambda 0.2, L 2.962 on single readings: ARL 10.5 at 1 sigma for asymptotic limits (Lucas and Saccucci
+    # 1990, recalled from memory), 9.55 for the limits as drawn (simulated in tests/core/test_numerics.py), so
+    # 9.55 h at one reading an hour meets 12 h and misses 8 h; in control 494.4 as drawn (500 asymptotic).
+    assert EwmaChart(0.2, 2.962).arl(1.0) == pytest.approx(10.5, rel=0.015)
     values = np.random.default_rng(9).normal(10.0, 1.0, (40, 1))
     for hours, met in ((12.0, True), (8.0, False)):
         options = EvaluationOptions(chart="ewma", ewma=EwmaParameters(0.2, 2.962), interval_hours=1.0,
-                                    requirements={"shift": 1.0, "detect_hours": hours, "arl_in_control": 500.0})
+                                    requirements={"shift": 1.0, "detect_hours": hours, "arl_in_control": 490.0})
         check = evaluate(_characteristic(values), "s", options).requirements_check
         items = {i.name: i for i in check.items}
-        assert items["detect_hours"].achieved == pytest.approx(10.5, rel=0.015)
+        assert items["detect_hours"].achieved == pytest.approx(drawn_limits_arl(EwmaChart(0.2, 2.962), 1.0), rel=1e-9)
         assert items["detect_hours"].met is met and items["arl_in_control"].met is True
 
 

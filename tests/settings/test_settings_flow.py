@@ -11,6 +11,8 @@ import xlsxwriter
 from scipy import stats
 
 from sheettool.core.design import REQUIREMENT_KEYS
+from sheettool.core.runlength.ewma import EwmaChart, drawn_limits_arl
+from sheettool.core.sigma import sigma_estimator
 from sheettool.evaluation.options import options_for
 from sheettool.settings import KNOWN_SETTINGS, Setting, setting_name
 from sheettool.settings.convert import convert
@@ -140,10 +142,13 @@ def test_ewma_parameters_flow_from_labelled_cells_and_set(run_cli, tmp_path):
     char = _one(run_cli, path, tmp_path)
     perf = {s["shift"]: s["arl"] for s in char["performance"]["shifts"]}
     # Lucas and Saccucci (1990): lambda 0.25, L 2.998 -> ARL 500 in control, 11.1 at 1 sigma (recalled from memory,
-    # tests/reference/published-values.md; printed to 3 figures, so 1.5%)
+    # tests/reference/published-values.md; printed to 3 figures, so 1.5%) for asymptotic limits; evaluate gives
+    # the ARL for the limits as drawn (checked by simulation in tests/core/test_numerics.py)
     assert char["chart"] == "ewma"
-    assert char["performance"]["arl_in_control"] == pytest.approx(500, rel=0.015)
-    assert perf[1.0] == pytest.approx(11.1, rel=0.015)
+    chart = EwmaChart(0.25, 2.998)
+    assert chart.arl(0.0) == pytest.approx(500, rel=0.015) and chart.arl(1.0) == pytest.approx(11.1, rel=0.015)
+    assert char["performance"]["arl_in_control"] == pytest.approx(drawn_limits_arl(chart, 0.0), rel=1e-9)
+    assert perf[1.0] == pytest.approx(drawn_limits_arl(chart, 1.0), rel=1e-9)
     # the limits themselves: center +/- L sigma sqrt(lambda/(2-lambda) (1-(1-lambda)^2i)) (Lucas and Saccucci 1990)
     stat = next(iter(char["limits"].values()))
     sigma = (stat["ucl"][-1] - stat["center"]) / (2.998 * np.sqrt(0.25 / 1.75 * (1 - 0.75 ** 80)))
@@ -204,9 +209,12 @@ def test_confidence_from_a_cell_and_revise_from_the_settings_sheet(run_cli, tmp_
     char = _one(run_cli, path, tmp_path)
     cap = char["capability"]
     assert char["settings"]["confidence"]["value"] == 0.9 and cap["confidence"] == 0.9
-    # Cp interval at 90%: Cp sqrt(chi2_{0.05, nu} / nu) .. Cp sqrt(chi2_{0.95, nu} / nu), nu = N - 1 (Kane 1986)
-    nu = 150 - 1
-    low, high = (cap["cp"] * np.sqrt(stats.chi2.ppf(q, nu) / nu) for q in (0.05, 0.95))
+    # Cp interval at 90%: Cp a sqrt(chi2_{0.05, nu} / nu) .. Cp a sqrt(chi2_{0.95, nu} / nu) (Kane 1986), nu and a
+    # those of R-bar / d2 for 30 subgroups of 5 (Patnaik 1950; coverage simulated in
+    # tests/evaluation/test_capability_intervals.py)
+    model = sigma_estimator(30, 5, "range")
+    nu = model.nu
+    low, high = (cap["cp"] * model.scale * np.sqrt(stats.chi2.ppf(q, nu) / nu) for q in (0.05, 0.95))
     assert cap["ci"]["cp"] == pytest.approx([low, high], rel=1e-6)
     assert 7 in [r["subgroup"] if isinstance(r, dict) else r for r in char["removed"]]
     assert char["settings"]["revise"]["origin"] == "settings sheet row 1"

@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from sheettool.core.data import Characteristic, Counts, Measurements
+from sheettool.core.rules import on_limit
 from sheettool.core.sigma import SigmaMethod
 
 SIGMA_WIDTH = 3.0  # Shewhart's 3-sigma limits (Shewhart 1931)
@@ -152,9 +153,9 @@ def typical_size(sizes: np.ndarray) -> int:
 
 
 def beyond_limits(fit: ChartFit) -> np.ndarray:
-    """True at each point where any plotted statistic lies outside its limits."""
+    """True at each point where any plotted statistic lies outside its limits (on a limit is not beyond)."""
     out = np.zeros(len(fit.base), dtype=bool)
     for s in fit.statistics:
         with np.errstate(invalid="ignore"):
-            out |= (s.values > s.ucl) | (s.values < s.lcl)
+            out |= ((s.values > s.ucl) & ~on_limit(s.values, s.ucl)) | ((s.values < s.lcl) & ~on_limit(s.values, s.lcl))
     return out

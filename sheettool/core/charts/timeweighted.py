@@ -97,8 +97,8 @@ class Cusum(_TimeWeighted):
         reference = float(params.get("reference", mu))
         upper, lower = np.full(len(x), np.nan), np.full(len(x), np.nan)
         hi = lo = 0.0
-        with np.errstate(divide="ignore", invalid="ignore"):
-            y = (x - reference) / (sigma / np.sqrt(sizes))
+        with np.errstate(divide="ignore", invalid="ignore"):  # no sum over a zero sigma: nothing plotted
+            y = (x - reference) / (sigma / np.sqrt(sizes)) if sigma > 0 else np.full(len(x), np.nan)
         for i, yi in enumerate(y):
             if not np.isnan(yi):
                 hi = max(0.0, yi - k + hi)

@@ -12,17 +12,26 @@ are doubled until the ARL no longer changes in the 5th significant figure.
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 from scipy import stats
 
+from sheettool.core.parameters import EwmaParameters
 from sheettool.core.runlength.markov import MarkovChart, arl_only
+from sheettool.core.runlength.results import Performance, ShiftArl
+from sheettool.core.timing import ats_hours, false_alarms_per_month
 
 _NODES_PER_PANEL = 8
 _TOLERANCE = 2e-5  # relative change between two refinements: 4 significant figures with margin
+_MAX_POINTS = 100_000  # the limits-as-drawn sum is carried this far at most before its geometric tail
+
+
+_LEGENDRE = np.polynomial.legendre.leggauss(_NODES_PER_PANEL)
 
 
 def _nodes(low: float, high: float, panels: int) -> tuple[np.ndarray, np.ndarray]:
-    t, wt = np.polynomial.legendre.leggauss(_NODES_PER_PANEL)
+    t, wt = _LEGENDRE
     edges = np.linspace(low, high, panels + 1)
     half = np.diff(edges) / 2.0
     mid = (edges[:-1] + edges[1:]) / 2.0
@@ -70,3 +79,62 @@ class EwmaChart(MarkovChart):
         start = np.zeros(len(src))
         start[0] = 1.0
         return q, start
+
+
+def drawn_limits_arl(chart: EwmaChart, shift: float, sigma_ratio: float = 1.0, tail: float = 1e-10) -> float:
+    """Zero-state ARL of the EWMA with the exact limits the chart draws, which widen over the first points.
+
+    The limit at point t is h_t = L sqrt(lambda / (2 - lambda) (1 - (1 - lambda)^(2t))). The mass of the
+    unsignalled Z_t is carried point by point at Gauss-Legendre nodes on [-h_t, h_t] (a time-varying chain; from
+    where h_t is within `tail` of h, the asymptotic chain's own nodes), ARL = sum_t P(N > t), until the hazard
+    P(N = t + 1 | N > t) has settled to the asymptotic chain's; the rest of the sum is then geometric.
+    """
+    lam, scale = chart.lam, chart.lam * sigma_ratio
+
+    def kernel(to: np.ndarray, frm: np.ndarray) -> np.ndarray:  # f(to | frm), rows frm: the normal density
+        u = (to[None, :] - (1.0 - lam) * frm[:, None] - lam * shift) / scale
+        return np.exp(-0.5 * u * u) / (scale * np.sqrt(2.0 * np.pi))
+
+    widening = int(np.ceil(np.log(tail) / (2.0 * np.log1p(-lam)))) if lam < 1.0 else 0
+    arl, x, g, hazard = 1.0, np.zeros(1), np.ones(1), np.nan  # P(N > 0) = 1; Z_0 = 0 with mass 1
+    settled: np.ndarray | None = None  # the asymptotic step, once the limits have stopped widening
+    for t in range(1, _MAX_POINTS):
+        if t <= widening:
+            h_t = chart.L * np.sqrt(lam / (2.0 - lam) * -np.expm1(2.0 * t * np.log1p(-lam)))
+            nodes, weights = _nodes(-h_t, h_t, chart.panels)
+            step = kernel(nodes, x) * weights[None, :]
+        else:  # the asymptotic chain's step (the first one from the last widening nodes)
+            if settled is None and t > widening + 1:
+                settled = kernel(chart.x, chart.x) * chart.w[None, :]
+            step = kernel(chart.x, x) * chart.w[None, :] if settled is None else settled
+            nodes = chart.x
+        before, g, x = float(g.sum()), g @ step, nodes
+        survival = float(g.sum())
+        if not survival > 0.0:
+            return arl
+        new_hazard = 1.0 - survival / before
+        if t > widening and abs(new_hazard - hazard) <= max(1e-10 * new_hazard, 1e-14):
+            return arl + survival / new_hazard  # sum_j P(N > t) (1 - hazard)^j
+        arl, hazard = arl + survival, new_hazard
+    return arl + survival / hazard
+
+
+def limits_as_drawn(performance: Performance, ewma: EwmaParameters, n: float,
+                    hours_per_month: float | None) -> Performance:
+    """The EWMA's performance with the zero-state ARL (and ATS, false alarms) for the exact limits the chart
+    draws (`drawn_limits_arl`); SDRL, percentiles and steady state stay those of the asymptotic limits, as the
+    method note then says. Shifts are in process standard deviations of subgroups of n."""
+    chart = EwmaChart(ewma.lam, ewma.L)
+    interval = performance.interval_hours
+
+    def redrawn(row: ShiftArl) -> ShiftArl:
+        arl = drawn_limits_arl(chart, row.shift * float(np.sqrt(n)))
+        return replace(row, arl=arl, ats_hours=ats_hours(arl, interval))
+
+    shifts, curve = [redrawn(r) for r in performance.shifts], [redrawn(r) for r in performance.curve]
+    arl0 = drawn_limits_arl(chart, 0.0)
+    method = performance.method.replace("; asymptotic limits", "") + (
+        "; ARL and ATS for the limits as drawn, exact and widening over the first points (a time-varying chain "
+        "joined to the asymptotic one); SDRL, percentiles and steady state for the asymptotic limits")
+    return replace(performance, method=method, arl_in_control=arl0, shifts=shifts, curve=curve,
+                   false_alarms_per_month=false_alarms_per_month(arl0, interval, hours_per_month))

@@ -11,6 +11,11 @@ The zero-state ARL starts from the chart's own start state. The steady-state ARL
 in control for a long time without a false alarm when the shift happens, so the starting
 distribution is the quasi-stationary distribution of the in-control chain, the normalized left
 Perron eigenvector of Q_in-control (Darroch and Seneta 1965). The first shifted point is point 1.
+
+A chain that almost never signals (ARL beyond about 1e7, e.g. a within-band rule alone after a large shift) makes
+I - Q nearly singular: its rows sum to the tiny signal probability, which a plain LU solve loses to cancellation.
+A chart that knows its exit (signal) probabilities exactly supplies them (`exits`), and such a solve is redone by
+state reduction without subtraction (Grassmann, Taksar and Heyman 1985), accurate to rounding at any ARL.
 """
 
 from __future__ import annotations
@@ -25,6 +30,8 @@ from scipy.sparse.linalg import splu
 
 PERCENTILES: tuple[int, ...] = (5, 50, 95)
 _MAX_STEPS = 200_000  # survival is iterated this far at most, then extended geometrically
+TRUSTED_ARL = 1e7  # above this (or a failed LU) the solve is redone without subtraction where exits are known
+STABLE_MAX_STATES = 1500  # the subtraction-free solve is dense, O(states^3); larger chains report inf there
 
 
 @dataclass(frozen=True)
@@ -60,23 +67,84 @@ def _identity_minus(q: Matrix) -> Matrix:
     return sparse.identity(size, format="csc") - q if sparse.issparse(q) else np.eye(size) - q
 
 
-def zero_state_moments(q: Matrix, start: np.ndarray) -> tuple[float, float, np.ndarray]:
-    """Zero-state ARL, SDRL and the ARL vector mu of every transient state."""
-    solve = _solver(_identity_minus(q))
+def zero_state_moments(q: Matrix, start: np.ndarray,
+                       exits: np.ndarray | None = None) -> tuple[float, float, np.ndarray]:
+    """Zero-state ARL, SDRL and the ARL vector mu of every transient state (exits: see `absorbing_solve`)."""
     ones = np.ones(q.shape[0])
-    mu = solve(ones)
-    second = solve(ones + 2.0 * (q @ mu))
+    try:
+        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+            solve = _solver(_identity_minus(q))
+            mu = solve(ones)
+            second = solve(ones + 2.0 * (q @ mu))
+    except (RuntimeError, linalg.LinAlgError):  # exactly singular to working precision
+        mu = second = np.full(q.shape[0], np.inf)
     arl = float(start @ mu)
+    if not (np.all(np.isfinite(mu)) and np.all(mu > 0) and arl <= TRUSTED_ARL) and exits is not None:
+        if q.shape[0] > STABLE_MAX_STATES:
+            return float("inf"), float("inf"), np.full(q.shape[0], np.inf)
+        factors = _reduction(q, exits)
+        mu = _reduced_solve(factors, ones)
+        second = _reduced_solve(factors, ones + 2.0 * (q @ mu))
+        arl = float(start @ mu)
     var = float(start @ second) - arl * arl
     return arl, float(np.sqrt(max(var, 0.0))), mu
 
 
-def arl_only(q: Matrix, start: np.ndarray) -> float:
+def arl_only(q: Matrix, start: np.ndarray, exits: np.ndarray | None = None) -> float:
     """Zero-state ARL alone (one linear solve), for fine curves; inf when the chain can never signal
     (I - Q singular to working precision, e.g. the far side of a CUSUM after a large shift)."""
-    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-        arl = float(start @ _solver(_identity_minus(q))(np.ones(q.shape[0])))
+    try:
+        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+            arl = float(start @ _solver(_identity_minus(q))(np.ones(q.shape[0])))
+    except (RuntimeError, linalg.LinAlgError):
+        arl = float("nan")
+    if not (np.isfinite(arl) and 0 < arl <= TRUSTED_ARL) and exits is not None:
+        return absorbing_arl(q, start, exits)
     return arl if np.isfinite(arl) and arl > 0 else float("inf")
+
+
+def absorbing_arl(q: Matrix, start: np.ndarray, exits: np.ndarray) -> float:
+    """Zero-state ARL by the subtraction-free solve; inf for a chain over STABLE_MAX_STATES states."""
+    if q.shape[0] > STABLE_MAX_STATES:
+        return float("inf")
+    return float(start @ _reduced_solve(_reduction(q, exits), np.ones(q.shape[0])))
+
+
+def _reduction(q: Matrix, exits: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The factors of I - Q by Gaussian elimination without subtraction, for exits = each state's exact signal
+    probability: the censored chains' entries in place of Q, and the pivots.
+
+    Eliminating in state order leaves as trailing block I minus the chain censored on the states left, whose pivot
+    1 - Q_kk is its exit plus its off-diagonal row sum (Grassmann, Taksar and Heyman 1985); every step adds and
+    multiplies nonnegative numbers, so the solve keeps full relative accuracy.
+    """
+    a = q.toarray() if sparse.issparse(q) else np.array(q, dtype=float)
+    e = np.array(exits, dtype=float)
+    size = a.shape[0]
+    pivots = np.empty(size)
+    for k in range(size):
+        pivots[k] = e[k] + a[k, k + 1:].sum()
+        if pivots[k] <= 0.0:  # the states left can never signal
+            pivots[k:] = 0.0
+            break
+        col = a[k + 1:, k] / pivots[k]
+        a[k + 1:, k + 1:] += np.outer(col, a[k, k + 1:])
+        e[k + 1:] += col * e[k]
+    return a, pivots
+
+
+def _reduced_solve(factors: tuple[np.ndarray, np.ndarray], b: np.ndarray) -> np.ndarray:
+    """Forward and back substitution with the factors of `_reduction` (all terms nonnegative for b >= 0)."""
+    a, pivots = factors
+    size = a.shape[0]
+    y = np.array(b, dtype=float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for k in range(size):
+            y[k + 1:] += a[k + 1:, k] * (y[k] / pivots[k])
+        x = np.empty(size)
+        for k in range(size - 1, -1, -1):
+            x[k] = (y[k] + a[k, k + 1:] @ x[k + 1:]) / pivots[k]
+    return np.where(np.isnan(x), np.inf, x)
 
 
 def quasi_stationary(q: Matrix) -> np.ndarray:
@@ -97,31 +165,34 @@ def quasi_stationary(q: Matrix) -> np.ndarray:
     return v
 
 
-def run_length_percentiles(q: np.ndarray, start: np.ndarray,
-                           levels: tuple[int, ...] = PERCENTILES) -> dict[int, float]:
+def run_length_percentiles(q: np.ndarray, start: np.ndarray, levels: tuple[int, ...] = PERCENTILES,
+                           exits: np.ndarray | None = None) -> dict[int, float]:
     """Run-length percentiles from the survival function P(N > t) = s0 Q^t 1 (Fu and Lou 2003).
 
-    Once the survival ratio P(N > t + 1) / P(N > t) has settled to the chain's Perron root, the
-    far tail is geometric and the remaining percentiles are read from it in closed form.
+    Once the hazard P(N = t + 1 | N > t) has settled to 1 - the chain's Perron root, the far tail is
+    geometric and the remaining percentiles are read from it in closed form; with exact `exits` the
+    hazard is s_t . exits / P(N > t), exact even when it is far below rounding of 1.
     """
     targets = sorted(levels)
     out: dict[int, float] = {}
     s = np.asarray(start, dtype=float)
-    survival, ratio = 1.0, np.nan
+    survival, hazard = 1.0, np.nan
     t = 0
     while targets and t < _MAX_STEPS and survival > 0.0:
+        leaving = float(s @ exits) if exits is not None else None
         s = s @ q
         t += 1
         new = float(s.sum())
-        new_ratio = new / survival
+        new_hazard = 1.0 - new / survival if leaving is None else leaving / survival
         survival = new
         while targets and 1.0 - survival >= targets[0] / 100.0 - 1e-12:
             out[targets.pop(0)] = float(t)
-        if targets and t > 20 and abs(new_ratio - ratio) < 1e-11 and 0.0 < new_ratio < 1.0:
-            for level in targets:  # geometric tail: survival * ratio^j <= 1 - level / 100
-                out[level] = float(t + np.ceil(np.log((1.0 - level / 100.0) / survival) / np.log(new_ratio)))
+        change = abs(new_hazard - hazard)
+        if targets and t > 20 and change < 1e-11 and change <= 1e-6 * new_hazard and 0.0 < new_hazard < 1.0:
+            for level in targets:  # geometric tail: survival * (1 - hazard)^j <= 1 - level / 100
+                out[level] = float(t + np.ceil(np.log((1.0 - level / 100.0) / survival) / np.log1p(-new_hazard)))
             targets = []
-        ratio = new_ratio
+        hazard = new_hazard
     for level in targets:
         out[level] = float("inf")
     return {level: out[level] for level in levels}
@@ -151,16 +222,22 @@ class MarkovChart:
             self._steady = quasi_stationary(self.in_control_chain()[0])
         return self._steady
 
+    def exits(self, shift: float, sigma_ratio: float) -> np.ndarray | None:
+        """The exact signal probability of each transient state (1 - row sums of Q without the cancellation),
+        or None where the chart cannot give it; with it, near-singular chains are solved without subtraction."""
+        return None
+
     def arl(self, shift: float, sigma_ratio: float = 1.0) -> float:
         """Zero-state ARL only."""
-        return arl_only(*self.transient(shift, sigma_ratio))
+        return arl_only(*self.transient(shift, sigma_ratio), self.exits(shift, sigma_ratio))
 
     def run_length(self, shift: float, sigma_ratio: float = 1.0, percentiles: bool = True) -> RunLength:
         """Zero-state ARL, SDRL, percentiles and conditional steady-state ARL."""
         q, start = self.transient(shift, sigma_ratio)
-        arl, sdrl, mu = zero_state_moments(q, start)
+        exits = self.exits(shift, sigma_ratio)
+        arl, sdrl, mu = zero_state_moments(q, start, exits)
         steady = float(self.steady_start() @ mu)
-        pct = run_length_percentiles(q, start) if percentiles and np.isfinite(arl) else None
+        pct = run_length_percentiles(q, start, exits=exits) if percentiles and np.isfinite(arl) else None
         return RunLength(arl=arl, sdrl=sdrl, percentiles=pct, steady_state_arl=steady)
 
 
@@ -184,3 +261,9 @@ class WithCompanion(MarkovChart):
         """The chart's in-control chain, scaled by the companion's in-control probability of no signal."""
         q, start = self.chart.in_control_chain()
         return q * (1.0 - self.companion(0.0, 1.0)), start
+
+    def exits(self, shift: float, sigma_ratio: float) -> np.ndarray | None:
+        """Either signals: the chart's exit e, or the companion's p where the chart does not, e + p (1 - e)."""
+        e = self.chart.exits(shift, sigma_ratio)
+        p = self.companion(shift, sigma_ratio)
+        return None if e is None else e + p * (1.0 - e)

@@ -75,6 +75,7 @@ class ZoneChain(MarkovChart):
         self.cuts, self.next, self.start_state = _structure(tuple(zone))
         self._rows, self._cells = np.nonzero(self.next >= 0)
         self._cols = self.next[self._rows, self._cells]
+        self._signals = (self.next < 0).astype(float)  # per state and cell: 1 where the point signals
 
     @property
     def states(self) -> int:
@@ -98,6 +99,10 @@ class ZoneChain(MarkovChart):
     def in_control_chain(self) -> tuple[sparse.csc_matrix, np.ndarray]:
         """The chain at the in-control condition."""
         return self.transient(*self.in_control)
+
+    def exits(self, shift: float, sigma_ratio: float) -> np.ndarray:
+        """Each state's signal probability, summed over the cells that signal from it (no 1 - row sum)."""
+        return self._signals @ self.cell_probabilities(shift, sigma_ratio)
 
 
 def normal_cell_probabilities(cuts: np.ndarray, shift: float, sigma_ratio: float) -> np.ndarray:

@@ -20,7 +20,8 @@ _DEFECTS = re.compile(r"\b(defects?|defect count|nonconformit(?:y|ies)|faults?|f
 _DEFECTIVES = re.compile(r"\b(defectives?|rejects?|rejected|fail(?:s|ed|ures?)?|nonconforming|non-conforming|"
                          r"scrap(?:ped)?|bad|nok)\b", re.IGNORECASE)
 _INSPECTED = re.compile(r"\b(inspected|tested|checked|examined|sample size|units|quantity|qty|lot size|"
-                        r"produced|n)\b", re.IGNORECASE)
+                        r"produced|area|n)\b", re.IGNORECASE)
+_SIZED_CHARTS = ("u",)  # a chart whose points are counts per unit: the other number column is the units inspected
 _KEY = re.compile(r"(\b(subgroup|sample|lot|batch|point|shift|serial|id|no|nr|number|index|group|order)\b|#)",
                   re.IGNORECASE)
 _OPERATOR = re.compile(r"\b(operator|inspector|setter|checked by|by|initials|name)\b", re.IGNORECASE)
@@ -61,14 +62,20 @@ class Columns:
         return [self.count] + ([inspected] if inspected is not None else [])
 
 
-def sheet_columns(grid: CellGrid, header: int | None, data: list[int]) -> Columns:
-    """Each column's header text and role, from the header and the cells of the data rows."""
+def sheet_columns(grid: CellGrid, header: int | None, data: list[int], chart: str | None = None) -> Columns:
+    """Each column's header text and role, from the header and the cells of the data rows.
+
+    The units inspected are a size, whole or not (an area of 0.8 to 3.5 m² inspected): named by the
+    header, or, with `chart` u and a defects count, the one other number column.
+    """
     names = column_names(grid.rows, header, grid.width)
     region = grid.kinds[data]
     counts = np.stack([(region == k).sum(axis=0) for k in (BLANK, NUMBER, DATE, TEXT)], axis=1)
     roles = [column_role(names[c], counts[c], grid.column(data[:200], c)) for c in range(grid.width)]
     if not any(r in ("defectives", "defects") for r in roles):  # "n", "units" alone are no count layout
         roles = ["measurement" if r == "inspected" else r for r in roles]
+    elif chart in _SIZED_CHARTS and "inspected" not in roles and roles.count("measurement") == 1:
+        roles[roles.index("measurement")] = "inspected"
     return Columns(names=names, roles=roles)
 
 
@@ -104,7 +111,7 @@ def column_role(name: str, counts: np.ndarray, values: list[object]) -> str:
             return "defects"
         if _DEFECTIVES.search(name):
             return "defectives"
-        if _INSPECTED.search(name) and whole:
+        if _INSPECTED.search(name):  # whole or not: the size of a u chart's sample may be an area
             return "inspected"
         if re.search(r"\b(date|day|time)\b", name, re.IGNORECASE):  # dates kept as plain serial numbers
             return "key"

@@ -79,8 +79,8 @@ def _counts(across: Subgroups, values: np.ndarray, columns: Columns) -> Subgroup
                          "the number inspected; add one headed 'inspected'")
     counts = values[:, 0]
     impossible = np.isnan(counts) | (counts < 0) | np.isnan(inspected) | (inspected <= 0)
-    if kind == "defectives":
-        impossible |= counts > inspected
+    if kind == "defectives":  # units that fail are counted out of whole units; a u chart's size may be an area
+        impossible |= (counts > inspected) | (np.mod(inspected, 1) != 0)
     notes = list(across.notes)
     for i in np.flatnonzero(impossible):
         notes[i] = "; ".join(x for x in (notes[i], "count impossible: excluded") if x)

@@ -19,7 +19,7 @@ from sheettool.workbook.reader.layouts import subgroups
 from sheettool.workbook.reader.model import SheetRead
 from sheettool.workbook.reader.raw_sheet import RawSheet
 
-_READER_SETTINGS = ("unit", "subgroup_size")  # the settings the reader itself needs
+_READER_SETTINGS = ("unit", "subgroup_size", "chart")  # the settings the reader itself needs
 
 
 @dataclass
@@ -31,7 +31,7 @@ class SheetParts:
     frame: Frame
     columns: Columns
     labelled: dict[str, Setting]  # labelled cells above the header
-    resolved: dict[str, Setting]  # unit and subgroup size, from all the layers
+    resolved: dict[str, Setting]  # unit, subgroup size and chart, from all the layers
 
 
 def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dict[str, Setting]) -> SheetRead:
@@ -44,7 +44,8 @@ def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dic
     labelled = labelled_settings(raw.title, grid.rows, header or 0)
     resolved = _reader_settings(workbook_layer, labelled, cli_layer)
     frame = frame_of(grid, header, units_row)
-    columns = sheet_columns(grid, header, frame.data)
+    chart = resolved["chart"].value if "chart" in resolved else None
+    columns = sheet_columns(grid, header, frame.data, chart)
     return _sheet_read(SheetParts(raw=raw, grid=grid, frame=frame, columns=columns, labelled=labelled,
                                   resolved=resolved))
 
