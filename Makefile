@@ -23,7 +23,7 @@ lint: $(STAMP)
 	$(PY) -m ruff check .
 
 test: lint
-	$(PY) -m pytest
+	OPENBLAS_NUM_THREADS=1 OMP_NUM_THREADS=1 $(PY) -m pytest
 
 clean:
 	rm -rf $(VENV) out build *.egg-info
