@@ -16,6 +16,7 @@ from xlsxwriter.utility import xl_rowcol_to_cell
 from xlsxwriter.worksheet import Worksheet
 
 from sheettool.base.problems import Problem
+from sheettool.workbook.writer.cells import utf16_cut, utf16_len
 
 ROWS = 1_048_576  # rows of a worksheet
 COLUMNS = 16_384  # columns of a worksheet
@@ -37,21 +38,9 @@ def chart_points() -> int:
     return (ROWS - 1) // 2
 
 
-def utf16_len(text: str) -> int:
-    """Length in UTF-16 code units, as the format counts a cell's text."""
-    return len(text) + sum(1 for ch in text if ord(ch) > 0xFFFF)
-
-
 def cut_text(text: str) -> str:
     """Text cut to what a cell holds, ending with CUT_MARK so the cut can be seen; a character is never halved."""
-    room = CELL_TEXT - len(CUT_MARK)
-    out, used = [], 0
-    for ch in text:
-        used += 2 if ord(ch) > 0xFFFF else 1
-        if used > room:
-            break
-        out.append(ch)
-    return "".join(out) + CUT_MARK
+    return utf16_cut(text, CELL_TEXT - len(CUT_MARK)) + CUT_MARK
 
 
 class FittedWorksheet(Worksheet):
