@@ -155,12 +155,16 @@ def capability_of(characteristic: Characteristic, fit: ChartFit, signals: bool,
 
 
 def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Signal]:
-    """Apply the rules to each plotted statistic in standard-error units."""
+    """Apply the rules to the location chart and the limit rule alone to a spread chart, in standard errors.
+
+    Pattern rules assume normal, independent points: a subgroup range or standard deviation is skewed, and
+    successive moving ranges share a reading, so on a spread chart only a point beyond a limit signals.
+    """
     signals: list[Signal] = []
     for stat in fit.statistics:
         with np.errstate(divide="ignore", invalid="ignore"):
             z = (stat.values - stat.center) / stat.sigma
-        for hit in find_hits(z, rules):
+        for hit in find_hits(z, list(SPREAD_RULES) if stat.name in SPREAD_STATISTICS else rules):
             signals.append(Signal(
                 subgroup=hit.point + 1,
                 label=labels[hit.point],
@@ -171,3 +175,7 @@ def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Si
             ))
     signals.sort(key=lambda s: (s.subgroup, s.statistic))
     return signals
+
+
+SPREAD_STATISTICS = ("range", "sd", "moving_range")  # the spread charts of X-bar and R, X-bar and S, I-MR
+SPREAD_RULES: tuple[Rule, ...] = tuple(parse_rules("limits"))  # a spread chart signals beyond its limits only
