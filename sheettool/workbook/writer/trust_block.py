@@ -81,16 +81,17 @@ def _line(tab: Tab, label: str, values: tuple[tuple[float | None, str], ...], no
 def _estimated(tab: Tab, rep: EstimatedLimitsReport) -> None:
     dist, what = rep.distribution, ("points" if rep.distribution.n == 1 else "subgroups")
     _wide(tab, rep.sentence, "lead")
+    _wide(tab, f"These figures are for the whole scheme in use: the {rep.scheme}.", "wrap")
     tab.head(["Estimated limits", "In-control ARL", "", "", "What it means"], (1,))
-    known = f"known mean and sigma give {dist.known_arl:,.1f}"
+    known = f"known mean and sigma give {dist.known_arl:,.1f} for this scheme"
     _line(tab, "Average over base periods", ((dist.mean, "arl"),),
           f"over all the base periods of {dist.m} {what} the process could give; {known}")
     _line(tab, "10th percentile", ((dist.p10, "arl"),),
           "one base period in ten gives limits with fewer points than this between false alarms")
     _line(tab, "50th percentile", ((dist.p50, "arl"),), "half the base periods give fewer, half more")
     _line(tab, f"Factor for {rep.exceed:.0%} assurance", ((rep.adjusted.factor, "ratio"),),
-          f"center +/- this many sigma gives an in-control ARL of at least {rep.floor:,.0f} in {rep.exceed:.0%} "
-          "of base periods (3 is the usual factor)")
+          f"every zone boundary and spread-chart limit at this many sigma gives the scheme an in-control ARL of at "
+          f"least {rep.floor:,.0f} in {rep.exceed:.0%} of base periods (3 is the usual factor)")
     needed = rep.needed
     ws = tab.ws
     ws.write_string(tab.row, 0, f"{what.capitalize()} needed, 3-sigma", tab.fmt["text"])
