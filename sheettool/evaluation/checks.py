@@ -12,13 +12,13 @@ import numpy as np
 from sheettool.base.problems import Problem
 from sheettool.core.charts import ChartFit
 from sheettool.core.data import Characteristic, Measurements
-from sheettool.core.data_shape import DataShapeReport, data_shape_report
+from sheettool.core.data_shape import DataShapeReport, ShapeScheme, data_shape_report
 from sheettool.core.design import Requirements, RequirementsCheck, check_requirements
 from sheettool.core.estimated_limits import EstimatedLimitsReport
 from sheettool.core.rules import Rule
 from sheettool.core.runlength.results import Performance
 from sheettool.core.runlength.scheme import ATTRIBUTES, Scheme, scheme_of, scheme_run_lengths
-from sheettool.core.scheme_limits import scheme_estimated_limits
+from sheettool.core.scheme_limits import scheme_estimated_limits, scheme_words
 from sheettool.core.timing import in_control_target
 from sheettool.evaluation.options import EvaluationOptions
 
@@ -46,7 +46,7 @@ def scheme_checks(characteristic: Characteristic, fit: ChartFit, rules: list[Rul
     out = SchemeChecks()
     scheme = scheme_of(fit, rules)  # the scheme every figure judges: chart, spread chart, rules, n
     steps = [("the cost of estimated limits", lambda: _estimated(fit, scheme, options)),
-             ("the data's shape", lambda: _shape(characteristic, fit)),
+             ("the data's shape", lambda: _shape(characteristic, fit, scheme)),
              ("the requirements", lambda: _requirements(fit, rules, performance, options))]
     for (what, step), name in zip(steps, ("estimated_limits", "data_shape", "requirements"), strict=True):
         try:
@@ -84,7 +84,7 @@ def _in_control_target(options: EvaluationOptions) -> float:
                              options.hours_per_month)
 
 
-def _shape(characteristic: Characteristic, fit: ChartFit) -> DataShapeReport | None:
+def _shape(characteristic: Characteristic, fit: ChartFit, scheme: Scheme) -> DataShapeReport | None:
     """For variables charts: the base period's readings (all subgroups in use when limits were not estimated)."""
     data = characteristic.data
     if not isinstance(data, Measurements):
@@ -94,7 +94,9 @@ def _shape(characteristic: Characteristic, fit: ChartFit) -> DataShapeReport | N
     if fit.subgroup_size == 1:
         values = values[:, 0]
         values = values[np.isfinite(values)]
-    return data_shape_report(values, int(fit.subgroup_size))
+    judged = ShapeScheme(rules=scheme.rules, companion=scheme.companion, words=scheme_words(scheme),
+                         n=int(fit.subgroup_size))
+    return data_shape_report(values, int(fit.subgroup_size), scheme=judged)
 
 
 def _requirements(fit: ChartFit, rules: list[Rule], performance: Performance,
