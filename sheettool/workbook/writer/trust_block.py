@@ -119,19 +119,26 @@ def _shape(tab: Tab, rep: DataShapeReport) -> None:
     ws.write_string(tab.row, 0, "Shape of the readings", tab.fmt["text"])
     ws.write_string(tab.row, 1, shape.family, tab.fmt["text_right"])
     ws.write_string(tab.row, 2, "normal", tab.fmt["text_right"])
-    _note(tab, f"lowest BIC of normal, Johnson SU and SB; skewness {shape.skewness:.2f}")
+    moments = "".join(f"; {word} {value:.2f}" for word, value in (("skewness", shape.skewness),
+                                                                   ("excess kurtosis", shape.kurtosis))
+                      if value is not None)
+    _note(tab, f"lowest BIC of normal, Johnson SU and SB{moments}")
     tab.row += 1
     _line(tab, "In-control ARL, this shape", ((shape.arl_shape, "arl"), (shape.arl_normal, "arl")),
-          f"3-sigma limits, fitted shape against normal (ratio {_ratio(shape.ratio)})")
+          f"{_capital(shape.scheme)}, fitted shape against normal (ratio {_ratio(shape.ratio)})")
     _line(tab, "Lag-1 autocorrelation", ((dep.r1, "ratio"), (dep.bound, "ratio")),
           f"beside it the bound 2/sqrt(N) for {dep.points} points; r1 is "
           + ("beyond it" if dep.significant else "within it"))
     if dep.significant:
         _line(tab, "In-control ARL, AR(1)", ((dep.arl_ar1, "arl"), (dep.arl_independent, "arl")),
               ("at least this (some simulated runs had not signalled); " if dep.censored else "")
-              + f"successive points following AR(1) with phi {dep.phi:.2f}")
+              + f"{shape.scheme}, successive points following AR(1) with phi {dep.phi:.2f}")
     for text in rep.warnings:
         _wide(tab, f"Warning: {text}", "warn_wrap")
+
+
+def _capital(text: str) -> str:
+    return text[:1].upper() + text[1:]
 
 
 def _ratio(value: float) -> str:
