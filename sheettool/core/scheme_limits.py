@@ -105,7 +105,11 @@ class _SchemeCarl:
         for i in range(shift.shape[0]):
             for j in range(shift.shape[1]):
                 q, start = self.chain.transient(float(shift[i, j]), float(ratio[0, j]))
-                out[i, j] = math.log(arl_only(q * (1.0 - float(spread[0, j])), start))
+                try:
+                    arl = arl_only(q * (1.0 - float(spread[0, j])), start)
+                except RuntimeError:  # singular: the scheme can no longer signal at these estimates
+                    arl = math.inf
+                out[i, j] = math.log(min(arl, 1e300))
         return out
 
 

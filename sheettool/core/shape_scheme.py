@@ -77,7 +77,10 @@ class ShapeScheme:
 def _fixed_chain_arl(rules: list[Rule], cells: np.ndarray) -> float:
     """In-control ARL of the exact zone chain (Champ and Woodall 1987) whose points fall in each cell with the given
     probabilities; the missing mass (a spread-chart signal) ends the run too."""
-    return ZoneChain(rules, cell_probabilities=lambda _cuts, _s, _r: cells).arl(0.0, 1.0)
+    try:
+        return ZoneChain(rules, cell_probabilities=lambda _cuts, _s, _r: cells).arl(0.0, 1.0)
+    except RuntimeError:  # the sparse factor is singular: no cell ever signals under this shape
+        return math.inf
 
 
 def _spread_inside(kind: str, n: int, sigma: float, draws: np.ndarray) -> np.ndarray:
@@ -133,7 +136,7 @@ def scheme_shape_arl(name: str, params: tuple[float, ...], dist: stats.rv_contin
             done += size
         arls.append(_fixed_chain_arl(zone, counts / per))
     arl = float(np.mean(arls))
-    se = float(np.std(arls, ddof=1) / math.sqrt(batches))
+    se = float(np.std(arls, ddof=1) / math.sqrt(batches)) if math.isfinite(arl) else math.inf
     return arl_normal, arl, se, (f"subgroups of {n}: {batches * per:,} seeded simulated subgroups from the fitted "
                                  "distribution give the zone chain's cell probabilities, jointly with the spread chart")
 
