@@ -22,11 +22,19 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from scipy import signal, stats
-from scipy.special import expit
+
+from sheettool.core.shape_scheme import (
+    DEFAULT_SEED,
+    ShapeScheme,
+    ar1_scheme_arl,
+    family_moments,
+    johnson_draws,
+    scheme_normal_arl,
+    scheme_shape_arl,
+)
 
 DIFFERENCE_WARNED = 0.30  # relative difference of the ARL from the normal figure that earns a warning
 MIN_READINGS = 20
-DEFAULT_SEED = 20_261_202
 
 
 def _normal_arl(k: float) -> float:
@@ -40,7 +48,7 @@ class ShapeCheck:
     family: str  # "normal", "Johnson SU" or "Johnson SB"
     parameters: tuple[float, ...]  # scipy.stats parameters of the family kept
     bic: dict[str, float]  # BIC of every family that could be fitted
-    skewness: float  # of the fitted distribution
+    skewness: float | None  # of the fitted distribution itself (None where it is not finite)
     subgroup_size: int
     arl_normal: float
     arl_shape: float  # math.inf when the fitted distribution cannot reach the limits
@@ -48,6 +56,8 @@ class ShapeCheck:
     ratio: float  # arl_shape / arl_normal
     method: str
     warnings: list[str] = field(default_factory=list)
+    kurtosis: float | None = None  # excess kurtosis of the fitted distribution (None where it is not finite)
+    scheme: str = "3-sigma limits"  # what the ARL figures are for, in words
 
 
 FIT_READINGS = 20_000  # largest sample the families are fitted to; more readings add time, not information
@@ -78,15 +88,8 @@ def _fits(x: np.ndarray) -> dict[str, tuple[stats.rv_continuous, tuple[float, ..
     return scored
 
 
-def _johnson_draws(name: str, params: tuple[float, ...], z: np.ndarray) -> np.ndarray:
-    """Johnson (1949) transforms of standard normal z: SU x = sinh((z - a)/b), SB x = 1/(1 + exp(-(z - a)/b))."""
-    a, b, loc, scale = params
-    u = (z - a) / b
-    return loc + scale * (np.sinh(u) if name == "Johnson SU" else expit(u))
-
-
 def shape_check(values: np.ndarray, subgroup_size: int = 1, k: float = 3.0, simulations: int = 1_000_000,
-                seed: int = DEFAULT_SEED) -> ShapeCheck:
+                seed: int = DEFAULT_SEED, scheme: ShapeScheme | None = None) -> ShapeCheck:
     """Fit the shape of the base-period readings and give the in-control ARL of k-sigma limits under it.
 
     values: the readings of an in-control base period, pooled (any shape; NaN ignored). For individuals the
@@ -109,7 +112,10 @@ def shape_check(values: np.ndarray, subgroup_size: int = 1, k: float = 3.0, simu
     n = int(subgroup_size)
     arl_normal = _normal_arl(k)
     se = 0.0
-    if name == "normal":
+    scheme = scheme or ShapeScheme()
+    if not scheme.plain:
+        arl_normal, arl, se, how = scheme_shape_arl(name, params, dist, n, scheme, simulations, seed)
+    elif name == "normal":
         arl = arl_normal
         how = "the normal distribution fits best, so the normal figure stands"
     elif n == 1:
@@ -122,7 +128,7 @@ def shape_check(values: np.ndarray, subgroup_size: int = 1, k: float = 3.0, simu
         hits, done, chunk = 0, 0, max(1, 200_000 // n)
         while done < simulations:
             size = min(chunk, simulations - done)
-            means = _johnson_draws(name, params, rng.standard_normal((size, n))).mean(axis=1)
+            means = johnson_draws(name, params, rng.standard_normal((size, n))).mean(axis=1)
             hits += int(np.count_nonzero(np.abs(means - mean) > half))
             done += size
         p = hits / simulations
@@ -130,12 +136,14 @@ def shape_check(values: np.ndarray, subgroup_size: int = 1, k: float = 3.0, simu
         se = arl * math.sqrt((1.0 - p) / hits) if hits else math.inf
         how = f"subgroup means of {n}: {simulations:,} seeded simulated means from the fitted distribution"
     ratio = arl / arl_normal
-    skewness = float(dist.stats(moments="s"))
+    skewness, kurtosis = family_moments(name, params)
     notes = []
     if abs(ratio - 1.0) > DIFFERENCE_WARNED:
         direction = "more" if ratio < 1 else "fewer"
         arl_words = "no false alarms at all" if math.isinf(arl) else f"about {arl:.0f} points between false alarms"
-        notes.append(f"the readings are not normal in shape ({name}, skewness {skewness:.2f}): {k:g}-sigma limits "
+        skew_words = f", skewness {skewness:.2f}" if skewness is not None else ""
+        what = f"{k:g}-sigma limits" if scheme.plain else f"the {scheme.words}"
+        notes.append(f"the readings are not normal in shape ({name}{skew_words}): {what} "
                      f"would give {arl_words} instead of {arl_normal:.0f}, so expect {direction} false alarms than "
                      f"the normal figures say")
     if x.size < 100 and name != "normal":
@@ -145,9 +153,12 @@ def shape_check(values: np.ndarray, subgroup_size: int = 1, k: float = 3.0, simu
         skewness=skewness, subgroup_size=n, arl_normal=arl_normal, arl_shape=arl,
         arl_shape_se=se, ratio=ratio,
         method=(f"shape of {x.size} readings: normal, Johnson SU and Johnson SB fitted by maximum likelihood, the "
-                f"lowest BIC kept (Johnson 1949; Schwarz 1978); limits at the fitted mean +/- {k:g} standard "
-                f"deviations of the plotted point; {how}"),
-        warnings=notes,
+                f"lowest BIC kept (Johnson 1949; Schwarz 1978); "
+                + ("" if scheme.plain else f"in-control ARL of the {scheme.words}; ")
+                + f"limits at the fitted mean +/- {k:g} standard deviations of the plotted point"
+                + ("" if scheme.plain else ", zone boundaries likewise")
+                + f"; {how}"),
+        warnings=notes, kurtosis=kurtosis, scheme=scheme.words,
     )
 
 
@@ -215,7 +226,7 @@ def ar1_arl(phi: float, half_width: float, paths: int = 5_000, max_steps: int = 
 
 
 def dependence_check(points: np.ndarray, limits_sigma: str = "moving-range", k: float = 3.0, paths: int = 5_000,
-                     seed: int = DEFAULT_SEED) -> DependenceCheck:
+                     seed: int = DEFAULT_SEED, scheme: ShapeScheme | None = None) -> DependenceCheck:
     """Lag-1 autocorrelation of the plotted points, whether it matters, and the in-control ARL under AR(1).
 
     limits_sigma says how the chart sets its sigma: "moving-range" (individuals: MR-bar / d2, which under AR(1)
@@ -232,8 +243,13 @@ def dependence_check(points: np.ndarray, limits_sigma: str = "moving-range", k: 
     phi = float(np.clip(r1, -0.99, 0.99))
     # E|X_t - X_t-1| / d2(2) = sigma sqrt(1 - phi) for a stationary AR(1) with marginal sigma (common practice).
     half = k * math.sqrt(1.0 - phi) if limits_sigma == "moving-range" else k
-    arl, se, censored = ar1_arl(phi, half, paths=paths, seed=seed)
-    arl_ind = _normal_arl(k)
+    scheme = scheme or ShapeScheme()
+    if scheme.plain:
+        arl, se, censored = ar1_arl(phi, half, paths=paths, seed=seed)
+        arl_ind = _normal_arl(k)
+    else:
+        arl, se, censored = ar1_scheme_arl(phi, half, k, scheme, paths=paths, seed=seed)
+        arl_ind = scheme_normal_arl(scheme)
     notes = []
     significant = abs(r1) > bound
     if significant:
@@ -252,9 +268,10 @@ def dependence_check(points: np.ndarray, limits_sigma: str = "moving-range", k: 
     return DependenceCheck(
         points=int(x.size), r1=r1, bound=bound, significant=significant, phi=phi, limits_sigma=limits_sigma,
         half_width=half, arl_independent=arl_ind, arl_ar1=arl, arl_ar1_se=se, censored=censored,
-        method=(f"lag-1 autocorrelation against 2/sqrt(N) (Box and Jenkins 1976); in-control ARL of limits at "
-                f"+/- {k:g} sigma ({basis}) under AR(1) with phi = r1, {paths:,} seeded simulated runs, stationary "
-                f"start"),
+        method=("lag-1 autocorrelation against 2/sqrt(N) (Box and Jenkins 1976); in-control ARL of "
+                + ("limits" if scheme.plain else f"the {scheme.words}, limits and zone boundaries")
+                + f" at +/- {k:g} sigma ({basis}) under AR(1) with phi = r1, {paths:,} seeded simulated runs, "
+                "stationary start"),
         warnings=notes,
     )
 
@@ -269,8 +286,8 @@ class DataShapeReport:
     method: str
 
 
-def data_shape_report(readings: np.ndarray, subgroup_size: int = 1, k: float = 3.0,
-                      seed: int = DEFAULT_SEED) -> DataShapeReport:
+def data_shape_report(readings: np.ndarray, subgroup_size: int = 1, k: float = 3.0, seed: int = DEFAULT_SEED,
+                      scheme: ShapeScheme | None = None) -> DataShapeReport:
     """Shape and dependence of a base period: readings as (subgroups, n) or a 1-D series of individuals.
 
     The plotted points are the subgroup means (NaN readings left out) or the individuals themselves; limits for the
@@ -283,7 +300,8 @@ def data_shape_report(readings: np.ndarray, subgroup_size: int = 1, k: float = 3
         rows = np.atleast_2d(x)
         kept = np.isfinite(rows).any(axis=1)
         points, basis = np.nanmean(rows[kept], axis=1), "marginal"
-    shape = shape_check(x, subgroup_size, k=k, seed=seed)
-    dependence = dependence_check(points, basis, k=k, seed=seed)
+    shape = shape_check(x, subgroup_size, k=k, seed=seed, scheme=scheme)
+    dependence = dependence_check(points, basis, k=k, seed=seed, scheme=scheme)
     return DataShapeReport(shape=shape, dependence=dependence, warnings=shape.warnings + dependence.warnings,
                            method=f"{shape.method}. {dependence.method}.")
+

@@ -279,6 +279,7 @@ class EstimatedLimitsReport:
     needed: SubgroupsNeeded
     sentence: str
     method: str
+    scheme: str = "3-sigma limits on the location chart alone"  # what the figures are for, in words
 
 
 def _share_in_words(share: float) -> str:
@@ -301,6 +302,18 @@ def estimated_limits_report(m: int, n: int, sigma_method: SigmaMethod | str, tar
     meeting = _exceedance(floor, est, a, L)
     adjusted = adjusted_factor(m, n, sigma_method, target, exceed, tolerance)
     needed = subgroups_needed(n, sigma_method, target, exceed, tolerance, L)
+    sentence = remedy_sentence(m, n, low, floor, exceed, dist.known_arl, adjusted, needed, f"{L:g}-sigma limits")
+    return EstimatedLimitsReport(
+        distribution=dist, floor=floor, exceed=float(exceed), low_arl=low, probability_meeting=meeting,
+        adjusted=adjusted, needed=needed, sentence=sentence,
+        method=(f"{dist.method}. Remedies: {adjusted.method}; {needed.method}."),
+    )
+
+
+def remedy_sentence(m: int, n: int, low: float, floor: float, exceed: float, known: float, adjusted: AdjustedFactor,
+                    needed: SubgroupsNeeded, scheme: str) -> str:
+    """The plain sentence: how low the in-control ARL of `scheme` goes for one base period in 1/(1 - exceed), and
+    what would give the assurance wanted."""
     what = "points" if n == 1 else "subgroups"
     base = f"{m} points" if n == 1 else f"{m} subgroups"
     if needed.subgroups is not None and needed.subgroups <= m:
@@ -308,16 +321,11 @@ def estimated_limits_report(m: int, n: int, sigma_method: SigmaMethod | str, tar
     elif needed.subgroups is not None:
         remedy = f"base the limits on {needed.subgroups} {what} or use a limit factor of {adjusted.factor:.2f}"
     elif needed.reachable:
-        remedy = (f"use a limit factor of {adjusted.factor:.2f} (with {L:g}-sigma limits even "
+        remedy = (f"use a limit factor of {adjusted.factor:.2f} (with {scheme} even "
                   f"{needed.max_searched:,} {what} would not be enough)")
     else:
-        remedy = (f"use a limit factor of {adjusted.factor:.2f} (no number of {what} gets {L:g}-sigma limits "
-                  f"there: even with known mean and sigma they give {dist.known_arl:.1f})")
-    sentence = (f"With limits from these {base}, {_share_in_words(1.0 - exceed)} would give fewer than "
-                f"{low:.0f} plotted points between false alarms; to be {exceed * 100:g}% sure of at least "
-                f"{floor:.0f}, {remedy}.")
-    return EstimatedLimitsReport(
-        distribution=dist, floor=floor, exceed=float(exceed), low_arl=low, probability_meeting=meeting,
-        adjusted=adjusted, needed=needed, sentence=sentence,
-        method=(f"{dist.method}. Remedies: {adjusted.method}; {needed.method}."),
-    )
+        remedy = (f"use a limit factor of {adjusted.factor:.2f} (no number of {what} gets {scheme} "
+                  f"there: even with known mean and sigma they give {known:.1f})")
+    return (f"With limits from these {base}, {_share_in_words(1.0 - exceed)} would give fewer than "
+            f"{low:.0f} plotted points between false alarms; to be {exceed * 100:g}% sure of at least "
+            f"{floor:.0f}, {remedy}.")

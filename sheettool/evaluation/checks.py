@@ -12,18 +12,19 @@ import numpy as np
 from sheettool.base.problems import Problem
 from sheettool.core.charts import ChartFit
 from sheettool.core.data import Characteristic, Measurements
-from sheettool.core.data_shape import DataShapeReport, data_shape_report
+from sheettool.core.data_shape import DataShapeReport, ShapeScheme, data_shape_report
 from sheettool.core.design import Requirements, RequirementsCheck, check_requirements
-from sheettool.core.estimated_limits import EstimatedLimitsReport, estimated_limits_report
+from sheettool.core.estimated_limits import EstimatedLimitsReport
 from sheettool.core.rules import Rule
 from sheettool.core.runlength.results import Performance
-from sheettool.core.runlength.scheme import ATTRIBUTES, scheme_of, scheme_run_lengths
+from sheettool.core.runlength.scheme import ATTRIBUTES, Scheme, scheme_of, scheme_run_lengths
+from sheettool.core.scheme_limits import scheme_estimated_limits, scheme_words
 from sheettool.core.timing import in_control_target
 from sheettool.evaluation.options import EvaluationOptions
 
 _SHEWHART_VARIABLES = ("xbar-r", "xbar-s", "i-mr")
-# the report depends on (m, n, estimator, target) only: one computation per base-period shape (results are read-only)
-_estimated_limits_report = lru_cache(maxsize=256)(estimated_limits_report)
+# the report depends on (scheme, m, estimator, target) only: one computation per base-period shape (read-only results)
+_estimated_limits_report = lru_cache(maxsize=256)(scheme_estimated_limits)
 # Limits "meet" the target when their in-control ARL is at least 90% of it: the exceedance criterion of Goedhart,
 # Schoonhoven and Does (2017) with a tolerance; with none, no finite base period reaches even the known-parameter ARL.
 ASSURANCE_TOLERANCE = 0.1
@@ -43,8 +44,9 @@ def scheme_checks(characteristic: Characteristic, fit: ChartFit, rules: list[Rul
                   options: EvaluationOptions, sheet: str) -> SchemeChecks:
     """Run the three checks that apply to this chart; each failure is reported as a note problem."""
     out = SchemeChecks()
-    steps = [("the cost of estimated limits", lambda: _estimated(fit, options)),
-             ("the data's shape", lambda: _shape(characteristic, fit)),
+    scheme = scheme_of(fit, rules)  # the scheme every figure judges: chart, spread chart, rules, n
+    steps = [("the cost of estimated limits", lambda: _estimated(fit, scheme, options)),
+             ("the data's shape", lambda: _shape(characteristic, fit, scheme)),
              ("the requirements", lambda: _requirements(fit, rules, performance, options))]
     for (what, step), name in zip(steps, ("estimated_limits", "data_shape", "requirements"), strict=True):
         try:
@@ -61,16 +63,16 @@ def scheme_checks(characteristic: Characteristic, fit: ChartFit, rules: list[Rul
     return out
 
 
-def _estimated(fit: ChartFit, options: EvaluationOptions) -> EstimatedLimitsReport | None:
-    """For X-bar and individuals limits whose mean and sigma both came from this base period."""
+def _estimated(fit: ChartFit, scheme: Scheme, options: EvaluationOptions) -> EstimatedLimitsReport | None:
+    """For X-bar and individuals limits whose mean and sigma both came from this base period: the whole scheme."""
     given = set(options.standard) & {"mean", "sigma"}
     key = fit.sigma_method.modelled
     if fit.chart not in _SHEWHART_VARIABLES or options.carried is not None or given or key is None:
         return None
     if not fit.base.any():
         return None
-    return _estimated_limits_report(int(fit.base.sum()), int(fit.subgroup_size), key,
-                                    target=_in_control_target(options), tolerance=ASSURANCE_TOLERANCE)
+    return _estimated_limits_report(scheme, int(fit.base.sum()), key, target=_in_control_target(options),
+                                    tolerance=ASSURANCE_TOLERANCE)
 
 
 def _in_control_target(options: EvaluationOptions) -> float:
@@ -82,7 +84,7 @@ def _in_control_target(options: EvaluationOptions) -> float:
                              options.hours_per_month)
 
 
-def _shape(characteristic: Characteristic, fit: ChartFit) -> DataShapeReport | None:
+def _shape(characteristic: Characteristic, fit: ChartFit, scheme: Scheme) -> DataShapeReport | None:
     """For variables charts: the base period's readings (all subgroups in use when limits were not estimated)."""
     data = characteristic.data
     if not isinstance(data, Measurements):
@@ -92,7 +94,9 @@ def _shape(characteristic: Characteristic, fit: ChartFit) -> DataShapeReport | N
     if fit.subgroup_size == 1:
         values = values[:, 0]
         values = values[np.isfinite(values)]
-    return data_shape_report(values, int(fit.subgroup_size))
+    judged = ShapeScheme(rules=scheme.rules, companion=scheme.companion, words=scheme_words(scheme),
+                         n=int(fit.subgroup_size))
+    return data_shape_report(values, int(fit.subgroup_size), scheme=judged)
 
 
 def _requirements(fit: ChartFit, rules: list[Rule], performance: Performance,

@@ -161,10 +161,15 @@ def capability_of(characteristic: Characteristic, fit: ChartFit, signals: bool,
 
 
 def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Signal]:
-    """Apply the rules to each plotted statistic in standard-error units."""
+    """Apply the rules to the location chart and the limit rule alone to a spread chart, in standard errors.
+
+    Pattern rules assume normal, independent points: a subgroup range or standard deviation is skewed, and
+    successive moving ranges share a reading, so on a spread chart only a point beyond a limit signals.
+    """
     signals: list[Signal] = []
     for stat in fit.statistics:
-        for hit in find_hits(standardized(stat.values, stat.center, stat.sigma, rules), rules):
+        stat_rules = list(SPREAD_RULES) if stat.name in SPREAD_STATISTICS else rules
+        for hit in find_hits(standardized(stat.values, stat.center, stat.sigma, stat_rules), stat_rules):
             signals.append(Signal(
                 subgroup=hit.point + 1,
                 label=labels[hit.point],
@@ -175,3 +180,7 @@ def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Si
             ))
     signals.sort(key=lambda s: (s.subgroup, s.statistic))
     return signals
+
+
+SPREAD_STATISTICS = ("range", "sd", "moving_range")  # the spread charts of X-bar and R, X-bar and S, I-MR
+SPREAD_RULES: tuple[Rule, ...] = tuple(parse_rules("limits"))  # a spread chart signals beyond its limits only

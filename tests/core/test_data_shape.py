@@ -7,13 +7,13 @@ import pytest
 from scipy import signal, stats
 
 from sheettool.core.data_shape import (
-    _johnson_draws,
     ar1_arl,
     data_shape_report,
     dependence_check,
     lag1_autocorrelation,
     shape_check,
 )
+from sheettool.core.shape_scheme import johnson_draws as _johnson_draws
 
 KNOWN_ARL = 1.0 / (2.0 * stats.norm.sf(3.0))  # 370.4 for 3-sigma limits (common practice)
 

@@ -5,7 +5,7 @@ import zipfile
 
 import numpy as np
 import pytest
-from scipy import stats
+from scipy import integrate, stats
 
 from sheettool.app.api import evaluate_file
 from sheettool.app.json_form import characteristic_json, report_json
@@ -19,8 +19,10 @@ from sheettool.core.design import (
     design,
     ewma_limit_width,
 )
+from sheettool.core.design.calibration import run_length
 from sheettool.core.parameters import EwmaParameters
 from sheettool.core.runlength.ewma import EwmaChart, drawn_limits_arl
+from sheettool.core.runlength.scheme import Scheme
 from sheettool.demo.scenario import BUNDLED
 from sheettool.evaluation.checks import ASSURANCE_TOLERANCE
 from sheettool.evaluation.evaluate import evaluate
@@ -33,7 +35,12 @@ from tests.conftest import sha256
 # tests/reference/published-values.md, with 0.10 -> 2.814 as quoted in the issue on scheme design).
 @pytest.mark.parametrize(("lam", "L"), [(0.05, 2.615), (0.10, 2.814), (0.20, 2.962), (0.25, 2.998), (0.40, 3.054)])
 def test_ewma_calibration_recovers_the_published_design_pairs(lam, L):
-    assert ewma_limit_width(lam, 500.0) == pytest.approx(L, abs=0.005)
+    # the tables are for asymptotic limits; the design itself calibrates the limits as drawn, a little wider
+    assert ewma_limit_width(lam, 500.0, as_drawn=False) == pytest.approx(L, abs=0.005)
+    drawn = ewma_limit_width(lam, 500.0)
+    assert drawn > L - 0.005
+    # the as-drawn ARL (checked against a simulation in tests/core/test_numerics.py) meets the target
+    assert drawn_limits_arl(EwmaChart(lam, drawn), 0.0) == pytest.approx(500.0, rel=1e-6)
 
 
 # Two-sided CUSUM k = 0.5: h = 4 gives 168 and h = 5 gives 465 (Hawkins 1993 tables as reprinted in common
@@ -51,15 +58,31 @@ def _find(result, family, n, **kw):
     raise AssertionError(f"no {family} n={n} {kw}")
 
 
+def _range_beyond(n: float, r: float) -> float:
+    """P(range of n standard normal readings > r) by quadrature of the range distribution (Tippett 1925), written
+    here independently of the engine: 1 - n int phi(x) (Phi(x + r) - Phi(x))^(n - 1) dx."""
+    inside = integrate.quad(lambda x: stats.norm.pdf(x) * (stats.norm.cdf(x + r) - stats.norm.cdf(x)) ** (n - 1),
+                            -12.0, 12.0, epsabs=1e-13)[0]
+    return 1.0 - n * inside
+
+
 def test_shewhart_limits_candidate_is_geometric():
-    # 3-sigma limits: ARL0 = 1/(2 Phi(-3)) = 370.4; after a 1-sigma shift of a mean of 5, ARL = 1/p with
-    # p = Phi(-3 + sqrt 5) + Phi(-3 - sqrt 5) (common practice; p from scipy.stats).
-    result = design(Requirements(shift=1.0), Sampling(sizes=(5,)), SearchGrid(presets=("limits",), lambdas=(),
-                                                                              ks=()))
+    # Individuals, 3-sigma limits: ARL0 = 1/(2 Phi(-3)) = 370.4 (common practice). X-bar and R, n = 5: a point
+    # signals when the mean is beyond 3 sigma or the range beyond D4 R-bar = (d2 + 3 d3) sigma (d2 = 2.3259,
+    # d3 = 0.8641 for n = 5, Harter 1960 tables, recalled from memory; D3 = 0), independently for normal data:
+    # ARL = 1 / (1 - (1 - p_mean)(1 - p_range)), about 137 (the figure quoted in issue 13).
+    grid = SearchGrid(presets=("limits",), lambdas=(), ks=())
+    (one,) = design(Requirements(shift=1.0), Sampling(sizes=(1,)), grid).candidates
+    assert one.arl_in_control == pytest.approx(1.0 / (2.0 * stats.norm.sf(3.0)), rel=1e-6)
+    assert one.label == "individuals, rules limits"
+    result = design(Requirements(shift=1.0, arl_in_control=130.0), Sampling(sizes=(5,)), grid)
     (c,) = result.candidates
-    assert c.arl_in_control == pytest.approx(1.0 / (2.0 * stats.norm.sf(3.0)), rel=1e-6)
+    p_range = _range_beyond(5, 2.3259 + 3.0 * 0.8641)
+    p_mean = 2.0 * stats.norm.sf(3.0)
+    assert c.arl_in_control == pytest.approx(1.0 / (1.0 - (1.0 - p_mean) * (1.0 - p_range)), rel=1e-3)
+    assert c.arl_in_control == pytest.approx(137.2, abs=0.1) and c.label == "X-bar and R, rules limits"
     p = stats.norm.cdf(-3.0 + 5 ** 0.5) + stats.norm.cdf(-3.0 - 5 ** 0.5)
-    assert c.arl_at_shift == pytest.approx(1.0 / p, rel=1e-6)
+    assert c.arl_at_shift == pytest.approx(1.0 / (1.0 - (1.0 - p) * (1.0 - p_range)), rel=1e-3)
     assert c.meets and result.feasible
 
 
@@ -79,13 +102,14 @@ def test_small_shift_favours_a_tuned_ewma_over_limits_alone():
 def test_false_alarms_per_month_set_the_target_per_interval():
     # 400 h a month, at most 1 false alarm, sampled every 0.5 h -> in-control ARL 800 (common practice)
     result = design(Requirements(false_alarms_per_month=1.0, hours_per_month=400.0, shift=1.0),
-                    Sampling(sizes=(4,), intervals=(0.5, 2.0)), SearchGrid(presets=("limits",), lambdas=(0.1,),
+                    Sampling(sizes=(4,), intervals=(0.5, 8.0)), SearchGrid(presets=("limits",), lambdas=(0.1,),
                                                                            ks=(0.5,)))
     ewma = _find(result, "ewma", 4, interval_hours=0.5)
     assert ewma.arl_in_control == pytest.approx(800.0, rel=1e-3)
     assert ewma.false_alarms_per_month == pytest.approx(1.0, rel=1e-3)
     limits = _find(result, "shewhart", 4, interval_hours=0.5)
-    assert not limits.meets and _find(result, "shewhart", 4, interval_hours=2.0).meets
+    # X-bar and R, n = 4: in-control ARL about 131, so 400 h / 8 h / 131 = 0.38 a month meets 1, 0.5 h does not
+    assert not limits.meets and _find(result, "shewhart", 4, interval_hours=8.0).meets
 
 
 def test_budget_pairs_sizes_with_intervals():
@@ -198,7 +222,13 @@ def test_evaluate_json_has_estimated_limits_data_shape_and_requirements(tmp_path
 def test_calibrated_candidates_reproduce_published_arls(family, target, shift, arl):
     grid = SearchGrid(presets=(), lambdas=(0.2,) if family == "ewma" else (), ks=(0.5,) if family == "cusum" else ())
     (c,) = design(Requirements(arl_in_control=target, shift=shift), Sampling(sizes=(1,)), grid).candidates
-    assert c.arl_at_shift == pytest.approx(arl, rel=0.015)
+    if family == "ewma":  # the tables' asymptotic limits; the design's candidate is judged as drawn
+        asymptotic = run_length(Scheme("ewma", ewma=EwmaParameters(0.2, ewma_limit_width(0.2, target, False))),
+                                shift, as_drawn=False)
+        assert asymptotic.arl == pytest.approx(arl, rel=0.015)
+        assert c.arl_at_shift == pytest.approx(drawn_limits_arl(EwmaChart(0.2, c.scheme.ewma.L), shift), rel=1e-9)
+    else:
+        assert c.arl_at_shift == pytest.approx(arl, rel=0.015)
     # a mean of 4 readings sees twice the shift: the same scheme at n = 4 has the n = 1 ARL at 2x the shift
     (c4,) = design(Requirements(arl_in_control=target, shift=shift / 2), Sampling(sizes=(4,)), grid).candidates
     assert c4.arl_at_shift == pytest.approx(c.arl_at_shift, rel=1e-6)

@@ -1,9 +1,9 @@
 """Calibrate EWMA and CUSUM to an in-control target: the limit width L or decision interval h by root finding.
 
-EWMA: lambda given, L found by Brent's method (Brent 1973, scipy.optimize.brentq) so that the in-control zero-state
-ARL is the target (the design procedure of Lucas and Saccucci 1990). Two-sided tabular CUSUM: k given, h found the
-same way on the Brook and Evans (1972) chain, bracketed by Siegmund's (1985) approximation. Every run length comes
-from the engine (`scheme_run_lengths`), cached.
+EWMA: lambda given, L (for the exact limits the chart draws) found by Brent's method (Brent 1973,
+scipy.optimize.brentq) so that the in-control zero-state ARL is the target (the design procedure of Lucas and
+Saccucci 1990). Two-sided tabular CUSUM: k given, h found the same way on the Brook and Evans (1972) chain,
+bracketed by Siegmund's (1985) approximation. Every run length comes from the engine, cached.
 """
 
 from __future__ import annotations
@@ -16,6 +16,7 @@ from scipy import optimize, stats
 
 from sheettool.core.parameters import EwmaParameters
 from sheettool.core.runlength import cusum
+from sheettool.core.runlength.ewma import EwmaChart, drawn_limits_arl
 from sheettool.core.runlength.markov import RunLength
 from sheettool.core.runlength.scheme import Scheme, scheme_run_lengths
 
@@ -23,8 +24,15 @@ ARL_RANGE = (10.0, 1.0e6)  # in-control targets the calibration handles
 
 
 @lru_cache(maxsize=4096)
-def run_length(scheme: Scheme, shift: float) -> RunLength:
-    """Zero-state ARL of a scheme at a mean shift (process sigmas), from the engine; cached."""
+def run_length(scheme: Scheme, shift: float, as_drawn: bool = True) -> RunLength:
+    """Zero-state ARL of a scheme at a mean shift (process sigmas), from the engine; cached.
+
+    An EWMA's ARL is by default that of the limits as drawn (`drawn_limits_arl`), the figure `evaluate` reports,
+    so a design and the evaluation of the chart it proposes agree; `as_drawn=False` gives asymptotic limits.
+    """
+    if scheme.chart == "ewma" and as_drawn:
+        chart = EwmaChart(scheme.ewma.lam, scheme.ewma.L)
+        return RunLength(arl=drawn_limits_arl(chart, shift * math.sqrt(scheme.n)))
     return scheme_run_lengths(scheme, [(shift, 1.0)], full=False).results[0]
 
 
@@ -45,14 +53,15 @@ def _calibrate(arl0: Callable[[float], float], low: float, high: float, target: 
 
 
 @lru_cache(maxsize=1024)
-def ewma_limit_width(lam: float, target: float) -> float:
-    """EWMA L (asymptotic limits, zero state) giving an in-control ARL of `target` (Lucas and Saccucci 1990).
+def ewma_limit_width(lam: float, target: float, as_drawn: bool = True) -> float:
+    """EWMA L (zero state) giving an in-control ARL of `target` (Lucas and Saccucci 1990), for the limits as drawn
+    or, with `as_drawn=False`, for asymptotic limits (the published tables' convention).
 
     Bracket: at lambda = 1 the EWMA is the Shewhart chart, L = z(1 - 1/(2 target)); a smaller lambda needs less.
     """
     check_target(target)
     shewhart = float(stats.norm.isf(0.5 / target))
-    return _calibrate(lambda width: run_length(Scheme("ewma", ewma=EwmaParameters(lam, width)), 0.0).arl,
+    return _calibrate(lambda width: run_length(Scheme("ewma", ewma=EwmaParameters(lam, width)), 0.0, as_drawn).arl,
                       0.5 * shewhart, shewhart + 0.05, target, f"EWMA lambda {lam:g}")
 
 

@@ -1,11 +1,13 @@
 """The schemes searched and the sampling allowed: every candidate, calibrated, with its run lengths judged.
 
-Candidates, each at every allowed (n, interval): Shewhart charts of subgroup means with the rule presets (their
-in-control ARL is fixed by the rules); EWMA with lambda over a grid and L calibrated to the in-control target; CUSUM
-with k over a grid and h calibrated the same way (calibration.py). Time to catch the shift: the zero-state ARL at the
-shift times the interval (ATS): the scheme starts fresh with the shift present from the first point, the figure
-tabled by Lucas and Saccucci (1990) and used by `evaluate`. A mean of n readings moves by shift * sqrt(n) standard
-errors, so in-control ARLs are computed once per chart setting and ARLs at the shift once per (setting, n).
+Candidates, each at every allowed (n, interval): the Shewhart scheme `evaluate` would use (individuals for n = 1,
+X-bar with its R chart for n 2 to 9, with its S chart from 10; the spread chart's limits signal too) with the rule
+presets (their in-control ARL is fixed by the rules and n); EWMA with lambda over a grid and L calibrated to the in-
+control target; CUSUM with k over a grid and h calibrated the same way (calibration.py). Time to catch the shift: the
+zero-state ARL at the shift times the interval (ATS): the scheme starts fresh with the shift present from the first
+point, the figure tabled by Lucas and Saccucci (1990) and used by `evaluate`. A mean of n readings moves by shift *
+sqrt(n) standard errors, so EWMA and CUSUM in-control ARLs are computed once per chart setting and ARLs at the shift
+once per (setting, n).
 """
 
 from __future__ import annotations
@@ -17,7 +19,7 @@ from sheettool.core.design.calibration import cusum_decision_interval, ewma_limi
 from sheettool.core.design.requirements import Requirements, RequirementsCheck, check_number, check_requirements
 from sheettool.core.parameters import CusumParameters, EwmaParameters
 from sheettool.core.rules import PRESETS, parse_rules
-from sheettool.core.runlength.scheme import Scheme
+from sheettool.core.runlength.scheme import Scheme, shewhart_chart
 from sheettool.core.timing import ats_hours, false_alarms_per_month
 
 LAMBDAS: tuple[float, ...] = (0.05, 0.1, 0.15, 0.2, 0.25, 0.3, 0.4, 0.5, 0.75)
@@ -112,7 +114,7 @@ class Candidate:
             return f"EWMA lambda {self.scheme.ewma.lam:g}, L {self.scheme.ewma.L:.3f}"
         if self.family == "cusum":
             return f"CUSUM k {self.scheme.cusum.k:g}, h {self.scheme.cusum.h:.3f}"
-        chart = "individuals" if self.n == 1 else "X-bar"
+        chart = {"i-mr": "individuals", "xbar-r": "X-bar and R", "xbar-s": "X-bar and S"}[self.scheme.chart]
         return f"{chart}, rules {self.preset}"
 
     @property
@@ -138,10 +140,9 @@ def candidates(req: Requirements, sampling: Sampling, grid: SearchGrid) -> list[
     for n, interval in sampling.pairs():
         target = req.target_arl(interval)
         for preset in grid.presets:
-            rules = tuple(parse_rules(preset))
-            arl0 = run_length(Scheme("xbar", rules=rules), 0.0).arl  # the same for every n
-            out.append(_candidate("shewhart", Scheme("xbar", rules=rules, n=n), preset, n, interval, arl0, req,
-                                  delta))
+            scheme = Scheme(shewhart_chart(n), rules=tuple(parse_rules(preset)), n=n)
+            arl0 = run_length(scheme, 0.0).arl  # with the R or S chart's limits: it depends on n
+            out.append(_candidate("shewhart", scheme, preset, n, interval, arl0, req, delta))
         for lam in grid.lambdas:
             ewma = EwmaParameters(lam, ewma_limit_width(lam, target))
             arl0 = run_length(Scheme("ewma", ewma=ewma), 0.0).arl

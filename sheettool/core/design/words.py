@@ -7,15 +7,17 @@ import math
 from sheettool.core.design.candidates import Candidate, Sampling
 from sheettool.core.design.requirements import REQUIREMENT_KEYS
 
-METHOD = ("Candidates: Shewhart charts of subgroup means with the rule presets (exact zone chain, Champ and Woodall "
-          "1987; trend and alternate rules by seeded simulation); EWMA with lambda on a grid and L found by Brent's "
-          "root finding so that the in-control zero-state ARL is the target (integral equation, Crowder 1987; "
-          "design procedure of Lucas and Saccucci 1990); two-sided tabular CUSUM with k on a grid and h found the "
-          "same way (Brook and Evans 1972 chain, bracketed by Siegmund 1985). Time to catch the shift: the "
-          "zero-state ARL at the shift (a fresh start with the shift present from the first point) times the "
+METHOD = ("Candidates: the Shewhart schemes evaluate uses with the rule presets: individuals for n = 1 (the moving-"
+          "range chart's own signals left out), X-bar with its R chart for n 2 to 9 and with its S chart from 10, "
+          "the spread chart's limits signalling too and the pattern rules on the means only (exact zone chain, "
+          "Champ and Woodall 1987; trend and alternate rules by seeded simulation); EWMA with lambda on a grid and "
+          "L found by Brent's root finding so that the in-control zero-state ARL is the target (integral equation, "
+          "Crowder 1987; design procedure of Lucas and Saccucci 1990); two-sided tabular CUSUM with k on a grid and"
+          " h found the same way (Brook and Evans 1972 chain, bracketed by Siegmund 1985). Time to catch the shift:"
+          " the zero-state ARL at the shift (a fresh start with the shift present from the first point) times the "
           "sampling interval; a shift that starts between two samples is caught on average up to half an interval "
-          "later. Ranked by that time, schemes meeting every requirement first; a mean of n readings moves by "
-          "shift x sqrt(n) standard errors.")
+          "later. Ranked by that time, schemes meeting every requirement first; a mean of n readings moves by shift"
+          " x sqrt(n) standard errors.")
 
 
 def no_sampling(sampling: Sampling) -> str:
@@ -94,10 +96,14 @@ def trade_off(found: list[Candidate], delta: float) -> list[str]:
                "catch it soon, and Shewhart limits react to one point at once")
         among = " (schemes meeting every requirement)" if meeting else ""
         lines.append(f"Chart kinds for a {delta:.3g}-sigma shift{among}: {listed}; {why}.")
-    fixed = sorted({(c.preset, c.arl_in_control) for c in found if c.family == "shewhart"}, key=lambda p: -p[1])
+    fixed: dict[str, list[float]] = {}
+    for c in found:
+        if c.family == "shewhart":
+            fixed.setdefault(c.preset or "", []).append(c.arl_in_control)
     if fixed:
-        arls = ", ".join(f"{p} {a:.1f}" for p, a in fixed)
+        arls = ", ".join(f"{p} {min(a):.1f}" if max(a) - min(a) < 0.05 else f"{p} {min(a):.1f} to {max(a):.1f}"
+                         for p, a in sorted(fixed.items(), key=lambda kv: -max(kv[1])))
         lines.append(f"False alarms: EWMA and CUSUM are calibrated to the in-control target; the Shewhart presets "
-                     f"have their own in-control ARL ({arls} points): more rules catch shifts sooner at the price of "
-                     "more false alarms.")
+                     f"have their own in-control ARL, which with the spread chart's limits depends on n ({arls} "
+                     "points): more rules catch shifts sooner at the price of more false alarms.")
     return lines

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import Protocol
 
 import numpy as np
@@ -39,6 +40,12 @@ MONTE_CARLO_RUNS = 20_000
 CURVE_RUNS = 2_000  # simulated runs per point of the fine curve (the tabled shifts use MONTE_CARLO_RUNS)
 SEED = 20_261_202
 CURVE_SHIFTS: tuple[float, ...] = tuple(np.round(np.linspace(0.0, 4.0, 41), 10))
+
+
+def shewhart_chart(n: int) -> str:
+    """The Shewhart scheme for subgroups of n, as `evaluate` chooses it: I-MR for 1, X-bar and R for 2 to 9, X-bar
+    and S from 10 (Montgomery 2009, sec. 6.3); `design` searches the same schemes."""
+    return "i-mr" if n == 1 else "xbar-r" if n < 10 else "xbar-s"
 
 
 @dataclass(frozen=True)
@@ -205,12 +212,22 @@ def _monte_carlo(scheme: Scheme, rules: list[Rule], conditions: list[tuple[float
             model = scheme.count_model
             model.check_rate(s)
             sampler = (lambda m, rate: lambda rng, shape: m.sample(rng, rate, shape))(model, s)
-        else:
-            sampler = normal_sampler(_standard_errors(scheme, s), r)
-        extra = companion(s, r) if companion else 0.0
-        out.append(summarize(simulate_run_lengths(rules, sampler, runs, seed + i, extra)))
+            out.append(summarize(simulate_run_lengths(rules, sampler, runs, seed + i)))
+            continue
+        lengths = _location_lengths(tuple(rules), float(_standard_errors(scheme, s)), float(r), runs, seed + i)
+        if companion:  # the companion signals independently: the scheme stops at the first of the two
+            lengths = np.minimum(lengths, np.random.default_rng(seed + i + 1).geometric(companion(s, r), runs))
+        out.append(summarize(lengths))
     base = f"Monte Carlo, {runs} runs per condition, 95% CI by normal approximation, seed {seed} ({why})"
     return SchemeResult(_method_note(scheme, base), list(conditions), out)
+
+
+@lru_cache(maxsize=64)
+def _location_lengths(rules: tuple[Rule, ...], shift: float, ratio: float, runs: int, seed: int) -> np.ndarray:
+    """Simulated run lengths of the location chart alone (cached: in control they serve every subgroup size)."""
+    lengths = simulate_run_lengths(list(rules), normal_sampler(shift, ratio), runs, seed)
+    lengths.flags.writeable = False
+    return lengths
 
 
 _NEEDS: dict[str, tuple[str, ...]] = {

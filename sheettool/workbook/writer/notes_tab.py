@@ -28,7 +28,9 @@ CAUTION = (
 )
 GENERAL_METHODS = (
     ("Pattern rules", "each rule is applied to the plotted points in standard errors from the center line; "
-                      "while fewer points exist than a rule's window, the window is what there is"),
+                      "while fewer points exist than a rule's window, the window is what there is. They apply to "
+                      "the location chart (means, individuals) only: ranges and standard deviations are not normal "
+                      "and successive moving ranges share a reading, so a spread chart signals beyond its limits"),
     ("Zone-rule run lengths", "Markov chain of the rule windows (Champ and Woodall 1987)"),
     ("Shewhart run lengths", "points signal independently; the run length is geometric, ARL = 1 / p"),
     ("Capability intervals", "Cp: chi-square interval; Cpk: Bissell (1990) normal approximation"),

@@ -81,16 +81,17 @@ def _line(tab: Tab, label: str, values: tuple[tuple[float | None, str], ...], no
 def _estimated(tab: Tab, rep: EstimatedLimitsReport) -> None:
     dist, what = rep.distribution, ("points" if rep.distribution.n == 1 else "subgroups")
     _wide(tab, rep.sentence, "lead")
+    _wide(tab, f"These figures are for the whole scheme in use: the {rep.scheme}.", "wrap")
     tab.head(["Estimated limits", "In-control ARL", "", "", "What it means"], (1,))
-    known = f"known mean and sigma give {dist.known_arl:,.1f}"
+    known = f"known mean and sigma give {dist.known_arl:,.1f} for this scheme"
     _line(tab, "Average over base periods", ((dist.mean, "arl"),),
           f"over all the base periods of {dist.m} {what} the process could give; {known}")
     _line(tab, "10th percentile", ((dist.p10, "arl"),),
           "one base period in ten gives limits with fewer points than this between false alarms")
     _line(tab, "50th percentile", ((dist.p50, "arl"),), "half the base periods give fewer, half more")
     _line(tab, f"Factor for {rep.exceed:.0%} assurance", ((rep.adjusted.factor, "ratio"),),
-          f"center +/- this many sigma gives an in-control ARL of at least {rep.floor:,.0f} in {rep.exceed:.0%} "
-          "of base periods (3 is the usual factor)")
+          f"every zone boundary and spread-chart limit at this many sigma gives the scheme an in-control ARL of at "
+          f"least {rep.floor:,.0f} in {rep.exceed:.0%} of base periods (3 is the usual factor)")
     needed = rep.needed
     ws = tab.ws
     ws.write_string(tab.row, 0, f"{what.capitalize()} needed, 3-sigma", tab.fmt["text"])
@@ -118,19 +119,26 @@ def _shape(tab: Tab, rep: DataShapeReport) -> None:
     ws.write_string(tab.row, 0, "Shape of the readings", tab.fmt["text"])
     ws.write_string(tab.row, 1, shape.family, tab.fmt["text_right"])
     ws.write_string(tab.row, 2, "normal", tab.fmt["text_right"])
-    _note(tab, f"lowest BIC of normal, Johnson SU and SB; skewness {shape.skewness:.2f}")
+    moments = "".join(f"; {word} {value:.2f}" for word, value in (("skewness", shape.skewness),
+                                                                   ("excess kurtosis", shape.kurtosis))
+                      if value is not None)
+    _note(tab, f"lowest BIC of normal, Johnson SU and SB{moments}")
     tab.row += 1
     _line(tab, "In-control ARL, this shape", ((shape.arl_shape, "arl"), (shape.arl_normal, "arl")),
-          f"3-sigma limits, fitted shape against normal (ratio {_ratio(shape.ratio)})")
+          f"{_capital(shape.scheme)}, fitted shape against normal (ratio {_ratio(shape.ratio)})")
     _line(tab, "Lag-1 autocorrelation", ((dep.r1, "ratio"), (dep.bound, "ratio")),
           f"beside it the bound 2/sqrt(N) for {dep.points} points; r1 is "
           + ("beyond it" if dep.significant else "within it"))
     if dep.significant:
         _line(tab, "In-control ARL, AR(1)", ((dep.arl_ar1, "arl"), (dep.arl_independent, "arl")),
               ("at least this (some simulated runs had not signalled); " if dep.censored else "")
-              + f"successive points following AR(1) with phi {dep.phi:.2f}")
+              + f"{shape.scheme}, successive points following AR(1) with phi {dep.phi:.2f}")
     for text in rep.warnings:
         _wide(tab, f"Warning: {text}", "warn_wrap")
+
+
+def _capital(text: str) -> str:
+    return text[:1].upper() + text[1:]
 
 
 def _ratio(value: float) -> str:
