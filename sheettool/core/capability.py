@@ -11,7 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import stats
+from scipy import special
 
 from sheettool.core.sigma import SigmaMethod
 
@@ -92,7 +92,7 @@ def anderson_darling(x: np.ndarray) -> tuple[float, float]:
     n = x.size
     z = (x - x.mean()) / x.std(ddof=1)
     i = np.arange(1, n + 1)
-    a2 = float(-n - np.sum((2 * i - 1) * (stats.norm.logcdf(z) + stats.norm.logsf(z[::-1]))) / n)
+    a2 = float(-n - np.sum((2 * i - 1) * (special.log_ndtr(z) + special.log_ndtr(-z[::-1]))) / n)
     a = a2 * (1 + 0.75 / n + 2.25 / n**2)
     if a >= 0.6:
         p = np.exp(1.2937 - 5.709 * a + 0.0186 * a * a)
@@ -123,13 +123,15 @@ def _indices(mean: float, sigma: float, lsl: float | None, usl: float | None) ->
 def _ppm(mean: float, sigma: float, lsl: float | None, usl: float | None) -> float | None:
     if not sigma > 0:
         return None
-    low = stats.norm.cdf((lsl - mean) / sigma) if lsl is not None else 0.0
-    high = stats.norm.sf((usl - mean) / sigma) if usl is not None else 0.0
+    low = special.ndtr((lsl - mean) / sigma) if lsl is not None else 0.0
+    high = special.ndtr(-((usl - mean) / sigma)) if usl is not None else 0.0
     return float(1e6 * (low + high))
 
 
 def cp_interval(cp: float, nu: int, confidence: float) -> Interval:
     """Chi-square interval for Cp with nu degrees of freedom (Kane 1986; Montgomery 2009, eq. 8.19)."""
+    from scipy import stats
+
     alpha = 1 - confidence
     return Interval(cp * float(np.sqrt(stats.chi2.ppf(alpha / 2, nu) / nu)),
                     cp * float(np.sqrt(stats.chi2.ppf(1 - alpha / 2, nu) / nu)))
@@ -137,7 +139,7 @@ def cp_interval(cp: float, nu: int, confidence: float) -> Interval:
 
 def cpk_interval(cpk: float, n: int, confidence: float) -> Interval:
     """Normal-approximation interval for Cpk from n readings (Bissell 1990)."""
-    z = float(stats.norm.ppf(1 - (1 - confidence) / 2))
+    z = float(special.ndtri(1 - (1 - confidence) / 2))
     half = z * float(np.sqrt(1 / (9 * n) + cpk * cpk / (2 * (n - 1))))
     return Interval(cpk - half, cpk + half)
 
@@ -198,6 +200,8 @@ def attribute_rate(count: float, units: float, kind: str, confidence: float = 0.
 
     Clopper and Pearson (1934): beta quantiles; Garwood (1936): chi2(alpha/2, 2x)/2 to chi2(1 - alpha/2, 2x + 2)/2.
     """
+    from scipy import stats
+
     confidence = _check_confidence(confidence)
     alpha = 1 - confidence
     if units <= 0:
