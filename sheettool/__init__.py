@@ -1,10 +1,5 @@
 """sheettool: control limits, signals, capability and run-length performance for measurement workbooks."""
 
-from importlib.metadata import PackageNotFoundError, version
-
-try:
-    __version__ = version("sheettool")
-except PackageNotFoundError:  # running from a source tree that is not installed
-    __version__ = "0.0.0+source"
+__version__ = "0.1.0"  # the one place the version is written (pyproject.toml reads it); no metadata look-up at start-up
 
 TOOL_NAME = "sheettool"

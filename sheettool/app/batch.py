@@ -111,14 +111,6 @@ def search_inputs(paths: Iterable[Path], skip: Iterable[Path] = ()) -> Inputs:
     return inputs
 
 
-def default_jobs() -> int:
-    """All cores this process may use."""
-    try:
-        return max(1, len(os.sched_getaffinity(0)))
-    except AttributeError:  # not on Linux
-        return max(1, os.cpu_count() or 1)
-
-
 class Progress:
     """A one-line progress bar on a terminal; silent when quiet or when stderr is not a terminal."""
 

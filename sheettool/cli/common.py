@@ -10,13 +10,13 @@ import math
 import os
 import sys
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from sheettool.app.batch import default_jobs
 from sheettool.base.errors import UsageError
 from sheettool.settings import Setting, setting_name
-from sheettool.settings.convert import convert
-from sheettool.workbook.writer import WriterOptions
+
+if TYPE_CHECKING:
+    from sheettool.workbook.writer import WriterOptions
 
 # option -> setting name; each overrides the workbook's settings sheet and labelled cells.
 SETTING_OPTIONS = {"lsl": "lsl", "usl": "usl", "target": "target", "chart": "chart", "rules": "rules",
@@ -49,6 +49,8 @@ def add_evaluation_options(p: argparse.ArgumentParser) -> None:
 
 def cli_settings(args: argparse.Namespace) -> dict[str, Setting]:
     """The settings given on the command line, checked; UsageError for a bad one."""
+    from sheettool.settings.convert import convert
+
     found: list[Setting] = []
     for pair in args.set:
         name, sep, value = pair.partition("=")
@@ -73,6 +75,8 @@ def cli_settings(args: argparse.Namespace) -> dict[str, Setting]:
 def setting_value(name: str, option: str, text: str | None) -> Any:
     """An option's text converted as the setting `name` is (e.g. "30 min" for interval_hours); None when not given,
     UsageError naming the option when the value is bad."""
+    from sheettool.settings.convert import convert
+
     if text is None:
         return None
     try:
@@ -114,7 +118,17 @@ def number_list(option: str, text: str) -> tuple[float, ...]:
 
 def writer_options(args: argparse.Namespace) -> WriterOptions:
     """--formulas and --timestamp as WriterOptions."""
+    from sheettool.workbook.writer import WriterOptions
+
     return WriterOptions(formulas=args.formulas, timestamp=_timestamp(args.timestamp))
+
+
+def default_jobs() -> int:
+    """All cores this process may use."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # not on Linux
+        return max(1, os.cpu_count() or 1)
 
 
 def jobs(args: argparse.Namespace) -> int:

@@ -16,12 +16,10 @@ from sheettool.core.design import REQUIREMENT_KEYS, Candidate, DesignResult, Req
 from sheettool.workbook.design_book import HEAD, candidate_row, requirement_lines
 
 
-def add_parser(subs: argparse._SubParsersAction) -> None:
-    """Register the sub-command."""
-    p = subs.add_parser("design", help="search and rank monitoring schemes against in-control and detection targets",
-                        description="Search Shewhart, EWMA and CUSUM schemes at the sampling allowed, calibrate "
-                        "EWMA and CUSUM to the in-control target and rank them by the time they take to catch "
-                        "the shift that matters.")
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    """The sub-command's options (its line in the list of commands is in cli/main.py)."""
+    p.description = ("Search Shewhart, EWMA and CUSUM schemes at the sampling allowed, calibrate EWMA and CUSUM to the "
+                     "in-control target and rank them by the time they take to catch the shift that matters.")
     p.add_argument("--arl-in-control", help="in-control ARL wanted at least, in points (default 370.4); with "
                    "--false-alarms-per-month too, the stricter of the two")
     p.add_argument("--false-alarms-per-month", help="false alarms per month allowed at most (needs --hours-per-month)")

@@ -7,18 +7,12 @@ import sys
 from pathlib import Path
 
 from sheettool import TOOL_NAME, __version__
-from sheettool.app.batch import OUTPUT_NOTE, FileJob, Progress, evaluate_job, lost_job, run_parallel
-from sheettool.app.json_form import report_json
-from sheettool.app.outputs import check_output, is_sheettool_output, plan_outputs, same_file
 from sheettool.base.errors import InputError, UsageError
 from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, print_json, writer_options
-from sheettool.workbook.limits_block import read_limits_block
-from sheettool.workbook.reader import describe
 
 
-def add_parser(subs: argparse._SubParsersAction) -> None:
-    """Register the sub-command."""
-    p = subs.add_parser("evaluate", help="evaluate measurement workbooks, each into a new workbook")
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    """The sub-command's options (its line in the list of commands is in cli/main.py)."""
     p.add_argument("input", type=Path, nargs="+", help="measurement workbooks (.xlsx, .xlsm or .csv)")
     p.add_argument("-o", "--output", type=Path,
                    help="output workbook, with one input (default: IN-evaluated.xlsx beside each IN)")
@@ -33,6 +27,12 @@ def run(args: argparse.Namespace) -> int:
     With several inputs the others go on when one fails; the exit code is then the highest failure's
     (3 or 4: never the pack's 5). Sheettool's own outputs among the inputs are skipped with a note.
     """
+    from sheettool.app.batch import FileJob, Progress, evaluate_job, lost_job, run_parallel
+    from sheettool.app.json_form import report_json
+    from sheettool.app.outputs import check_output, plan_outputs
+    from sheettool.workbook.limits_block import read_limits_block
+    from sheettool.workbook.reader import describe
+
     if args.output is not None and len(args.input) > 1:
         raise UsageError("-o names one output; with several inputs each output goes beside its input")
     read = [(p, "an input") for p in args.input]
@@ -88,6 +88,9 @@ def run(args: argparse.Namespace) -> int:
 
 def _inputs(paths: list[Path]) -> tuple[list[Path], list[tuple[Path, str]]]:
     """The inputs to evaluate (each file once, sheettool's own outputs left out), and (path, why) of those left out."""
+    from sheettool.app.batch import OUTPUT_NOTE
+    from sheettool.app.outputs import is_sheettool_output, same_file
+
     kept: list[Path] = []
     skipped: list[tuple[Path, str]] = []
     for path in paths:

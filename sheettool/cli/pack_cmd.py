@@ -19,9 +19,8 @@ from sheettool.workbook.limits_block import read_limits_block
 SOME_FAILED = 5  # the pack was written, but some inputs or sheets could not be evaluated
 
 
-def add_parser(subs: argparse._SubParsersAction) -> None:
-    """Register the sub-command."""
-    p = subs.add_parser("pack", help="evaluate workbooks and folders into one review pack with a summary tab")
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    """The sub-command's options (its line in the list of commands is in cli/main.py)."""
     p.add_argument("paths", type=Path, nargs="+", help="workbooks and folders (searched for .xlsx and .xlsm)")
     p.add_argument("-o", "--output", type=Path, required=True, help="the pack workbook to write (.xlsx)")
     p.add_argument("--period", metavar="YYYY-MM", help="the month whose points the summary counts")

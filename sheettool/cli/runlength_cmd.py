@@ -19,11 +19,10 @@ _CHARTS = {"xbar": "xbar", "xbar-r": "xbar-r", "xbar-s": "xbar-s", "individuals"
 _VARIABLE_SHIFTS = "0,0.5,1,1.5,2,3"
 
 
-def add_parser(subs: argparse._SubParsersAction) -> None:
-    """Register the sub-command."""
-    p = subs.add_parser("runlength", help="ARL, SDRL and percentiles of a chart and its rules, without a workbook",
-                        description="Run-length behaviour of a monitoring scheme: average run length (ARL), its "
-                        "standard deviation and percentiles, steady-state ARL and time to signal.")
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    """The sub-command's options (its line in the list of commands is in cli/main.py)."""
+    p.description = ("Run-length behaviour of a monitoring scheme: average run length (ARL), its standard deviation "
+                     "and percentiles, steady-state ARL and time to signal.")
     p.add_argument("--chart", default="xbar", choices=list(_CHARTS),
                    help="chart kind (default xbar: the X-bar chart alone; xbar-r / xbar-s add the R or S chart)")
     p.add_argument("--n", help="readings per subgroup (variables) or units inspected per subgroup (p, np, u)")

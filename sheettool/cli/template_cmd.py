@@ -11,9 +11,8 @@ from sheettool.workbook.templates import TEMPLATE_KINDS, template_spec, write_te
 from sheettool.workbook.writer import write_atomically
 
 
-def add_parser(subs: argparse._SubParsersAction) -> None:
-    """Register the sub-command."""
-    p = subs.add_parser("template", help="write a data-entry workbook (subgroups, individuals, proportions, counts)")
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    """The sub-command's options (its line in the list of commands is in cli/main.py)."""
     p.add_argument("kind", choices=TEMPLATE_KINDS, help="the kind of data the sheet will hold")
     p.add_argument("-o", "--output", type=Path, required=True, help="the workbook to write (.xlsx)")
     p.add_argument("--n", type=int, default=5, help="readings per subgroup, for the subgroups kind (default 5)")

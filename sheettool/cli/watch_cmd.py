@@ -20,11 +20,10 @@ from sheettool.workbook.limits_block import read_limits_block
 OUTPUT_FOLDER = "evaluated"  # the default output folder, inside the watched one
 
 
-def add_parser(subs: argparse._SubParsersAction) -> None:
-    """Register the sub-command."""
-    p = subs.add_parser(
-        "watch", help="evaluate every workbook saved into a folder, each new version once",
-        description="Evaluate every measurement workbook (.xlsx, .xlsm, .csv) saved into FOLDER or its subfolders, "
+def add_arguments(p: argparse.ArgumentParser) -> None:
+    """The sub-command's options (its line in the list of commands is in cli/main.py)."""
+    p.description = (
+        "Evaluate every measurement workbook (.xlsx, .xlsm, .csv) saved into FOLDER or its subfolders, "
         "once per version, into an output folder, with a log (watch-log.csv) and, for a file that could not be "
         "evaluated, a note saying why. Each sheet's limits are carried from the latest earlier output with the "
         "same sheet name, unless its settings say 'New limits: yes'. Stop it with Ctrl-C; it finishes the file "

@@ -11,7 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import stats
+from scipy import special
 
 from sheettool.core.constants import c4
 from sheettool.core.sigma import SigmaEstimator, SigmaMethod, sigma_estimator
@@ -93,7 +93,7 @@ def anderson_darling(x: np.ndarray) -> tuple[float, float]:
     n = x.size
     z = (x - x.mean()) / x.std(ddof=1)
     i = np.arange(1, n + 1)
-    a2 = float(-n - np.sum((2 * i - 1) * (stats.norm.logcdf(z) + stats.norm.logsf(z[::-1]))) / n)
+    a2 = float(-n - np.sum((2 * i - 1) * (special.log_ndtr(z) + special.log_ndtr(-z[::-1]))) / n)
     a = a2 * (1 + 0.75 / n + 2.25 / n**2)
     if a >= 0.6:
         p = np.exp(1.2937 - 5.709 * a + 0.0186 * a * a)
@@ -124,8 +124,8 @@ def _indices(mean: float, sigma: float, lsl: float | None, usl: float | None) ->
 def _ppm(mean: float, sigma: float, lsl: float | None, usl: float | None) -> float | None:
     if not sigma > 0:
         return None
-    low = stats.norm.cdf((lsl - mean) / sigma) if lsl is not None else 0.0
-    high = stats.norm.sf((usl - mean) / sigma) if usl is not None else 0.0
+    low = special.ndtr((lsl - mean) / sigma) if lsl is not None else 0.0
+    high = special.ndtr(-((usl - mean) / sigma)) if usl is not None else 0.0
     return float(1e6 * (low + high))
 
 
@@ -133,15 +133,15 @@ def cp_interval(cp: float, nu: float, confidence: float, scale: float = 1.0) -> 
     """Chi-square interval for Cp when sigma_hat / sigma is scale * chi_nu / sqrt(nu) (Kane 1986; Montgomery
     2009, eq. 8.19 with scale 1, the sample standard deviation; Patnaik's (1950) scaled chi otherwise)."""
     alpha = 1 - confidence
-    return Interval(cp * scale * float(np.sqrt(stats.chi2.ppf(alpha / 2, nu) / nu)),
-                    cp * scale * float(np.sqrt(stats.chi2.ppf(1 - alpha / 2, nu) / nu)))
+    return Interval(cp * scale * float(np.sqrt(special.chdtri(nu, 1 - alpha / 2) / nu)),
+                    cp * scale * float(np.sqrt(special.chdtri(nu, alpha / 2) / nu)))
 
 
 def cpk_interval(cpk: float, n: int, confidence: float, nu: float | None = None) -> Interval:
     """Normal-approximation interval for Cpk from n readings (Bissell 1990), sigma with nu degrees of
     freedom (n - 1 for the sample standard deviation)."""
     nu = n - 1 if nu is None else nu
-    z = float(stats.norm.ppf(1 - (1 - confidence) / 2))
+    z = float(special.ndtri(1 - (1 - confidence) / 2))
     half = z * float(np.sqrt(1 / (9 * n) + cpk * cpk / (2 * nu)))
     return Interval(cpk - half, cpk + half)
 
@@ -233,6 +233,8 @@ def attribute_rate(count: float, units: float, kind: str, confidence: float = 0.
 
     Clopper and Pearson (1934): beta quantiles; Garwood (1936): chi2(alpha/2, 2x)/2 to chi2(1 - alpha/2, 2x + 2)/2.
     """
+    from scipy import stats
+
     confidence = _check_confidence(confidence)
     alpha = 1 - confidence
     if units <= 0:

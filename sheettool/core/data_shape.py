@@ -19,9 +19,10 @@ from __future__ import annotations
 import math
 import warnings
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
-from scipy import signal, stats
+from scipy.special import ndtr
 
 from sheettool.core.shape_scheme import (
     DEFAULT_SEED,
@@ -33,12 +34,15 @@ from sheettool.core.shape_scheme import (
     scheme_shape_arl,
 )
 
+if TYPE_CHECKING:
+    from scipy import stats
+
 DIFFERENCE_WARNED = 0.30  # relative difference of the ARL from the normal figure that earns a warning
 MIN_READINGS = 20
 
 
 def _normal_arl(k: float) -> float:
-    return 1.0 / (2.0 * stats.norm.sf(k))
+    return 1.0 / (2.0 * ndtr(-k))
 
 
 @dataclass
@@ -69,6 +73,8 @@ def _fits(x: np.ndarray) -> dict[str, tuple[stats.rv_continuous, tuple[float, ..
     A base period of more than FIT_READINGS readings is thinned to that many, evenly spaced in the sorted readings
     (deterministic, keeping both tails), so that a 100,000-subgroup sheet fits in the time of a month's data.
     """
+    from scipy import stats
+
     if x.size > FIT_READINGS:
         x = np.sort(x)[np.linspace(0, x.size - 1, FIT_READINGS).round().astype(int)]
     out = {"normal": (stats.norm, (float(np.mean(x)), float(np.std(x))), 0.0)}
@@ -202,6 +208,8 @@ def ar1_arl(phi: float, half_width: float, paths: int = 5_000, max_steps: int = 
     X_t = phi X_t-1 + sqrt(1 - phi^2) e_t with X_0 from the stationary law; all paths advance together in blocks
     (scipy.signal.lfilter). Returns (ARL, standard error, censored); a censored ARL is a lower bound.
     """
+    from scipy import signal
+
     if not -1 < phi < 1:
         raise ValueError(f"phi must lie strictly between -1 and 1, got {phi}")
     rng = np.random.default_rng(seed)

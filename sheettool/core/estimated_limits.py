@@ -25,7 +25,7 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import optimize, stats
+from scipy import special
 
 from sheettool.core.sigma import SigmaEstimator, SigmaMethod, modelled_method, sigma_estimator
 from sheettool.core.timing import THREE_SIGMA_ARL
@@ -39,13 +39,13 @@ _T, _TW = np.polynomial.legendre.leggauss(16)
 
 def _log_p(a: np.ndarray, t: np.ndarray) -> np.ndarray:
     """log P(point beyond limits) with the center offset a and half-width t, in standard errors of a point."""
-    return np.logaddexp(stats.norm.logsf(t - a), stats.norm.logsf(t + a))
+    return np.logaddexp(special.log_ndtr(-(t - a)), special.log_ndtr(-(t + a)))
 
 
 def _half_width_for(q: float, a: np.ndarray) -> np.ndarray:
     """The half-width t with P(beyond) = q for each center offset a (vectorised bisection, bracketed)."""
-    lo = np.maximum(a + stats.norm.isf(q), 0.0)
-    hi = a + stats.norm.isf(q / 2.0)
+    lo = np.maximum(a - special.ndtri(q), 0.0)
+    hi = a - special.ndtri(q / 2.0)
     target = math.log(q)
     for _ in range(80):
         mid = 0.5 * (lo + hi)
@@ -74,10 +74,12 @@ def _exceedance(level: float, est: SigmaEstimator, a: np.ndarray, L: float) -> f
 
 def _quantile(q: float, est: SigmaEstimator, a: np.ndarray, L: float) -> float:
     """The q-quantile of CARL: the level x with P(CARL < x) = q."""
+    from scipy import optimize
+
     def gap(log_x: float) -> float:
         return (1.0 - _exceedance(math.exp(log_x), est, a, L)) - q
 
-    hi = math.log(1.0 / (2.0 * stats.norm.sf(L)))
+    hi = math.log(1.0 / (2.0 * special.ndtr(-L)))
     while gap(hi) < 0:
         hi += 1.0
     return math.exp(optimize.brentq(gap, 0.0, hi, xtol=1e-10, rtol=1e-12))
@@ -143,7 +145,7 @@ def carl_distribution(m: int, n: int, sigma_method: SigmaMethod | str, L: float 
     which = "exact" if est.exact else "approximate (scaled chi with exact mean and variance, Patnaik 1950)"
     return CarlDistribution(
         m=int(m), n=int(n), sigma_method=est.method, L=float(L),
-        known_arl=float(1.0 / (2.0 * stats.norm.sf(L))),
+        known_arl=float(1.0 / (2.0 * special.ndtr(-L))),
         mean=mean, sd=sd, p10=_quantile(0.1, est, a, L), p50=_quantile(0.5, est, a, L),
         method=(f"conditional in-control ARL of limits center +/- {L:g} sigma_hat/sqrt(n) with mean and sigma "
                 f"({est.method.model_words}) estimated from {_base_words(m, n)}; sigma_hat distribution "
@@ -188,6 +190,8 @@ class AdjustedFactor:
 def adjusted_factor(m: int, n: int, sigma_method: SigmaMethod | str, target: float = THREE_SIGMA_ARL,
                     exceed: float = 0.9, tolerance: float = 0.0) -> AdjustedFactor:
     """Solve for the limit factor that makes the in-control ARL at least the target with probability `exceed`."""
+    from scipy import optimize
+
     floor = _check_criterion(target, exceed, tolerance)
     est = sigma_estimator(m, n, sigma_method)
     a = _offsets(m)
@@ -242,7 +246,7 @@ def subgroups_needed(n: int, sigma_method: SigmaMethod | str, target: float = TH
     floor = _check_criterion(target, exceed, tolerance)
     _check_L(L)
     method = modelled_method(sigma_method)
-    reachable = bool(1.0 / (2.0 * stats.norm.sf(L)) > floor)
+    reachable = bool(1.0 / (2.0 * special.ndtr(-L)) > floor)
 
     def meets(m: int) -> bool:
         return exceedance(floor, m, n, method, L) >= exceed

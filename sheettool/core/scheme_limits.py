@@ -20,7 +20,7 @@ from dataclasses import replace
 from functools import lru_cache
 
 import numpy as np
-from scipy import interpolate, optimize, stats
+from scipy import interpolate, optimize, special
 
 from sheettool.core.constants import constants, range_cdf
 from sheettool.core.estimated_limits import (
@@ -84,8 +84,8 @@ class _SchemeCarl:
             lower = range_cdf(c.D3 * c.d2 * w, self.n) if c.D3 > 0 else 0.0
         else:  # (n - 1) S^2 / sigma^2 is chi-square with n - 1 degrees of freedom
             dof = self.n - 1
-            upper = stats.chi2.sf(dof * (c.B4 * c.c4 * w) ** 2, dof)
-            lower = stats.chi2.cdf(dof * (c.B3 * c.c4 * w) ** 2, dof) if c.B3 > 0 else 0.0
+            upper = special.chdtrc(dof, dof * (c.B4 * c.c4 * w) ** 2)
+            lower = special.chdtr(dof, dof * (c.B3 * c.c4 * w) ** 2) if c.B3 > 0 else 0.0
         return np.clip(upper + lower, 0.0, 1.0)
 
     def log_carl(self, a: np.ndarray, w: np.ndarray, L: float) -> np.ndarray:
@@ -95,7 +95,7 @@ class _SchemeCarl:
         spread = self.spread_probability(w, L)[None, :]
         if self.geometric:
             cuts = self.chain.cuts
-            cdf = stats.norm.cdf((cuts[None, None, :] - shift[..., None]) / ratio[..., None])
+            cdf = special.ndtr((cuts[None, None, :] - shift[..., None]) / ratio[..., None])
             cells = np.zeros((*shift.shape, 2 * len(cuts) + 1))
             cells[..., 0::2] = np.diff(np.concatenate([np.zeros((*shift.shape, 1)), cdf,
                                                        np.ones((*shift.shape, 1))], axis=-1), axis=-1)

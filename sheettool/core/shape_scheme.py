@@ -6,9 +6,9 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
-from scipy import signal, stats
 from scipy.special import expit
 
 from sheettool.core.constants import constants
@@ -16,6 +16,9 @@ from sheettool.core.rules import Rule, parse_rules
 from sheettool.core.runlength.montecarlo import _block_hits
 from sheettool.core.runlength.shewhart import range_beyond_probability, sd_beyond_probability
 from sheettool.core.runlength.zones import ZoneChain, normal_cell_probabilities
+
+if TYPE_CHECKING:
+    from scipy import stats
 
 DEFAULT_SEED = 20_261_202
 
@@ -149,6 +152,8 @@ def ar1_scheme_arl(phi: float, half_width: float, k: float, scheme: ShapeScheme,
     rules are the engine's own predicates on each block; the spread chart, whose readings the AR(1) of the plotted
     points leaves alone, signals independently with its normal probability. Returns (ARL, standard error, censored).
     """
+    from scipy import signal  # imported here: the start-up of commands that never simulate stays short
+
     if not -1 < phi < 1:
         raise ValueError(f"phi must lie strictly between -1 and 1, got {phi}")
     rules = list(scheme.rules)

@@ -21,7 +21,7 @@ from dataclasses import dataclass
 from enum import Enum
 
 import numpy as np
-from scipy import optimize, special, stats
+from scipy import special
 
 from sheettool.core.constants import c4, d2, d3
 
@@ -103,16 +103,20 @@ class SigmaEstimator:
 
     def cdf(self, w: np.ndarray) -> np.ndarray:
         """P(W <= w)."""
-        return stats.chi2.cdf(self.nu * (np.asarray(w) / self.scale) ** 2, self.nu)
+        return special.chdtr(self.nu, self.nu * (np.asarray(w) / self.scale) ** 2)
 
     def logpdf(self, w: np.ndarray) -> np.ndarray:
         """log density of W at w > 0."""
+        from scipy import stats
+
         w = np.asarray(w, dtype=float)
         t = self.nu * (w / self.scale) ** 2
         return stats.chi2.logpdf(t, self.nu) + np.log(2.0 * self.nu * w / self.scale**2)
 
     def ppf(self, q: float) -> float:
         """The q-quantile of W."""
+        from scipy import stats
+
         return float(self.scale * math.sqrt(stats.chi2.ppf(q, self.nu) / self.nu))
 
 
@@ -134,6 +138,8 @@ def _chi_mean(nu: float) -> float:
 
 def _moment_matched(method: SigmaMethod, variance: float, tail_rate: float) -> SigmaEstimator:
     """Scaled chi with mean 1 and the given variance (Patnaik 1950): solve (1 - c^2) / c^2 = variance for nu."""
+    from scipy import optimize
+
     def gap(log_nu: float) -> float:
         short = _chi_shortfall(math.exp(log_nu))
         c = 1.0 - short

@@ -10,10 +10,10 @@ from __future__ import annotations
 
 from typing import overload
 
-from scipy import stats
+from scipy import special
 
 # 3-sigma limits with known mean and sigma: 1 / (2 Phi(-3)) = 370.4 points between false alarms (common practice).
-THREE_SIGMA_ARL = float(1.0 / (2.0 * stats.norm.sf(3.0)))
+THREE_SIGMA_ARL = float(1.0 / (2.0 * special.ndtr(-3.0)))
 
 
 @overload

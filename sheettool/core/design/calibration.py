@@ -12,7 +12,7 @@ import math
 from collections.abc import Callable
 from functools import lru_cache
 
-from scipy import optimize, stats
+from scipy import special
 
 from sheettool.core.parameters import EwmaParameters
 from sheettool.core.runlength import cusum
@@ -38,6 +38,8 @@ def run_length(scheme: Scheme, shift: float, as_drawn: bool = True) -> RunLength
 
 def _calibrate(arl0: Callable[[float], float], low: float, high: float, target: float, what: str) -> float:
     """Root of log ARL0(x) = log target on [low, high], widening the bracket a few times if needed."""
+    from scipy import optimize
+
     def f(x: float) -> float:
         return math.log(arl0(x)) - math.log(target)
 
@@ -60,13 +62,15 @@ def ewma_limit_width(lam: float, target: float, as_drawn: bool = True) -> float:
     Bracket: at lambda = 1 the EWMA is the Shewhart chart, L = z(1 - 1/(2 target)); a smaller lambda needs less.
     """
     check_target(target)
-    shewhart = float(stats.norm.isf(0.5 / target))
+    shewhart = float(-special.ndtri(0.5 / target))
     return _calibrate(lambda width: run_length(Scheme("ewma", ewma=EwmaParameters(lam, width)), 0.0, as_drawn).arl,
                       0.5 * shewhart, shewhart + 0.05, target, f"EWMA lambda {lam:g}")
 
 
 def _siegmund_h(k: float, one_sided: float) -> float:
     """h whose one-sided in-control ARL is `one_sided` by Siegmund's (1985) approximation (a bracket guess)."""
+    from scipy import optimize
+
     def arl(b: float) -> float:
         return cusum.siegmund_arl(k, b - 1.166, 0.0)
 

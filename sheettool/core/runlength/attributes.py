@@ -14,7 +14,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
 
 from sheettool.core.rules import Rule
 from sheettool.core.runlength.zones import ZoneChain, discrete_cell_probabilities
@@ -69,6 +68,8 @@ class CountModel:
 
     def support(self, rate: float, top_z: float) -> tuple[np.ndarray, np.ndarray]:
         """Standardized support and probabilities at `rate`; the far upper tail is lumped at the top."""
+        from scipy import stats
+
         self.check_rate(rate)
         if self.family == "binomial":
             x = np.arange(int(self.n) + 1)

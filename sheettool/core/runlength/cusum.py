@@ -20,7 +20,7 @@ scheme (at JOINT_CELLS cells per side, accurate to about 3 significant figures).
 from __future__ import annotations
 
 import numpy as np
-from scipy import sparse, stats
+from scipy import sparse, special
 from scipy.sparse.csgraph import breadth_first_order
 
 from sheettool.core.runlength.markov import MarkovChart, arl_only
@@ -44,7 +44,7 @@ class OneSidedCusum(MarkovChart):
         """Q and start of one side's chain after a shift, from the normal cell probabilities (Brook and Evans 1972)."""
         # cell j (j >= 1) spans ((j - 1/2) w, (j + 1/2) w); cell 0 is everything below w / 2
         upper_edges = (np.arange(self.cells) + 0.5) * self.width
-        cdf = stats.norm.cdf((upper_edges[None, :] - self.centres[:, None] + self.k - shift) / sigma_ratio)
+        cdf = special.ndtr((upper_edges[None, :] - self.centres[:, None] + self.k - shift) / sigma_ratio)
         q = np.diff(np.concatenate([np.zeros((self.cells, 1)), cdf], axis=1), axis=1)
         # a head start between two cell centres: ARL read by linear interpolation between them
         pos = min(self.head_start / self.width, self.cells - 1.0)
@@ -146,7 +146,7 @@ class TwoSidedCusum(MarkovChart):
 
     def transient(self, shift: float, sigma_ratio: float) -> tuple[sparse.csc_matrix, np.ndarray]:
         """Q (sparse) and start of the joint chain of both sums after a shift."""
-        p = stats.norm.cdf((self._hi - shift) / sigma_ratio) - stats.norm.cdf((self._lo - shift) / sigma_ratio)
+        p = special.ndtr((self._hi - shift) / sigma_ratio) - special.ndtr((self._lo - shift) / sigma_ratio)
         q = sparse.csc_matrix((p, (self._rows, self._dest)), shape=(self.states, self.states))
         return q, self._start
 

@@ -15,7 +15,6 @@ from __future__ import annotations
 from dataclasses import replace
 
 import numpy as np
-from scipy import stats
 
 from sheettool.core.parameters import EwmaParameters
 from sheettool.core.runlength.markov import MarkovChart, arl_only
@@ -70,6 +69,8 @@ class EwmaChart(MarkovChart):
 
     def transient(self, shift: float, sigma_ratio: float) -> tuple[np.ndarray, np.ndarray]:
         """Q and start of the integral equation discretized at the quadrature nodes, after a shift."""
+        from scipy import stats
+
         lam, x, w = self.lam, self.x, self.w
         scale = lam * sigma_ratio
         src = np.concatenate([[0.0], x])  # state 0 is the start, Z_0 = 0

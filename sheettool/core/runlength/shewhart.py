@@ -7,7 +7,7 @@ for 3-sigma limits p = 2 * Phi(-3) = 0.0027 and ARL = 370.4).
 from __future__ import annotations
 
 import numpy as np
-from scipy import stats
+from scipy import special
 
 from sheettool.core.constants import constants, range_cdf
 
@@ -30,8 +30,8 @@ def sd_beyond_probability(n: int, sigma_ratio: float = 1.0, k: float = 3.0) -> f
     """
     c = constants(n, k)
     dof = n - 1
-    upper = float(stats.chi2.sf(dof * (c.B4 * c.c4 / sigma_ratio) ** 2, dof))
-    lower = float(stats.chi2.cdf(dof * (c.B3 * c.c4 / sigma_ratio) ** 2, dof)) if c.B3 > 0 else 0.0
+    upper = float(special.chdtrc(dof, dof * (c.B4 * c.c4 / sigma_ratio) ** 2))
+    lower = float(special.chdtr(dof, dof * (c.B3 * c.c4 / sigma_ratio) ** 2)) if c.B3 > 0 else 0.0
     return upper + lower
 
 

@@ -15,7 +15,7 @@ from collections.abc import Callable
 from functools import cache
 
 import numpy as np
-from scipy import sparse, stats
+from scipy import sparse, special
 
 from sheettool.core.rules import Rule, zone_flags
 from sheettool.core.runlength.markov import MarkovChart
@@ -107,7 +107,7 @@ class ZoneChain(MarkovChart):
 
 def normal_cell_probabilities(cuts: np.ndarray, shift: float, sigma_ratio: float) -> np.ndarray:
     """Cell probabilities of a normal point with mean `shift` and sd `sigma_ratio` (standard errors)."""
-    cdf = stats.norm.cdf((cuts - shift) / sigma_ratio)
+    cdf = special.ndtr((cuts - shift) / sigma_ratio)
     between = np.diff(np.concatenate([[0.0], cdf, [1.0]]))
     out = np.zeros(2 * len(cuts) + 1)
     out[0::2] = between
