@@ -46,7 +46,7 @@ _CARRY = 256  # a tag name cut by a chunk's end is carried over to the next one
 
 
 def _mb(size: int) -> str:
-    return f"{size / 2**20:,.0f} MB"
+    return f"{size / 2**20:,.0f} MB" if size >= 2**20 else f"{size:,} bytes"
 
 
 def refuse(path: Path, what: str) -> InputError:

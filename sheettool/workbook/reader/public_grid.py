@@ -27,6 +27,7 @@ def read_public(path: Path, ws: object, package: zipfile.ZipFile, part: str, bud
     with GuardedSource(package.open(part), budget, title, part) as source:
         marks = scan_marks(source)
     collector = RowCollector(path, title, budget)
+    collector.check_row(marks.last_row)  # before openpyxl makes the empty rows up to it
     ws.reset_dimensions()  # type: ignore[attr-defined]
     for index, values in enumerate(ws.iter_rows(values_only=True), start=1):  # type: ignore[attr-defined]
         collector.add(index, list(values))

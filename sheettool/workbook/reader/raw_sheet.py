@@ -53,8 +53,7 @@ class RowCollector:
     def add(self, index: int, row: list[object]) -> None:
         """Take sheet row `index` (1-based): its values from column A to its last cell."""
         rows = self.rows
-        if index > MAX_ROWS or len(rows) >= MAX_ROWS:
-            self._refuse(f"has row {max(index, len(rows) + 1):,}, past the format's last row ({MAX_ROWS:,})")
+        self.check_row(max(index, len(rows) + 1))
         if len(row) > MAX_COLUMNS:
             self._refuse(f"has a cell in row {index} past column {get_column_letter(MAX_COLUMNS)} "
                          f"({MAX_COLUMNS:,}), the format's last column")
@@ -68,6 +67,11 @@ class RowCollector:
         if None in row:
             self.empty.update(f"{get_column_letter(c + 1)}{index}" for c, v in enumerate(row) if v is None)
         rows.append(row)
+
+    def check_row(self, index: int) -> None:
+        """Refuse row number `index` past the format's last row."""
+        if index > MAX_ROWS:
+            self._refuse(f"has row {index:,}, past the format's last row ({MAX_ROWS:,})")
 
     def _refuse(self, what: str) -> None:
         raise refuse(self.path, f"sheet '{self.title}' {what}")

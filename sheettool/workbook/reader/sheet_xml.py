@@ -42,6 +42,7 @@ class SheetMarks:
     hidden_columns: set[int] = field(default_factory=set)
     merged: list[tuple[int, int, int, int]] = field(default_factory=list)  # min_row, min_col, max_row, max_col
     formulas: set[str] = field(default_factory=set)  # cells holding a formula, e.g. "B3"
+    last_row: int = 0  # the highest row number
 
 
 def pieces(source: IO[bytes]) -> Iterator[bytes]:
@@ -79,6 +80,7 @@ def scan_marks(source: IO[bytes]) -> SheetMarks:
         for m in _ROW.finditer(piece):
             attrs = _attributes(m.group(1))
             row = int(float(attrs["r"])) if "r" in attrs else row + 1  # rows without a number follow the last
+            marks.last_row = max(marks.last_row, row)
             if attrs.get("hidden") in _HIDDEN:
                 marks.hidden_rows.add(row)
         for m in _COL.finditer(piece):
