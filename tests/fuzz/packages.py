@@ -101,3 +101,22 @@ def repeated(head: bytes, body: bytes, times: int, tail: bytes) -> Iterable[byte
 def ratio_of(content: bytes) -> float:
     """How much deflate compresses `content` (uncompressed / compressed)."""
     return len(content) / len(zlib.compress(content, 6))
+
+
+def count_rows(subgroups: int = 25) -> str:
+    """A header row (shared strings 0..2: lot, defectives, inspected) and `subgroups` rows of counts:
+    an attribute sheet evaluates quickly (no fit of the data's shape)."""
+    rows = ['<row r="1">' + "".join(f'<c r="{c}1" t="s"><v>{j}</v></c>' for j, c in enumerate("ABC")) + "</row>"]
+    for i in range(subgroups):
+        r = i + 2
+        rows.append(f'<row r="{r}"><c r="A{r}"><v>{i + 1}</v></c><c r="B{r}"><v>{(i * 7) % 5}</v></c>'
+                    f'<c r="C{r}"><v>200</v></c></row>')
+    return "".join(rows)
+
+
+def count_parts(subgroups: int = 25) -> dict[str, bytes]:
+    """The parts of a small sound workbook of attribute counts (one sheet 'Data', a p chart)."""
+    parts = good_parts()
+    parts[STRINGS] = strings_xml(["Lot", "Defectives", "Inspected"])
+    parts[SHEET] = sheet_xml(count_rows(subgroups))
+    return parts
