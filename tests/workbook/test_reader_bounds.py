@@ -226,3 +226,10 @@ def test_reasons_are_words_not_exception_names(exc):
     wrapped.__cause__ = exc
     reason = _why(wrapped)
     assert type(exc).__name__ not in reason and "Error" not in reason and reason
+
+
+@pytest.mark.parametrize("cell", ['<c r="B5"><v>NaN</v></c>', '<c r="B5" t="s"><v>99</v></c>'])
+def test_unreadable_cell_is_named_by_its_sheet(tmp_path, way, cell):
+    rows = data_rows().replace('<c r="B5">', cell + '<c r="Z5">', 1)  # a number cell "NaN"; a missing shared text
+    message = refusal(with_sheet(tmp_path, rows))
+    assert "sheet 'Data' holds a cell that cannot be read" in message and "Error" not in message

@@ -21,7 +21,7 @@ import stat
 import warnings
 import zipfile
 import zlib
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import BinaryIO
 
@@ -149,12 +149,22 @@ def _read_book(path: Path, book: openpyxl.Workbook, package: zipfile.ZipFile) ->
     budget = CellBudget(path)
     reason = why_not(book, worksheets[0] if worksheets else None)
     if not reason:
-        return OpenedFile([read_fast(path, book, ws, budget) for ws in worksheets])
+        return OpenedFile([_sheet(path, ws, lambda ws: read_fast(path, book, ws, budget)) for ws in worksheets])
     parts = sheet_parts(path, package)
     note = Problem("note", f"{reason}: the workbook was read through openpyxl's public interface, more slowly, "
                    "and its hidden rows and columns, merged cells and formulas without a saved value were found "
                    "by a scan of each sheet's XML", file=path.name)
-    return OpenedFile([read_public(path, ws, package, parts[ws.title], budget) for ws in worksheets], [note])
+    return OpenedFile([_sheet(path, ws, lambda ws: read_public(path, ws, package, parts[ws.title], budget))
+                       for ws in worksheets], [note])
+
+
+def _sheet(path: Path, ws: object, read: Callable[[object], RawSheet]) -> RawSheet:
+    """One sheet read by `read`; a cell openpyxl cannot read is refused naming the sheet, in words."""
+    try:
+        return read(ws)
+    except (ValueError, TypeError, IndexError, KeyError, OverflowError):
+        raise InputError(f"{path}: sheet '{ws.title}' holds a cell that cannot be read (a number cell that is "  # type: ignore[attr-defined]
+                         f"not a number, or a shared text that does not exist); {_SAVE_AS}") from None
 
 
 def _why(exc: BaseException) -> str:
