@@ -1,6 +1,8 @@
 """Open an input file safely and hand back its sheets as plain grids of cell values.
 
-File-level trouble becomes one InputError naming the file and what to do. An .xlsx or .xlsm is
+File-level trouble becomes one InputError naming the file and what to do, in words. Only a regular
+file is read, opened without waiting (a named pipe would block) and through one handle checked once.
+The package's directory is held to the limits of limits.py before openpyxl opens it. An .xlsx or .xlsm is
 opened with openpyxl in read-only mode, cached formula values only: macros are never run and never
 copied. Its sheets are read by fast_grid where that can be, else by public_grid, which says so in a
 note; both give the same grids. openpyxl parses through defusedxml (a dependency), so a package with
