@@ -16,6 +16,7 @@ from pathlib import Path
 import openpyxl
 from openpyxl.utils.cell import coordinate_to_tuple
 
+from sheettool.workbook.reader.limits import CellBudget, GuardedSource, column_span
 from sheettool.workbook.reader.raw_sheet import RawSheet, RowCollector
 from sheettool.workbook.reader.sheet_xml import formula_cells
 
@@ -26,7 +27,7 @@ except ImportError:  # a release that moved or renamed it
 
 TESTED_SERIES = ("3.1",)  # openpyxl major.minor; pyproject.toml bounds openpyxl to the same
 _BOOK_NAMES = ("epoch", "_date_formats", "_timedelta_formats")
-_SHEET_NAMES = ("_get_source", "_shared_strings")
+_SHEET_NAMES = ("_get_source", "_shared_strings", "_worksheet_path")
 
 
 def why_not(book: object, ws: object | None) -> str:
@@ -43,12 +44,13 @@ def why_not(book: object, ws: object | None) -> str:
     return ""
 
 
-def read_fast(path: Path, book: object, ws: object) -> RawSheet:
-    """Stream one sheet's XML into a grid (what openpyxl's read-only mode does, without its cell objects)."""
+def read_fast(path: Path, book: object, ws: object, budget: CellBudget) -> RawSheet:
+    """Stream one sheet's XML into a grid (what openpyxl's read-only mode does, without its cell objects),
+    through a GuardedSource that spends the workbook's cell `budget`."""
     title: str = ws.title  # type: ignore[attr-defined]
-    collector = RowCollector(path, title)
+    collector = RowCollector(path, title, budget)
     add = collector.add
-    with ws._get_source() as source:  # type: ignore[attr-defined]
+    with GuardedSource(ws._get_source(), budget, title, ws._worksheet_path) as source:  # type: ignore[attr-defined]
         parser = WorkSheetParser(source, ws._shared_strings, data_only=True, epoch=book.epoch,  # type: ignore[attr-defined]
                                  date_formats=book._date_formats,  # type: ignore[attr-defined]
                                  timedelta_formats=book._timedelta_formats)  # type: ignore[attr-defined]
@@ -70,7 +72,7 @@ def read_fast(path: Path, book: object, ws: object) -> RawSheet:
             uncached = collector.uncached(formula_cells(source))
     hidden_rows = {int(r) for r, attrs in parser.row_dimensions.items() if attrs.get("hidden") in ("1", "true")}
     hidden_columns = {c for attrs in parser.column_dimensions.values() if attrs.get("hidden") in ("1", "true")
-                      for c in range(int(attrs["min"]), int(attrs.get("max", attrs["min"])) + 1)}
+                      for c in column_span(attrs.get("min"), attrs.get("max", attrs.get("min")))}
     merged = []
     if parser.merged_cells is not None:
         for item in parser.merged_cells.mergeCell:

@@ -15,10 +15,13 @@ import re
 import zipfile
 from collections.abc import Iterator
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import IO
 
 from defusedxml import ElementTree
 from openpyxl.utils.cell import coordinate_to_tuple
+
+from sheettool.workbook.reader.limits import column_span, read_small
 
 _P = rb"<(?:[A-Za-z_][\w.-]*:)?"  # a tag's start, with its namespace prefix if any
 FORMULA_CELL = re.compile(_P + rb'c\b[^>]*?\br="([A-Z]{1,3}[0-9]+)"[^>]*>\s*' + _P + rb"f\b")
@@ -39,6 +42,7 @@ class SheetMarks:
     hidden_columns: set[int] = field(default_factory=set)
     merged: list[tuple[int, int, int, int]] = field(default_factory=list)  # min_row, min_col, max_row, max_col
     formulas: set[str] = field(default_factory=set)  # cells holding a formula, e.g. "B3"
+    last_row: int = 0  # the highest row number
 
 
 def pieces(source: IO[bytes]) -> Iterator[bytes]:
@@ -76,12 +80,13 @@ def scan_marks(source: IO[bytes]) -> SheetMarks:
         for m in _ROW.finditer(piece):
             attrs = _attributes(m.group(1))
             row = int(float(attrs["r"])) if "r" in attrs else row + 1  # rows without a number follow the last
+            marks.last_row = max(marks.last_row, row)
             if attrs.get("hidden") in _HIDDEN:
                 marks.hidden_rows.add(row)
         for m in _COL.finditer(piece):
             attrs = _attributes(m.group(1))
             if attrs.get("hidden") in _HIDDEN and "min" in attrs:
-                marks.hidden_columns.update(range(int(attrs["min"]), int(attrs.get("max", attrs["min"])) + 1))
+                marks.hidden_columns.update(column_span(attrs["min"], attrs.get("max", attrs["min"])))
         for m in _MERGE.finditer(piece):
             if ref := _attributes(m.group(1)).get("ref", b"").decode().replace("$", ""):
                 lo, hi = ([*ref.split(":"), ref])[:2]
@@ -98,13 +103,14 @@ def _attributes(text: bytes) -> dict[str, bytes]:
             for m in _ATTR.finditer(text)}
 
 
-def sheet_parts(package: zipfile.ZipFile) -> dict[str, str]:
-    """Worksheet name -> its part in the package, by the package's and the workbook's relationships."""
-    book = _target(package, "", "_rels/.rels", "officeDocument")
+def sheet_parts(path: Path, package: zipfile.ZipFile) -> dict[str, str]:
+    """Worksheet name -> its part in the package, by the package's and the workbook's relationships
+    (parts read whole, each within the limit for that)."""
+    book = _target(path, package, "", "_rels/.rels", "officeDocument")
     folder, name = posixpath.split(book)
-    rels = _relations(package, folder, posixpath.join(folder, "_rels", f"{name}.rels"))
+    rels = _relations(path, package, folder, posixpath.join(folder, "_rels", f"{name}.rels"))
     parts: dict[str, str] = {}
-    for element in ElementTree.fromstring(package.read(book)).iter():
+    for element in ElementTree.fromstring(read_small(path, package, book)).iter():
         if _local(element.tag) == "sheet":
             rid = next((v for k, v in element.attrib.items() if _local(k) == "id"), None)
             if rid in rels:
@@ -112,18 +118,18 @@ def sheet_parts(package: zipfile.ZipFile) -> dict[str, str]:
     return parts
 
 
-def _target(package: zipfile.ZipFile, folder: str, rels_part: str, kind: str) -> str:
+def _target(path: Path, package: zipfile.ZipFile, folder: str, rels_part: str, kind: str) -> str:
     """The part a relationship of `kind` (the end of its type) points to."""
-    for target_type, target in _relations(package, folder, rels_part).values():
+    for target_type, target in _relations(path, package, folder, rels_part).values():
         if target_type.rsplit("/", 1)[-1] == kind:
             return target
     raise KeyError(f"no {kind} relationship in {rels_part}")
 
 
-def _relations(package: zipfile.ZipFile, folder: str, rels_part: str) -> dict[str, tuple[str, str]]:
+def _relations(path: Path, package: zipfile.ZipFile, folder: str, rels_part: str) -> dict[str, tuple[str, str]]:
     """Relationship id -> (type, target part name resolved against `folder`)."""
     found: dict[str, tuple[str, str]] = {}
-    for element in ElementTree.fromstring(package.read(rels_part)).iter():
+    for element in ElementTree.fromstring(read_small(path, package, rels_part)).iter():
         if _local(element.tag) == "Relationship":
             target = element.attrib.get("Target", "")
             part = target.lstrip("/") if target.startswith("/") else posixpath.normpath(posixpath.join(folder, target))
