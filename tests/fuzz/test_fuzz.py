@@ -83,10 +83,9 @@ def broken_packages(draw: st.DrawFn) -> bytes:
     return whole
 
 
-# Numbers up to 10,000 and from 10**12 on: a count of units inspected near 10**8 makes the run-length
-# computation of an attribute chart take minutes (reported; the chain's size follows the count).
-NUMBERS = st.one_of(st.integers(-10**4, 10**4).map(str), st.floats(-1e4, 1e4).map(repr),
-                    st.floats(min_value=1e12, allow_nan=False, allow_infinity=True).map(repr),
+# Numbers of every size: a count of units inspected near 10**8 once made an attribute chart's run-length work
+# take minutes (the chain enumerated every count); it now keeps a few counts per threshold.
+NUMBERS = st.one_of(st.integers(-10**4, 10**4).map(str), st.floats(allow_nan=False, allow_infinity=True).map(repr),
                     st.sampled_from(["1e400", "-1e400", "NaN", "inf", "", " ", "0x10", "1,5", "1.2.3"]))
 REFS = st.one_of(st.from_regex(r"\A[A-Z]{1,3}[0-9]{1,8}\Z"), st.sampled_from(["", "A0", "1A", "XFE1", "ZZZZ1", "$A$1"]))
 ROW_NUMBERS = st.one_of(st.integers(-3, 2_000_000).map(str), st.sampled_from(["", "x", "1.5", "1e3"]))

@@ -18,8 +18,6 @@ import numpy as np
 from sheettool.core.rules import Rule
 from sheettool.core.runlength.zones import ZoneChain, discrete_cell_probabilities
 
-_TAIL = 1e-15
-
 
 @dataclass(frozen=True)
 class CountModel:
@@ -66,21 +64,34 @@ class CountModel:
             what = "a proportion from 0 to 1" if self.family == "binomial" else "zero or positive"
             raise ValueError(f"the shifted rate must be {what}, got {rate}")
 
-    def support(self, rate: float, top_z: float) -> tuple[np.ndarray, np.ndarray]:
-        """Standardized support and probabilities at `rate`; the far upper tail is lumped at the top."""
+    def support(self, rate: float, cuts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Standardized support and probabilities at `rate`, exact for the cells the cuts make.
+
+        Only the counts next to a threshold (mean0 + cut * se0, two either side) are kept one by one; the mass of
+        every stretch of counts between them lies in one cell and is carried by one of its counts (from the cdf or,
+        above, the survival function). The work is thus a few points per cut, however many units are inspected
+        (1e12 units inspected once needed an array of 4e10 counts).
+        """
         from scipy import stats
 
         self.check_rate(rate)
-        if self.family == "binomial":
-            x = np.arange(int(self.n) + 1)
-            pmf = stats.binom.pmf(x, int(self.n), rate)
-        else:
-            mu = self.n * rate
-            top = int(max(stats.poisson.isf(_TAIL, mu) if mu > 0 else 0, self.mean0 + top_z * self.se0 + 1)) + 1
-            x = np.arange(top + 1)
-            pmf = stats.poisson.pmf(x, mu)
-            pmf[-1] += stats.poisson.sf(top, mu)
-        return (x - self.mean0) / self.se0, pmf
+        dist = stats.binom(int(self.n), rate) if self.family == "binomial" else stats.poisson(self.n * rate)
+        top = int(self.n) if self.family == "binomial" else None
+        thresholds = self.mean0 + np.asarray(cuts, dtype=float) * self.se0
+        near = np.unique(np.floor(thresholds)[:, None] + np.arange(-2, 4)[None, :])
+        near = near[(near >= 0) & (near <= (np.inf if top is None else top))]
+        if near.size == 0:  # every threshold beyond the support (a tiny n): the support itself is short
+            near = np.arange(0, (top if top is not None else 0) + 1, dtype=float)
+        gaps = np.flatnonzero(np.diff(near) > 1)  # counts strictly between near[g] and near[g + 1]
+        x = [near, near[gaps] + 1]
+        pmf = [dist.pmf(near), dist.cdf(near[gaps + 1] - 1) - dist.cdf(near[gaps])]
+        if near[0] > 0:
+            x.append(near[:1] - 1)
+            pmf.append(dist.cdf(near[:1] - 1))
+        if top is None or near[-1] < top:
+            x.append(near[-1:] + 1)
+            pmf.append(dist.sf(near[-1:]))
+        return (np.concatenate(x) - self.mean0) / self.se0, np.concatenate(pmf)
 
     def sample(self, rng: np.random.Generator, rate: float, shape: tuple[int, int]) -> np.ndarray:
         """Standardized counts drawn at `rate`, for simulation."""
@@ -95,7 +106,7 @@ def attribute_chain(model: CountModel, rules: list[Rule]) -> ZoneChain:
     """The zone chain of an attribute chart; its `shift` argument is the rate itself (p1, u1 or c1)."""
 
     def cells(cuts: np.ndarray, rate: float, _sigma_ratio: float) -> np.ndarray:
-        z, pmf = model.support(rate, float(np.max(np.abs(cuts))))
+        z, pmf = model.support(rate, cuts)
         return discrete_cell_probabilities(cuts, z, pmf)
 
     return ZoneChain(rules, cells, in_control=(model.rate0, 1.0))
