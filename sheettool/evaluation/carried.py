@@ -1,6 +1,7 @@
 """Carried limits: what the limits block keeps of a characteristic, and those limits back as typed parameters.
 
-The block's sheet is read and written by sheettool.workbook.limits_block; this module holds only the entries.
+The block's sheet is read and written by sheettool.workbook.limits_block; this module holds only the entries:
+what one keeps, whether one read back can be trusted (`entry_problem`), and its limits as parameters.
 """
 
 from __future__ import annotations
@@ -37,6 +38,48 @@ def limits_entry(result: Fitted | CharacteristicResult) -> dict[str, Any]:
         "limits": {s.name: {"center": _finite(s.center[0]), "lcl": _finite(s.lcl[0]), "ucl": _finite(s.ucl[0])}
                    for s in fit.statistics},
     }
+
+
+_TEXTS = ("sheet", "chart", "key", "sigma_method", "limits_source", "set_by")
+
+
+def entry_problem(entry: dict[str, Any]) -> str:
+    """What makes a limits-block entry unfit to carry, in words ("" when it is fit): the types `limits_entry`
+    writes, every number finite, sigma above zero, and each series' LCL <= center <= UCL."""
+    if not isinstance(entry.get("sheet"), str) or not isinstance(entry.get("chart"), str):
+        return "the entry has no sheet name or chart kind"
+    for key in _TEXTS:
+        if entry.get(key) is not None and not isinstance(entry[key], str):
+            return f"{key} is not text"
+    size = entry.get("subgroup_size")
+    if size is not None and (not _is_number(size) or size < 1):
+        return f"subgroup_size {size!r} is not a positive number"
+    for key in ("process_mean", "sigma_within"):
+        if entry.get(key) is not None and not _is_number(entry[key]):
+            return f"{key} {entry[key]!r} is not a finite number"
+    if entry.get("sigma_within") is not None and entry["sigma_within"] <= 0:
+        return f"sigma_within {entry['sigma_within']!r} is not above zero"
+    parameters = entry.get("parameters", {})
+    if not isinstance(parameters, dict):
+        return "parameters is not an object of numbers"
+    for name, value in parameters.items():
+        if value is not None and not _is_number(value):
+            return f"parameter {name} {value!r} is not a finite number"
+    limits = entry.get("limits", {})
+    if not isinstance(limits, dict) or not all(isinstance(v, dict) for v in limits.values()):
+        return "limits is not an object of center, lcl and ucl per series"
+    for series, line in limits.items():
+        values = [line.get(k) for k in ("lcl", "center", "ucl")]
+        if any(v is not None and not _is_number(v) for v in values):
+            return f"the limits of {series} are not finite numbers"
+        known = [v for v in values if v is not None]
+        if known != sorted(known):
+            return f"the limits of {series} are out of order (LCL <= center <= UCL)"
+    return ""
+
+
+def _is_number(value: object) -> bool:
+    return isinstance(value, int | float) and not isinstance(value, bool) and math.isfinite(value)
 
 
 def carried_parameters(entry: dict[str, Any]) -> tuple[str, dict[str, float], str, str]:

@@ -188,7 +188,7 @@ def test_limits_file_without_block_or_unknown_version(run_cli, tmp_path):
     book = openpyxl.load_workbook(evaluated)
     book[LIMITS_SHEET]["C1"] = 7
     book.save(evaluated)
-    with pytest.raises(InputError, match=r"e\.xlsx: limits block version 7 is not known"):
+    with pytest.raises(InputError, match=r"e\.xlsx: sheet .limits-block., cell C1: limits block version 7 "):
         read_limits_block(evaluated)
 
 

@@ -3,7 +3,7 @@
 Opening: opening.py checks the file and reads each sheet into a RawSheet (raw_sheet.py) by
 fast_grid.py (openpyxl's private parser, for the versions tested) or public_grid.py (its public
 read-only interface, with sheet_xml.py scanning the XML for what that does not show), within the
-bounds of limits.py.
+bounds of limits.py; a .csv by csv_sheet.py.
 Values: cells.py sorts one cell's value, cell_grid.py holds a sheet's kinds and numbers.
 Grouping: header.py finds header, units row and data rows, columns.py each column's role,
 layouts.py the layout and its subgroups. Findings: findings.py (exclusions, account, problems).

@@ -24,7 +24,7 @@ class CellGrid:
 
     rows: list[list[object]]  # the sheet's rows, numbers typed as text replaced by the numbers
     kinds: np.ndarray  # rows x width, BLANK, NUMBER, DATE or TEXT
-    numbers: np.ndarray  # rows x width
+    numbers: np.ndarray  # rows x width; NaN also where a NUMBER is not finite (1e999 overflows), never a reading
 
     @property
     def width(self) -> int:
@@ -69,6 +69,7 @@ def cell_grid(rows: list[list[object]]) -> CellGrid:
     if where.size:
         values = [v for row in rows for v in row]
         numbers_flat[where] = [values[i] for i in where.tolist()]
+        numbers_flat[where[~np.isfinite(numbers_flat[where])]] = np.nan  # 1e999, inf, nan: numbers but no reading
     kinds = np.zeros((len(rows), width), dtype=np.int8)
     numbers = np.full((len(rows), width), np.nan)
     kinds[row_of, col_of] = kinds_flat
@@ -104,7 +105,7 @@ def value_cells(grid: CellGrid, title: str, data: list[int], columns: list[int])
         raise InputError("no column of measurements found under the header")
     sub = grid.kinds[data][:, columns] if data else np.zeros((0, len(columns)), dtype=np.int8)
     values = grid.numbers[data][:, columns]
-    junk = np.argwhere((sub == TEXT) | (sub == DATE))
+    junk = np.argwhere((sub == TEXT) | (sub == DATE) | ((sub == NUMBER) & np.isnan(values)))  # NaN: not finite
     not_numbers = [address(title, data[i] + 1, columns[j] + 1) for i, j in junk]
     has_reading = ~np.all(np.isnan(values), axis=1)
     kept = [i for i, k in zip(data, has_reading, strict=True) if k]

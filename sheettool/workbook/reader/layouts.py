@@ -69,6 +69,9 @@ def subgroups(grid: CellGrid, columns: Columns, cells: ValueCells, size: Setting
     return shape
 
 
+MAX_UNITS = 1e12  # more units (or defects) in one subgroup than any inspection records: a typing or export error
+
+
 def _counts(across: Subgroups, values: np.ndarray, columns: Columns) -> Subgroups:
     """Attribute counts: the count column, the units inspected (one unit a row for defects without it)."""
     kind = columns.roles[columns.count]  # type: ignore[index]
@@ -78,7 +81,8 @@ def _counts(across: Subgroups, values: np.ndarray, columns: Columns) -> Subgroup
         raise InputError(f"column {get_column_letter(columns.count + 1)} counts defectives but no column gives "  # type: ignore[operator]
                          "the number inspected; add one headed 'inspected'")
     counts = values[:, 0]
-    impossible = np.isnan(counts) | (counts < 0) | np.isnan(inspected) | (inspected <= 0)
+    impossible = (np.isnan(counts) | (counts < 0) | np.isnan(inspected) | (inspected <= 0)
+                  | (counts > MAX_UNITS) | (inspected > MAX_UNITS))
     if kind == "defectives":  # units that fail are counted out of whole units; a u chart's size may be an area
         impossible |= (counts > inspected) | (np.mod(inspected, 1) != 0)
     notes = list(across.notes)

@@ -14,9 +14,7 @@ one-line message saying how to convert it.
 from __future__ import annotations
 
 import contextlib
-import csv
 import gc
-import io
 import os
 import re
 import stat
@@ -31,6 +29,7 @@ import openpyxl
 
 from sheettool.base.errors import InputError
 from sheettool.base.problems import Problem
+from sheettool.workbook.reader.csv_sheet import csv_sheet
 from sheettool.workbook.reader.fast_grid import read_fast, why_not
 from sheettool.workbook.reader.limits import CellBudget, check_loaded, check_package
 from sheettool.workbook.reader.public_grid import read_public
@@ -68,7 +67,7 @@ def open_sheets(path: Path) -> OpenedFile:
         if head.startswith(OLE_MAGIC):
             raise InputError(f"{path}: encrypted or old .xls; save as .xlsx without a password and try again")
         if suffix == ".csv":
-            return OpenedFile([_csv_sheet(path)])
+            return OpenedFile([csv_sheet(path)])
         if suffix == ".ods":
             raise InputError(f"{path}: an OpenDocument spreadsheet; {_SAVE_AS}")
         if suffix == ".xlsb":
@@ -201,17 +200,3 @@ _REASONS: tuple[tuple[type[BaseException], str], ...] = (
     (KeyError, "a part or a reference it needs is missing"),
 )
 
-
-def _csv_sheet(path: Path) -> RawSheet:
-    """A .csv as one sheet named after the file (UTF-8, or Windows-1252 where it is not UTF-8)."""
-    raw = path.read_bytes()
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError:
-        text = raw.decode("cp1252", errors="replace")
-    # Separator: tab if the text has tabs, else ";" if it has any (exports with decimal commas use
-    # it), else ",".
-    delimiter = "\t" if "\t" in text else ";" if ";" in text else ","
-    rows = [[cell if cell.strip() else None for cell in row] for row in csv.reader(io.StringIO(text),
-                                                                                    delimiter=delimiter)]
-    return RawSheet(title=path.stem, rows=rows)
