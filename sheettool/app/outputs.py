@@ -26,6 +26,7 @@ from defusedxml.ElementTree import iterparse
 from sheettool.app.api import default_output
 from sheettool.base.errors import OutputError, UsageError
 from sheettool.workbook.limits_block import LIMITS_SHEET, MARKER
+from sheettool.workbook.writer.book import os_error_cause
 
 HEAD_BYTES = 1 << 20  # of the workbook part and its relationships: the sheet list comes first
 SHEET_BYTES = 1 << 16  # of the limits-block sheet: its first cell comes first
@@ -99,17 +100,8 @@ def _names(path: Path) -> Iterator[Path]:
 
 def write_failure(path: Path, exc: BaseException) -> OutputError | None:
     """The OutputError naming the real cause when `exc` (a library's wrapper, say) carries an OS error; else None."""
-    seen: list[BaseException] = []
-    todo: list[object] = [exc]
-    while todo and len(seen) < 20:
-        item = todo.pop(0)
-        if not isinstance(item, BaseException) or item in seen:
-            continue
-        if isinstance(item, OSError):
-            return OutputError(f"{path}: cannot write the output ({item.strerror or item})")
-        seen.append(item)
-        todo += [item.__cause__, item.__context__, *item.args]
-    return None
+    cause = os_error_cause(exc)
+    return None if cause is None else OutputError(f"{path}: cannot write the output ({cause.strerror or cause})")
 
 
 def is_sheettool_output(path: Path) -> bool:

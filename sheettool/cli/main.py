@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import sys
+import warnings
 from importlib import import_module
 
 from sheettool import TOOL_NAME, __version__
@@ -59,7 +60,13 @@ def main(argv: list[str] | None = None) -> int:
     """Run the command line; return the exit code."""
     args = build_parser().parse_args(argv)
     try:
-        return int(args.run(args))
+        with warnings.catch_warnings(record=True) as caught:  # numpy's RuntimeWarnings: in our words, once each
+            warnings.simplefilter("always", RuntimeWarning)
+            code = int(args.run(args))
+        for text in dict.fromkeys(str(w.message) for w in caught if issubclass(w.category, RuntimeWarning)):
+            sys.stderr.write(f"{TOOL_NAME}: note: a computation met '{text}'; check the results it concerns, "
+                             "and please report the input that caused it\n")
+        return code
     except SheettoolError as exc:
         sys.stderr.write(f"{TOOL_NAME}: {exc}\n")
         return exc.exit_code

@@ -100,3 +100,38 @@ def test_attribute_rate_is_reported():
     rate = result.capability
     assert rate.kind == "proportion" and rate.estimate == pytest.approx(0.1)
     assert rate.ci.low < 0.1 < rate.ci.high
+
+
+def test_zero_defectives_in_the_base_period_draw_a_chart_with_a_note(run_cli, tmp_path):
+    import openpyxl
+
+    path = tmp_path / "seal.xlsx"
+    book = openpyxl.Workbook()
+    ws = book.active
+    ws.title = "Seal"
+    ws.append(["Lot", "Inspected", "Defectives"])
+    for i in range(25):
+        ws.append([i + 1, 50, 0])
+    book.save(path)
+    result = run_cli("evaluate", path, "--json")
+    assert result.code == 0 and result.err.count("Warning") == 0, result.err
+    (char,) = result.json["characteristics"]
+    assert char["limits"]["defectives"] == {"center": 0.0, "lcl": 0.0, "ucl": 0.0}
+    notes = [p["message"] for p in result.json["problems"]]
+    assert any(n.startswith("no defectives in the base period, so the center line and UCL are 0") for n in notes)
+    # with UCL 0 the first defective signals: geometric run length, ARL = 1 / (1 - (1 - p)^n) (common practice),
+    # in control at the floor rate 1e-9 per unit, and 1 standard error up at p = 0 + sqrt(n 1e-9) / n
+    performance = char["performance"]
+    assert performance["arl_in_control"] == pytest.approx(1 / (1 - (1 - 1e-9) ** 50), rel=1e-6)
+    one = next(s for s in performance["shifts"] if s["shift"] == 1.0)
+    p1 = (50 * 1e-9) ** 0.5 / 50
+    assert one["rate"] == pytest.approx(p1, rel=1e-9) and one["arl"] == pytest.approx(1 / (1 - (1 - p1) ** 50),
+                                                                                      rel=1e-6)
+
+
+def test_fractional_counts_are_named():
+    counts = Characteristic("c", Counts([3, 2.5, 2, 6], [40, 60, 20.5, 80]), labels=["a", "b", "c", "d"])
+    fit = fit_characteristic(counts, "s")
+    (note,) = [n for n in fit.fit.notes if "not whole numbers" in n]
+    assert note.startswith("2 count(s) of defectives or units inspected are not whole numbers: subgroup 2 (b: 2.5 "
+                           "of 60), subgroup 3 (c: 2 of 20.5)")

@@ -39,6 +39,24 @@ def check_counts(characteristic: Characteristic, kind: str, title: str) -> Count
     return data
 
 
+_NONE_YET = ("no {kind} in the base period, so the center line and UCL are 0: the chart shows when {kind} appear "
+             "(any one is a signal) but not how often they occur in control, and its false alarms cannot be judged "
+             "(the run lengths are those at a rate of 1 in 10^9 units); a base period long enough to hold several "
+             "{kind} (about 5 / p units for an expected proportion or rate p) gives limits that can")
+
+
+def _fractions(characteristic: Characteristic, data: Counts, kind: str) -> list[str]:
+    """A note naming the subgroups whose count or units inspected is not a whole number (2.5 defectives)."""
+    whole = lambda x: np.isnan(x) | (x == np.round(x))  # noqa: E731
+    odd = np.flatnonzero(~whole(data.counts) | ~whole(data.inspected))
+    if not odd.size:
+        return []
+    shown = ", ".join(f"subgroup {i + 1} ({characteristic.labels[i]}: {data.counts[i]:g} of {data.inspected[i]:g})"
+                      for i in odd[:5]) + (f" and {odd.size - 5} more" if odd.size > 5 else "")
+    return [f"{odd.size} count(s) of {kind} or units inspected are not whole numbers: {shown}; counts are whole "
+            "numbers, so check these cells (used as written)"]
+
+
 def _present(data: Counts, base: np.ndarray) -> np.ndarray:
     return base & ~np.isnan(data.counts)
 
@@ -69,7 +87,11 @@ class _Attribute(ChartKind):
         rate = self._checked_rate(params[self.rate_name])
         name, label, values, center, standard_error = self._plotted(data, rate)
         stat = shewhart_statistic(name, label, values, center, standard_error, floor=0.0)
-        return self._fit(characteristic, stat, rate, self._unit_spread(rate), sigma_method, {self.rate_name: rate})
+        fit = self._fit(characteristic, stat, rate, self._unit_spread(rate), sigma_method, {self.rate_name: rate})
+        fit.notes += _fractions(characteristic, data, self.counts_kind)
+        if rate == 0:
+            fit.notes.append(_NONE_YET.format(kind=self.counts_kind))
+        return fit
 
     def _checked_rate(self, rate: float) -> float:
         """The in-control proportion (binomial); the Poisson charts check a rate instead."""

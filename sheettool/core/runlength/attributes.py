@@ -7,6 +7,11 @@ The p and np charts (and the c and u charts) therefore share their run length. T
 values fall into the cells of the zone chain of Champ and Woodall (1987), points exactly on a
 threshold included, so zone rules and limits alike are exact. A lower limit below zero (as drawn,
 floored at zero) can never be crossed, which the standardized support shows by itself.
+
+A base period without a defective gives a rate of zero: the chart (center and UCL 0) signals on any
+defective, and in control never; a chain that can never signal has no run length to solve for, so
+the rate is taken as RATE_FLOOR (one in 10^9 units) wherever a spread or probability needs it, and
+the in-control ARL shown is then the large finite value at that rate (the evaluation says so).
 """
 
 from __future__ import annotations
@@ -17,6 +22,8 @@ import numpy as np
 
 from sheettool.core.rules import Rule
 from sheettool.core.runlength.zones import ZoneChain, discrete_cell_probabilities
+
+RATE_FLOOR = 1e-9  # per unit: the rate a zero rate is taken as where a spread or probability needs one
 
 
 @dataclass(frozen=True)
@@ -29,13 +36,13 @@ class CountModel:
 
     def __post_init__(self) -> None:
         if self.family == "binomial":
-            if not 0.0 < self.rate0 < 1.0:
-                raise ValueError(f"p0 must be a proportion between 0 and 1, got {self.rate0}")
+            if not 0.0 <= self.rate0 < 1.0:
+                raise ValueError(f"p0 must be a proportion from 0 to below 1, got {self.rate0}")
             if self.n < 1 or self.n != int(self.n):
                 raise ValueError(f"n (units inspected per subgroup) must be a whole number >= 1, got {self.n}")
         elif self.family == "poisson":
-            if not self.rate0 > 0.0:
-                raise ValueError(f"the in-control defect rate must be positive, got {self.rate0}")
+            if not self.rate0 >= 0.0:
+                raise ValueError(f"the in-control defect rate must be zero or more, got {self.rate0}")
             if not self.n > 0:
                 raise ValueError(f"n (units per subgroup) must be positive, got {self.n}")
         else:
@@ -48,10 +55,11 @@ class CountModel:
 
     @property
     def se0(self) -> float:
-        """In-control standard error of the count."""
+        """In-control standard error of the count (at RATE_FLOOR when the rate is zero)."""
+        rate = self.rate0 or RATE_FLOOR
         if self.family == "binomial":
-            return float(np.sqrt(self.n * self.rate0 * (1.0 - self.rate0)))
-        return float(np.sqrt(self.n * self.rate0))
+            return float(np.sqrt(self.n * rate * (1.0 - rate)))
+        return float(np.sqrt(self.n * rate))
 
     def rate_at(self, shift: float) -> float:
         """The rate moved by `shift` standard errors of the plotted statistic (kept within its range)."""
@@ -75,8 +83,9 @@ class CountModel:
         from scipy import stats
 
         self.check_rate(rate)
-        dist = stats.binom(int(self.n), rate) if self.family == "binomial" else stats.poisson(self.n * rate)
-        top = int(self.n) if self.family == "binomial" else None
+        rate = rate or RATE_FLOOR
+        dist = stats.binom(float(self.n), rate) if self.family == "binomial" else stats.poisson(self.n * rate)
+        top = float(self.n) if self.family == "binomial" else None
         thresholds = self.mean0 + np.asarray(cuts, dtype=float) * self.se0
         near = np.unique(np.floor(thresholds)[:, None] + np.arange(-2, 4)[None, :])
         near = near[(near >= 0) & (near <= (np.inf if top is None else top))]
@@ -95,6 +104,7 @@ class CountModel:
 
     def sample(self, rng: np.random.Generator, rate: float, shape: tuple[int, int]) -> np.ndarray:
         """Standardized counts drawn at `rate`, for simulation."""
+        rate = rate or RATE_FLOOR
         if self.family == "binomial":
             counts = rng.binomial(int(self.n), rate, shape)
         else:

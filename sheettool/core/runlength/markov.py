@@ -154,8 +154,12 @@ def quasi_stationary(q: Matrix) -> np.ndarray:
     v <- v (I - Q)^-1 converges to the Perron vector quickly for the slow-signalling chains of interest.
     """
     size = q.shape[0]
-    solve = _solver(_identity_minus(q).T)
     v = np.full(size, 1.0 / size)
+    try:
+        solve = _solver(_identity_minus(q).T)
+    except (RuntimeError, linalg.LinAlgError):  # rho is 1 to working precision: power iteration on Q instead
+        def solve(x: np.ndarray) -> np.ndarray:
+            return np.asarray(x @ q).ravel()
     for _ in range(500):
         new = np.abs(solve(v))
         new /= new.sum()

@@ -6,12 +6,19 @@ characteristic, the method and audit tab, then the hidden limits block and chart
 
 from __future__ import annotations
 
+import contextlib
 import datetime as dt
+import gc
 import os
+import shutil
+import socket
+import sys
 import tempfile
-from collections.abc import Callable
+import time
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 from sheettool import TOOL_NAME, __version__
 from sheettool.base.errors import OutputError
@@ -45,30 +52,121 @@ def _plain_file_mode() -> int:
 
 
 _PLAIN_FILE_MODE = _plain_file_mode()
+TEMP_PREFIX = ".sheettool-"  # a run's private work folder beside its output: .sheettool-HOST-PID-XXXXXXXX
+STALE_SECONDS = 3600  # a work folder older than this, or whose process on this host is gone, is a killed run's
 
 
 def write_atomically(path: Path, build: Callable[[str], None], protect: Path | None = None) -> None:
-    """Build a workbook into a temporary file beside `path`, then rename it into place."""
+    """Build a workbook in a private work folder beside `path`, then rename it into place.
+
+    Everything the build writes (the workbook and the writing library's own temporary parts) stays
+    in that folder, removed on every path out; nothing partial ever has the output's name. A full
+    disk or any other OS error is OutputError (exit 4) with its cause. Work folders that killed
+    runs left in the output's folder are removed first.
+    """
     path = Path(path)
     if protect is not None and path.resolve() == Path(protect).resolve():
         raise OutputError(f"{path}: refusing to write the output over the input; choose another name with -o")
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise OutputError(f"{path}: the folder {folder} does not exist")
+    clean_stale(folder)
     try:
-        fd, tmp = tempfile.mkstemp(prefix=".sheettool-", suffix=".xlsx", dir=folder)
-        os.close(fd)
+        work = tempfile.mkdtemp(prefix=f"{TEMP_PREFIX}{_owner()}-", dir=folder)
     except OSError as exc:
-        raise OutputError(f"{path}: cannot write in {folder} ({exc.strerror})") from None
+        raise OutputError(f"{path}: cannot write in {folder} ({exc.strerror or exc})") from None
+    tmp = os.path.join(work, ".partial.xlsx")  # hidden: a search of the folder for inputs passes over it
+    failure: OutputError | None = None
     try:
-        build(tmp)
-        os.chmod(tmp, _PLAIN_FILE_MODE)  # mkstemp makes the file private; an output is an ordinary file
-        os.replace(tmp, path)
-    except OSError as exc:
-        raise OutputError(f"{path}: cannot write the output ({exc.strerror or exc})") from None
+        with _leftovers_quiet():
+            try:
+                build(tmp)
+                os.chmod(tmp, _PLAIN_FILE_MODE)  # files made in a private folder are private; an output is not
+                os.replace(tmp, path)
+            except Exception as exc:
+                cause = os_error_cause(exc)
+                if cause is None:
+                    raise
+                failure = OutputError(f"{path}: cannot write the output ({cause.strerror or cause})")
     finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
+        shutil.rmtree(work, ignore_errors=True)
+    if failure is not None:
+        raise failure
+
+
+def os_error_cause(exc: BaseException) -> OSError | None:
+    """The OS error behind `exc` (itself, its causes, or an argument of a library's wrapper), or None."""
+    seen: list[BaseException] = []
+    todo: list[object] = [exc]
+    while todo and len(seen) < 20:
+        item = todo.pop(0)
+        if not isinstance(item, BaseException) or item in seen:
+            continue
+        if isinstance(item, OSError):
+            return item
+        seen.append(item)
+        todo += [item.__cause__, item.__context__, *item.args]
+    return None
+
+
+@contextlib.contextmanager
+def _leftovers_quiet() -> Iterator[None]:
+    """Objects a failed write leaves half-closed (a zip package, temporary parts) fail again when collected
+    and Python prints "Exception ignored ... OSError"; collect them here, their OS errors already reported."""
+    hook = sys.unraisablehook
+
+    def quiet(unraisable: Any) -> None:
+        if not isinstance(unraisable.exc_value, OSError):
+            hook(unraisable)
+
+    sys.unraisablehook = quiet
+    try:
+        yield
+    finally:
+        gc.collect()
+        sys.unraisablehook = hook
+
+
+def _owner() -> str:
+    """This host and process, as written in a work folder's name so that a later run can tell it is gone."""
+    host = "".join(c for c in socket.gethostname() if c.isalnum())[:40] or "host"
+    return f"{host}-{os.getpid()}"
+
+
+def clean_stale(folder: Path, now: float | None = None) -> None:
+    """Remove the work folders (and the older hidden temporary files) killed runs left in `folder`: those
+    older than STALE_SECONDS, and on this host those whose process is gone. Another run's are left alone."""
+    now = time.time() if now is None else now
+    host = _owner().rpartition("-")[0]
+    try:
+        entries = [e for e in os.scandir(folder) if e.name.startswith(TEMP_PREFIX)]
+    except OSError:
+        return  # the folder cannot be listed: the write says why
+    for entry in entries:
+        try:
+            age = now - entry.stat(follow_symlinks=False).st_mtime
+        except OSError:
+            continue
+        parts = entry.name[len(TEMP_PREFIX):].split("-")
+        gone = len(parts) == 3 and parts[0] == host and parts[1].isdigit() and not _alive(int(parts[1]))
+        if age < STALE_SECONDS and not gone:
+            continue
+        if entry.is_dir(follow_symlinks=False):
+            shutil.rmtree(entry.path, ignore_errors=True)
+        elif entry.name.endswith(".xlsx"):  # an earlier version's temporary file (.sheettool-XXXXXXXX.xlsx)
+            with contextlib.suppress(OSError):
+                os.unlink(entry.path)
+
+
+def _alive(pid: int) -> bool:
+    """True when a process with this id exists on this host (or cannot be told apart from one)."""
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except OSError:  # it exists but belongs to someone else
+        return True
+    return True
 
 
 @dataclass

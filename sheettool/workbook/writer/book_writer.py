@@ -7,6 +7,7 @@ are written as live formulas, and the problems met while writing (the format's l
 
 from __future__ import annotations
 
+import os
 import warnings
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -45,7 +46,8 @@ class BookWriter:
     def __init__(self, path: str, live: bool = False, reserved: tuple[str, ...] = (), file: str = "") -> None:
         """Open the workbook at `path`; `reserved` are tab names kept for fixed tabs added later; `file` is the
         output's name, where the problems of the output itself say where they are."""
-        self.book = xlsxwriter.Workbook(path, _WORKBOOK_OPTIONS)
+        # the library's temporary parts beside the workbook (the atomic write's work folder), never in /tmp
+        self.book = xlsxwriter.Workbook(path, {**_WORKBOOK_OPTIONS, "tmpdir": os.path.dirname(os.path.abspath(path))})
         self.file = file
         self.problems: list[Problem] = []  # met while writing, not yet handed back (see found)
         self._sheets: list[FittedWorksheet] = []
