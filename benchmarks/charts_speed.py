@@ -21,7 +21,7 @@ def main(m: int = 10_000) -> None:
     cases = {
         "xbar-r": Measurements(rng.normal(10, 1, (m, 5))),
         "xbar-s": Measurements(rng.normal(10, 1, (m, 12))),
-        "i-mr": Measurements(rng.normal(10, 1, (m, 1))),
+        "individuals": Measurements(rng.normal(10, 1, (m, 1))),
         "ewma": Measurements(rng.normal(10, 1, (m, 5))),
         "cusum": Measurements(rng.normal(10, 1, (m, 5))),
         "p": Counts(rng.binomial(200, 0.05, m), rng.integers(150, 250, m)),

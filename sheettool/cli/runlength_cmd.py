@@ -14,8 +14,8 @@ from sheettool.core.rules import parse_rules
 from sheettool.core.runlength.scheme import ATTRIBUTES, Scheme, SchemeResult, scheme_run_lengths
 from sheettool.core.timing import ats_hours, false_alarms_per_month
 
-_CHARTS = {"xbar": "xbar", "xbar-r": "xbar-r", "xbar-s": "xbar-s", "individuals": "individuals",
-           "ewma": "ewma", "cusum": "cusum", "p": "p", "np": "np", "c": "c", "u": "u"}
+# The chart codes of evaluate and design, and "xbar": the X-bar chart alone, as published single-chart tables give it.
+_CHARTS = ("xbar-r", "xbar-s", "individuals", "p", "np", "c", "u", "ewma", "cusum", "xbar")
 _VARIABLE_SHIFTS = "0,0.5,1,1.5,2,3"
 
 
@@ -23,8 +23,10 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     """The sub-command's options (its line in the list of commands is in cli/main.py)."""
     p.description = ("Run-length behaviour of a monitoring scheme: average run length (ARL), its standard deviation "
                      "and percentiles, steady-state ARL and time to signal.")
-    p.add_argument("--chart", default="xbar", choices=list(_CHARTS),
-                   help="chart kind (default xbar: the X-bar chart alone; xbar-r / xbar-s add the R or S chart)")
+    p.add_argument("--chart", default="xbar", choices=_CHARTS,
+                   help="chart code, as evaluate and the JSON write it (default xbar: the X-bar chart alone; xbar-r "
+                   "and xbar-s add the R or S chart's limits; individuals: the individuals chart, one reading per "
+                   "point)")
     p.add_argument("--n", help="readings per subgroup (variables) or units inspected per subgroup (p, np, u)")
     p.add_argument("--rules", default="limits", help="pattern rules or preset for Shewhart and attribute charts")
     ewma, cusum = EwmaParameters(), CusumParameters()
@@ -46,7 +48,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 
 def _scheme(args: argparse.Namespace) -> Scheme:
-    chart = _CHARTS[args.chart]
+    chart = args.chart
     rules = tuple(parse_rules(setting_value("rules", "--rules", args.rules)))
     n = number("--n", args.n, positive=True)
     if chart == "individuals" and n not in (None, 1.0):
@@ -58,7 +60,7 @@ def _scheme(args: argparse.Namespace) -> Scheme:
     # the chart parameters given, by setting name (each option is named as its setting)
     given = {name: setting_value(name, f"--{name}", getattr(args, name)) for name in PARAMETER_SETTINGS
              if getattr(args, name) is not None}
-    return Scheme(chart="xbar" if chart == "individuals" else chart, rules=rules, n=n,
+    return Scheme(chart=chart, rules=rules, n=n,
                   p0=setting_value("p0", "--p0", args.p0), c0=setting_value("c0", "--c0", args.c0),
                   ewma=EwmaParameters.from_mapping(given), cusum=CusumParameters.from_mapping(given))
 

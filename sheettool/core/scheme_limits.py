@@ -47,11 +47,11 @@ FINE_W = 200
 
 def scheme_words(scheme: Scheme) -> str:
     """The scheme in words, for the labels of figures that judge it whole."""
-    location = {"i-mr": "individuals chart", "xbar-r": "X-bar chart", "xbar-s": "X-bar chart"}.get(
+    location = {"individuals": "individuals chart", "xbar-r": "X-bar chart", "xbar-s": "X-bar chart"}.get(
         scheme.chart, f"{scheme.chart} chart")
     rules = ", ".join(r.text for r in scheme.rules)
     spread = {"range": " and the R chart's limits", "sd": " and the S chart's limits"}.get(scheme.companion or "", "")
-    left = " (the moving-range chart's own signals left out)" if scheme.chart == "i-mr" else ""
+    left = " (the moving-range chart's own signals left out)" if scheme.chart == "individuals" else ""
     return f"{location} with rules {rules}{spread}{left}"
 
 

@@ -40,6 +40,8 @@ def limits_entry(result: Fitted | CharacteristicResult) -> dict[str, Any]:
     }
 
 
+# Chart codes that blocks written by earlier versions hold, and the code each is now.
+EARLIER_CHART_CODES = {"i-mr": "individuals"}
 _TEXTS = ("sheet", "chart", "key", "sigma_method", "limits_source", "set_by")
 
 
@@ -88,7 +90,7 @@ def carried_parameters(entry: dict[str, Any]) -> tuple[str, dict[str, float], st
     origin says how the limits were first set, carried unchanged through every later month.
     """
     try:
-        chart = str(entry["chart"])
+        chart = EARLIER_CHART_CODES.get(str(entry["chart"]), str(entry["chart"]))
         given = {k: float(v) for k, v in entry.get("parameters", {}).items() if v is not None and k != "n"}
         for key, name in (("process_mean", "mean"), ("sigma_within", "sigma")):
             if entry.get(key) is not None:

@@ -22,7 +22,7 @@ from sheettool.core.scheme_limits import scheme_estimated_limits, scheme_words
 from sheettool.core.timing import in_control_target
 from sheettool.evaluation.options import EvaluationOptions
 
-_SHEWHART_VARIABLES = ("xbar-r", "xbar-s", "i-mr")
+_SHEWHART_VARIABLES = ("xbar-r", "xbar-s", "individuals")
 # the report depends on (scheme, m, estimator, target) only: one computation per base-period shape (read-only results)
 _estimated_limits_report = lru_cache(maxsize=256)(scheme_estimated_limits)
 # Limits "meet" the target when their in-control ARL is at least 90% of it: the exceedance criterion of Goedhart,

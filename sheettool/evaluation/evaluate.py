@@ -29,7 +29,7 @@ from sheettool.evaluation.results import Assessment, CharacteristicResult, Fitte
 def chart_choice(characteristic: Characteristic) -> tuple[str, str]:
     """The chart kind the data calls for, and why in words (stated in the output).
 
-    Variables: one reading per subgroup -> i-mr, 2 to 9 -> xbar-r, 10 or more -> xbar-s, by the
+    Variables: one reading per subgroup -> individuals, 2 to 9 -> xbar-r, 10 or more -> xbar-s, by the
     usual subgroup size (Montgomery 2009, sec. 6.3). Counts: with the same number inspected in
     every subgroup the count itself is plotted (np, c), which reads directly; otherwise the
     proportion or rate (p, u) with limits per point.
@@ -49,7 +49,7 @@ def chart_choice(characteristic: Characteristic) -> tuple[str, str]:
         raise ValueError(f"counts of kind '{data.kind}' are not known; use defectives or defects")
     n = typical_size(data.sizes)
     if n == 1:
-        return "i-mr", "individuals and moving range chart: one reading per subgroup"
+        return "individuals", "individuals and moving range chart: one reading per subgroup"
     if n < 10:
         return "xbar-r", f"X-bar and R chart: subgroups of {n} readings (2 to 9)"
     return "xbar-s", f"X-bar and S chart: subgroups of {n} readings (10 or more)"
@@ -182,5 +182,6 @@ def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Si
     return signals
 
 
-SPREAD_STATISTICS = ("range", "sd", "moving_range")  # the spread charts of X-bar and R, X-bar and S, I-MR
+# the spread charts of X-bar and R, X-bar and S, individuals and moving range
+SPREAD_STATISTICS = ("range", "sd", "moving_range")
 SPREAD_RULES: tuple[Rule, ...] = tuple(parse_rules("limits"))  # a spread chart signals beyond its limits only

@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from sheettool.core.capability import Capability
+from sheettool.core.charts import CHART_KINDS
 from sheettool.evaluation.results import CharacteristicResult
 
 MIN_BASE_SUBGROUPS = 20  # fewer subgroups than this set the limits: "too little data" (common practice: 20-25)
@@ -71,7 +72,7 @@ class PackRow:
     source: str
     sheet: str
     characteristic: str
-    chart: str = ""
+    chart: str = ""  # the chart's name in words, e.g. "individuals and moving range"
     points: int = 0
     signals: int = 0
     latest_signal: str = ""
@@ -99,7 +100,7 @@ def summary_row(source: str, result: CharacteristicResult, period: Period | None
     inside = period_points(result, period)
     signals = [s for s in result.signals if inside[s.subgroup - 1]]
     row = PackRow(source=source, sheet=result.sheet, characteristic=result.characteristic.name,
-                  chart=result.fit.chart, points=int(inside.sum()), signals=len(signals))
+                  chart=CHART_KINDS[result.fit.chart].title, points=int(inside.sum()), signals=len(signals))
     if signals:
         last = max(signals, key=lambda s: s.subgroup)
         row.latest_signal = f"point {last.subgroup} ({last.label})" if last.label != str(last.subgroup) \

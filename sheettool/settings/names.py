@@ -26,7 +26,7 @@ KNOWN_SETTINGS: dict[str, str] = {
     "target": "target or nominal value",
     "unit": "unit of measurement",
     "subgroup_size": "readings per subgroup",
-    "chart": "chart kind (xbar-r, xbar-s, i-mr, p, np, c, u, ewma, cusum)",
+    "chart": "chart kind (xbar-r, xbar-s, individuals, p, np, c, u, ewma, cusum)",
     "rules": "pattern rules or preset (limits, zones, all)",
     "interval_hours": "hours between subgroups (sampling interval)",
     "hours_per_month": "production hours per month",

@@ -77,6 +77,10 @@ def test_pack_rows_errors_and_exit_code(run_cli, folder, tmp_path):
         cpk = (char["capability"] or {}).get("cpk")  # an attribute chart has a rate, no Cpk
         assert row[7] == (pytest.approx(cpk, rel=1e-12) if cpk is not None else None)
         assert row[12] == char["summary"]["status"]
+    # The chart in words on the summary, its code in the JSON.
+    words = {r[1]: r[3] for r in rows if r[1]}
+    assert words["Crimp force"] == "individuals and moving range" and words["Bore diameter"] == "X-bar and R"
+    assert {c["sheet"]: c["chart"] for c in data["characteristics"]}["Crimp force"] == "individuals"
     # Each characteristic row links to its evaluation tab.
     links = {c.value: c.hyperlink.location for c in book["Review summary"]["C"] if c.hyperlink}
     assert all(loc.split("!")[0].strip("'") in book.sheetnames for loc in links.values())

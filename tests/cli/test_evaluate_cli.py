@@ -53,7 +53,7 @@ def test_demo_leak_test_and_crimp_force_sheets(run_cli, demo_copy, tmp_path):
     assert leak["limits"]["proportion"]["center"] == pytest.approx(scenario.LEAK_RATE, abs=0.006)
     # Crimp force: one reading per lot -> individuals and moving range; the force drops at the die regrind
     crimp = chars["Crimp force"]
-    assert crimp["chart"] == "i-mr" and crimp["subgroup_size"] == 1 and crimp["subgroups"] == scenario.CRIMP_LOTS
+    assert crimp["chart"] == "individuals" and crimp["subgroup_size"] == 1 and crimp["subgroups"] == scenario.CRIMP_LOTS
     assert any(s["statistic"] == "individual" and s["subgroup"] >= scenario.CRIMP_DROP_AT for s in crimp["signals"])
     assert crimp["capability"]["lsl"] == scenario.CRIMP_LSL and crimp["capability"]["usl"] == scenario.CRIMP_USL
     # the bore's requirements come from its labelled cells

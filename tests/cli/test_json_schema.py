@@ -59,7 +59,7 @@ def test_the_schema_is_a_valid_draft_2020_12_schema():
 def test_evaluate_one_input(demo_json):
     _valid("evaluate", demo_json)
     charts = {c["sheet"]: c["chart"] for c in demo_json["characteristics"]}
-    assert charts == {"Bore diameter": "xbar-r", "Leak test": "p", "Crimp force": "i-mr"}
+    assert charts == {"Bore diameter": "xbar-r", "Leak test": "p", "Crimp force": "individuals"}
     # both capability forms (variables indices, attribute rate) and the reader's account are exercised
     assert {"cpk" in c["capability"] for c in demo_json["characteristics"]} == {True, False}
     assert all("read" in c and "settings" in c for c in demo_json["characteristics"])

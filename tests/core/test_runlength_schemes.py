@@ -101,7 +101,7 @@ def _fit(chart: str, **parameters: float) -> ChartFit:
 
 
 @pytest.mark.parametrize("chart, parameters", [
-    ("xbar-r", {"n": 5}), ("xbar-s", {"n": 5}), ("i-mr", {"n": 1}), ("p", {"n": 100, "p0": 0.05}),
+    ("xbar-r", {"n": 5}), ("xbar-s", {"n": 5}), ("individuals", {"n": 1}), ("p", {"n": 100, "p0": 0.05}),
     ("np", {"n": 100, "p0": 0.05}), ("c", {"c0": 4.0}), ("u", {"u0": 0.5, "n": 8}),
     ("ewma", {"lambda": 0.2, "L": 2.962, "n": 1}), ("cusum", {"k": 0.5, "h": 4.0, "n": 1}),
 ])

@@ -1,4 +1,4 @@
-"""Variables charts (X-bar/R, X-bar/S, I-MR) against their textbook formulas."""
+"""Variables charts (X-bar and R, X-bar and S, individuals and moving range) against their textbook formulas."""
 
 import math
 
@@ -88,7 +88,7 @@ def test_individuals_and_moving_range_hand_worked():
     ind, mr = _stat(result, "individual"), _stat(result, "moving_range")
     # X-bar +/- E2 MR-bar, MR chart up to D4 MR-bar with E2 = 2.660 and D4 = 3.267 for n = 2
     # (ASTM E2587, recalled from memory; printed to 3 decimals)
-    assert result.fit.chart == "i-mr" and result.fit.parameters == {"n": 1.0}
+    assert result.fit.chart == "individuals" and result.fit.parameters == {"n": 1.0}
     assert ind.ucl[0] == pytest.approx(x.mean() + E2 * mrbar, abs=2e-3)
     assert ind.lcl[0] == pytest.approx(x.mean() - E2 * mrbar, abs=2e-3)
     assert mr.ucl[0] == pytest.approx(D4_2 * mrbar, abs=2e-3)
@@ -111,7 +111,7 @@ def test_short_subgroup_gets_its_own_limits():
     assert np.isnan(rng_stat.values[9]) and rng_stat.ucl[9] == rng_stat.ucl[0]
 
 
-@pytest.mark.parametrize(("size", "chart"), [(1, "i-mr"), (2, "xbar-r"), (9, "xbar-r"), (10, "xbar-s"),
+@pytest.mark.parametrize(("size", "chart"), [(1, "individuals"), (2, "xbar-r"), (9, "xbar-r"), (10, "xbar-s"),
                                              (15, "xbar-s")])
 def test_chart_choice_by_subgroup_size(size, chart):
     # n = 1: individuals; 2..9: X-bar and R; 10 or more: X-bar and S (common practice; Montgomery 2009, sec. 6.3)
@@ -127,7 +127,7 @@ def test_chart_choice_by_subgroup_size(size, chart):
 def test_individuals_chart_refuses_subgroups():
     ch = Characteristic("x", Measurements(np.ones((5, 3))))
     with pytest.raises(ValueError, match="one reading per row"):
-        fit_characteristic(ch, "s", EvaluationOptions(chart="i-mr"))
+        fit_characteristic(ch, "s", EvaluationOptions(chart="individuals"))
 
 
 def test_unknown_chart_name():

@@ -74,13 +74,13 @@ def test_shewhart_limits_candidate_is_geometric():
     grid = SearchGrid(presets=("limits",), lambdas=(), ks=())
     (one,) = design(Requirements(shift=1.0), Sampling(sizes=(1,)), grid).candidates
     assert one.arl_in_control == pytest.approx(1.0 / (2.0 * stats.norm.sf(3.0)), rel=1e-6)
-    assert one.label == "individuals, rules limits"
+    assert one.label == "individuals and moving range with the 'limits' rules"
     result = design(Requirements(shift=1.0, arl_in_control=130.0), Sampling(sizes=(5,)), grid)
     (c,) = result.candidates
     p_range = _range_beyond(5, 2.3259 + 3.0 * 0.8641)
     p_mean = 2.0 * stats.norm.sf(3.0)
     assert c.arl_in_control == pytest.approx(1.0 / (1.0 - (1.0 - p_mean) * (1.0 - p_range)), rel=1e-3)
-    assert c.arl_in_control == pytest.approx(137.2, abs=0.1) and c.label == "X-bar and R, rules limits"
+    assert c.arl_in_control == pytest.approx(137.2, abs=0.1) and c.label == "X-bar and R with the 'limits' rules"
     p = stats.norm.cdf(-3.0 + 5 ** 0.5) + stats.norm.cdf(-3.0 - 5 ** 0.5)
     assert c.arl_at_shift == pytest.approx(1.0 / (1.0 - (1.0 - p) * (1.0 - p_range)), rel=1e-3)
     assert c.meets and result.feasible
@@ -239,7 +239,7 @@ def _characteristic(values):
 
 
 @pytest.mark.parametrize(("shape", "chart", "estimator"), [
-    ((40, 1), "i-mr", "MR-bar / d2"), ((30, 5), "xbar-r", "R-bar / d2"), ((25, 12), "xbar-s", "S-bar / c4")])
+    ((40, 1), "individuals", "MR-bar / d2"), ((30, 5), "xbar-r", "R-bar / d2"), ((25, 12), "xbar-s", "S-bar / c4")])
 def test_estimated_limits_follow_the_sigma_estimator_of_the_chart(shape, chart, estimator):
     values = np.random.default_rng(7).normal(10.0, 1.0, shape)
     result = evaluate(_characteristic(values), "s", EvaluationOptions())

@@ -125,3 +125,15 @@ def test_a_tampered_block_is_one_line_naming_file_sheet_and_cell(run_cli, tmp_pa
         assert not (tmp_path / f"{name}-out.xlsx").exists()
     with pytest.raises(InputError, match="cell D3: the checksum is missing"):
         read_limits_block(tmp_path / "number.xlsx")
+
+
+def test_a_block_written_with_the_earlier_individuals_code_still_carries():
+    """A block from before the chart codes were renamed holds "i-mr": its limits still apply, to the individuals chart
+    (an independent computation: the same limits as those of the entry under today's code)."""
+    values = np.random.default_rng(5).normal(40.0, 1.0, (30, 1))
+    ch = Characteristic("force", Measurements(values))
+    today = limits_entry(fit_characteristic(ch, "Force", EvaluationOptions()))
+    earlier = parse_limits_rows(_rows({**today, "chart": "i-mr"}))["Force"]
+    fit = fit_characteristic(ch, "Force", EvaluationOptions(carried=earlier)).fit
+    assert fit.chart == "individuals"
+    assert fit.statistics[0].ucl[0] == pytest.approx(today["limits"][fit.statistics[0].name]["ucl"], rel=1e-12)

@@ -196,9 +196,9 @@ def test_limits_file_without_block_or_unknown_version(run_cli, tmp_path):
 # location chart's center and limits move to a * value + b; spread charts scale by a; widths scale by a.
 @settings(max_examples=25, deadline=None)
 @given(shift=st.floats(-1e3, 1e3), scale=st.floats(0.01, 100.0),
-       chart=st.sampled_from(["xbar-r", "xbar-s", "i-mr", "ewma", "cusum"]), seed=st.integers(0, 1000))
+       chart=st.sampled_from(["xbar-r", "xbar-s", "individuals", "ewma", "cusum"]), seed=st.integers(0, 1000))
 def test_limits_shift_and_scale_with_the_data(shift, scale, chart, seed):
-    width = 1 if chart == "i-mr" else 4
+    width = 1 if chart == "individuals" else 4
     values = np.random.default_rng(seed).normal(10.0, 1.0, (20, width))
     plain = fit_characteristic(_char(values), "s", EvaluationOptions(chart=chart))
     moved = fit_characteristic(_char(scale * values + shift), "s", EvaluationOptions(chart=chart))

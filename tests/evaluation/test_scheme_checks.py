@@ -27,7 +27,7 @@ def test_pattern_rules_apply_to_the_location_chart_only():
     assert fitted.signals == []
 
 
-@pytest.mark.parametrize(("n", "rules", "chart"), [(5, "zones", "xbar-r"), (1, "zones", "i-mr"),
+@pytest.mark.parametrize(("n", "rules", "chart"), [(5, "zones", "xbar-r"), (1, "zones", "individuals"),
                                                    (12, "limits", "xbar-s")])
 def test_design_and_evaluate_give_the_same_in_control_figures(n, rules, chart):
     # The same scheme (chart with its spread chart, rules, subgroup size, every hour, 400 h a month) must give the

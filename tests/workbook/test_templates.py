@@ -57,7 +57,7 @@ def _fill(path: Path, kind: str, rows: int = 25) -> None:
 
 
 @pytest.mark.parametrize(("name", "kind", "chart"), [
-    ("subgroups-5.xlsx", "subgroups", "xbar-r"), ("individuals.xlsx", "individuals", "i-mr"),
+    ("subgroups-5.xlsx", "subgroups", "xbar-r"), ("individuals.xlsx", "individuals", "individuals"),
     ("proportions.xlsx", "proportions", "np"), ("counts.xlsx", "counts", "c"),
 ])
 def test_filled_template_evaluates(run_cli, tmp_path, name, kind, chart):

@@ -139,7 +139,7 @@ class _MeanAndSpread(_Variables):
         data = self.check(characteristic)
         if typical_size(data.sizes) < 2:
             raise ValueError(f"an {self.title} chart needs at least two readings per subgroup; "
-                             "choose the individuals chart (i-mr)")
+                             "choose the individuals and moving range chart (chart individuals)")
         mu, sigma = params["mean"], params["sigma"]
         stats = [
             shewhart_statistic("mean", "Subgroup mean", subgroup_means(data.values), mu,
@@ -181,7 +181,7 @@ class XbarS(_MeanAndSpread):
 class IndividualsMR(_Variables):
     """Individuals and moving range: X-bar +/- 3 MR-bar / d2(2) = E2 MR-bar; MR up to D4(2) MR-bar."""
 
-    name = "i-mr"
+    name = "individuals"
     title = "individuals and moving range"
     sigma_estimator = SigmaMethod.MOVING_RANGE
 

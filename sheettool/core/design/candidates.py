@@ -15,6 +15,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from sheettool.core.charts import CHART_KINDS
 from sheettool.core.design.calibration import cusum_decision_interval, ewma_limit_width, run_length
 from sheettool.core.design.requirements import Requirements, RequirementsCheck, check_number, check_requirements
 from sheettool.core.parameters import CusumParameters, EwmaParameters
@@ -114,8 +115,7 @@ class Candidate:
             return f"EWMA lambda {self.scheme.ewma.lam:g}, L {self.scheme.ewma.L:.3f}"
         if self.family == "cusum":
             return f"CUSUM k {self.scheme.cusum.k:g}, h {self.scheme.cusum.h:.3f}"
-        chart = {"i-mr": "individuals", "xbar-r": "X-bar and R", "xbar-s": "X-bar and S"}[self.scheme.chart]
-        return f"{chart}, rules {self.preset}"
+        return f"{CHART_KINDS[self.scheme.chart].title} with the '{self.preset}' rules"
 
     @property
     def sampling_words(self) -> str:

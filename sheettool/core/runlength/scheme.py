@@ -33,7 +33,7 @@ from sheettool.core.runlength.shewhart import geometric_arl, range_beyond_probab
 from sheettool.core.runlength.zones import MAX_STATES, TooManyStates, ZoneChain
 from sheettool.core.timing import ats_hours, false_alarms_per_month
 
-VARIABLES = ("xbar", "xbar-r", "xbar-s", "individuals", "i-mr")
+VARIABLES = ("xbar", "xbar-r", "xbar-s", "individuals")
 ATTRIBUTES = ("p", "np", "c", "u")
 SCHEME_CHARTS = (*VARIABLES, "ewma", "cusum", *ATTRIBUTES)
 MONTE_CARLO_RUNS = 20_000
@@ -43,9 +43,9 @@ CURVE_SHIFTS: tuple[float, ...] = tuple(np.round(np.linspace(0.0, 4.0, 41), 10))
 
 
 def shewhart_chart(n: int) -> str:
-    """The Shewhart scheme for subgroups of n, as `evaluate` chooses it: I-MR for 1, X-bar and R for 2 to 9, X-bar
-    and S from 10 (Montgomery 2009, sec. 6.3); `design` searches the same schemes."""
-    return "i-mr" if n == 1 else "xbar-r" if n < 10 else "xbar-s"
+    """The Shewhart scheme for subgroups of n, as `evaluate` chooses it: individuals and moving range for 1, X-bar
+    and R for 2 to 9, X-bar and S from 10 (Montgomery 2009, sec. 6.3); `design` searches the same schemes."""
+    return "individuals" if n == 1 else "xbar-r" if n < 10 else "xbar-s"
 
 
 @dataclass(frozen=True)
@@ -128,7 +128,7 @@ def _method_note(scheme: Scheme, base: str) -> str:
                      "(normal range distribution, Tippett 1925)")
     elif scheme.companion == "sd":
         notes.append("the S chart's limits add an independent per-subgroup signal probability (chi distribution)")
-    elif scheme.chart == "i-mr":
+    elif scheme.chart == "individuals":
         notes.append("individuals chart only: moving ranges overlap, so the MR chart is not included")
     if scheme.chart in ATTRIBUTES:
         family = "binomial" if scheme.chart in ("p", "np") else "Poisson"
@@ -231,7 +231,7 @@ def _location_lengths(rules: tuple[Rule, ...], shift: float, ratio: float, runs:
 
 
 _NEEDS: dict[str, tuple[str, ...]] = {
-    "xbar-r": ("n",), "xbar-s": ("n",), "i-mr": (), "p": ("n", "p0"), "np": ("n", "p0"),
+    "xbar-r": ("n",), "xbar-s": ("n",), "individuals": (), "p": ("n", "p0"), "np": ("n", "p0"),
     "c": ("c0",), "u": ("u0", "n"), "ewma": (*EwmaParameters.NAMES.values(), "n"),
     "cusum": (*CusumParameters.NAMES.values(), "n"),
 }

@@ -132,7 +132,8 @@ def _individuals(n: int) -> LimitPlan:
                 ("moving_range", "ucl"): ("*", ("const", "D4"), mrbar)})
 
 
-LIMIT_PLANS: dict[str, Callable[[int], LimitPlan]] = {"xbar-r": _xbar_range, "xbar-s": _xbar_sd, "i-mr": _individuals}
+LIMIT_PLANS: dict[str, Callable[[int], LimitPlan]] = {"xbar-r": _xbar_range, "xbar-s": _xbar_sd,
+                                                      "individuals": _individuals}
 
 
 @dataclass

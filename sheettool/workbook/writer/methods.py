@@ -28,7 +28,7 @@ METHODS: dict[str, Method] = {
         "center X-bar-bar, limits X-bar-bar +/- A3 S-bar; S chart B3 S-bar to B4 S-bar; sigma within = S-bar / c4; "
         "where subgroup sizes vary, the limits are worked out point by point from each subgroup's size",
         "Shewhart (1931); c4 from the gamma function; constants as in ASTM E2587"),
-    "i-mr": Method(
+    "individuals": Method(
         "individuals and moving range",
         "center X-bar, limits X-bar +/- E2 MR-bar with E2 = 3 / d2(2); moving-range chart up to D4 MR-bar; "
         "sigma within = MR-bar / d2(2)",
