@@ -20,7 +20,7 @@ if TYPE_CHECKING:
 
 # option -> setting name; each overrides the workbook's settings sheet and labelled cells.
 SETTING_OPTIONS = {"lsl": "lsl", "usl": "usl", "target": "target", "chart": "chart", "rules": "rules",
-                   "interval": "interval_hours", "hours_per_month": "hours_per_month", "limits_base": "limits_from"}
+                   "interval": "interval_hours", "hours_per_month": "hours_per_month", "base_period": "base_period"}
 
 
 def add_evaluation_options(p: argparse.ArgumentParser) -> None:
@@ -34,7 +34,8 @@ def add_evaluation_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--chart", help="chart kind (default: chosen from the data)")
     p.add_argument("--interval", help="hours between subgroups, e.g. 1 or '30 min'")
     p.add_argument("--hours-per-month", help="production hours per month")
-    p.add_argument("--limits-base", help="base period that sets the limits (default: all)")
+    p.add_argument("--base-period", help="the subgroups that set the limits: all (default), 'first N' or a date range "
+                   "FROM..TO, e.g. 2026-11-01..2026-11-15")
     p.add_argument("--set", action="append", default=[], metavar="NAME=VALUE",
                    help="any setting by name, e.g. --set unit=mm (repeatable)")
     p.add_argument("--json", action="store_true", help="print the results as one JSON object on stdout")

@@ -34,7 +34,7 @@ def _as_datetime(value: dt.date) -> dt.datetime:
 
 
 def base_period(characteristic: Characteristic, spec: str) -> tuple[np.ndarray, str]:
-    """The subgroups a limits_from setting names ("all", "first N", "FROM..TO" dates), less excluded ones."""
+    """The subgroups a base_period setting names ("all", "first N", "FROM..TO" dates), less excluded ones."""
     m = characteristic.data.subgroups
     text = " ".join(str(spec or "all").strip().lower().split())
     first = _FIRST.match(text)
@@ -43,30 +43,30 @@ def base_period(characteristic: Characteristic, spec: str) -> tuple[np.ndarray, 
     elif first:
         count = int(first[1])
         if not 1 <= count <= m:
-            raise ValueError(f"limits_from '{spec}' names {count} subgroups but there are {m}; "
+            raise ValueError(f"base period '{spec}' names {count} subgroups but there are {m}; "
                              f"give a number from 1 to {m}")
         mask, words = np.arange(m) < count, f"the first {count} subgroups"
     elif ".." in text:
         low_text, high_text = text.split("..", 1)
         low, high = _day(low_text, end=False), _day(high_text, end=True)
         if low > high:
-            raise ValueError(f"limits_from '{spec}': the first date is after the second")
+            raise ValueError(f"base period '{spec}': the first date is after the second")
         dates = characteristic.dates
         if not any(d is not None for d in dates):
-            raise ValueError(f"limits_from '{spec}' is a date range but the subgroups have no dates")
+            raise ValueError(f"base period '{spec}' is a date range but the subgroups have no dates")
         mask = np.array([d is not None and low <= _as_datetime(d) <= high for d in dates], dtype=bool)
         if not mask.any():
-            raise ValueError(f"limits_from '{spec}': no subgroup is dated in that range")
+            raise ValueError(f"base period '{spec}': no subgroup is dated in that range")
         words = f"subgroups dated {low_text.strip()} to {high_text.strip()}"
     else:
-        raise ValueError(f"limits_from '{spec}' is not understood; write all, first N (e.g. first 25) "
+        raise ValueError(f"base period '{spec}' is not understood; write all, first N (e.g. first 25) "
                          "or a date range like 2026-11-01..2026-11-15")
     excluded = np.asarray(characteristic.excluded, dtype=bool) & mask
     if excluded.any():
         words += f", less {int(excluded.sum())} excluded"
     mask = mask & ~excluded
     if not mask.any():
-        raise ValueError(f"limits_from '{spec}': every subgroup in the base period is excluded")
+        raise ValueError(f"base period '{spec}': every subgroup in the base period is excluded")
     return mask, words
 
 
@@ -82,14 +82,14 @@ def _positions(mask: np.ndarray) -> str:
     return ", ".join(parts)
 
 
-def fit_limits(kind: ChartKind, characteristic: Characteristic, limits_from: str = "all",
+def fit_limits(kind: ChartKind, characteristic: Characteristic, base_period_spec: str = "all",
                given: dict[str, float] | None = None, given_words: str = "", revise: bool = False) -> ChartFit:
     """Fit `kind` with limits from the base period, completed or replaced by `given` values.
 
     revise: drop base points beyond the limits and refit until none is left (Montgomery 2009,
     sec. 5.4, "trial control limits"); every removed point is listed in `removed` and a note.
     """
-    base, words = base_period(characteristic, limits_from)
+    base, words = base_period(characteristic, base_period_spec)
     fit = kind.fit(characteristic, base, given, given_words)
     uses_base = bool(fit.base.any())
     removed: list[int] = []

@@ -98,7 +98,7 @@ def fit_characteristic(characteristic: Characteristic, sheet: str,
         if unused:
             notes.append(f"standard value(s) {', '.join(unused)} do not apply to a {kind.title} chart; not used")
     chosen = options.chart_parameters(kind.name)
-    fit = fit_limits(kind, characteristic, options.limits_from, {**chosen, **given}, words, options.revise)
+    fit = fit_limits(kind, characteristic, options.base_period, {**chosen, **given}, words, options.revise)
     fit.notes[:0] = [why, *notes]
     fit.origin = origin
     if kind.time_weighted:

@@ -12,7 +12,7 @@ from sheettool.settings.convert import merge
 
 # EvaluationOptions field -> setting name, for the settings listed even when left at their default.
 _DEFAULTS_SHOWN = {"chart": "chart", "rules": "rules", "lsl": "lsl", "usl": "usl", "target": "target",
-                   "limits_from": "limits_from", "interval_hours": "interval_hours",
+                   "base_period": "base_period", "interval_hours": "interval_hours",
                    "hours_per_month": "hours_per_month", "confidence": "confidence", "revise": "revise"}
 _STANDARDS = {"mean", "sigma", "p0", "c0"}
 _PARAMETER_FIELDS: dict[type, str] = {EwmaParameters: "ewma", CusumParameters: "cusum"}  # type -> options field
@@ -29,7 +29,7 @@ class EvaluationOptions:
     lsl: float | None = None
     usl: float | None = None
     target: float | None = None
-    limits_from: str = "all"
+    base_period: str = "all"
     standard: dict[str, float] = field(default_factory=dict)  # mean, sigma, p0, c0 given as standards
     carried: dict[str, object] | None = None  # a limits-block entry from an earlier output
     ewma: EwmaParameters = field(default_factory=EwmaParameters)  # settings lambda and L

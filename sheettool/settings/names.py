@@ -30,7 +30,7 @@ KNOWN_SETTINGS: dict[str, str] = {
     "rules": "pattern rules or preset (limits, zones, all)",
     "interval_hours": "hours between subgroups (sampling interval)",
     "hours_per_month": "production hours per month",
-    "limits_from": "base period that sets the limits (all, first N, a date range)",
+    "base_period": "base period: the subgroups that set the limits (all, first N, a date range)",
     "mean": "standard value of the process mean",
     "sigma": "standard value of the process standard deviation",
     "p0": "standard value of the proportion defective",
@@ -77,8 +77,7 @@ SYNONYMS: dict[str, str] = {
     "samplingintervalminutes": "interval_minutes", "intervalminutes": "interval_minutes",
     "hourspermonth": "hours_per_month", "productionhourspermonth": "hours_per_month",
     "monthlyhours": "hours_per_month", "hoursmonth": "hours_per_month",
-    "limitsfrom": "limits_from", "limitsbase": "limits_from", "baseperiod": "limits_from",
-    "limitsbaseperiod": "limits_from", "limitperiod": "limits_from",
+    "limitsbaseperiod": "base_period", "limitperiod": "base_period", "limitsbase": "base_period",
     "partnumber": "part", "partno": "part", "partnr": "part", "partname": "part", "partid": "part",
     "ewmalambda": "lambda", "ewmaweight": "lambda", "ewmal": "L", "cusumk": "k", "cusumh": "h",
     "standardmean": "mean", "standardsigma": "sigma", "confidencelevel": "confidence",
@@ -97,6 +96,9 @@ SYNONYMS: dict[str, str] = {
     "detectwithinminutes": "detect_minutes", "timetodetectmin": "detect_minutes",
     "timetodetectminutes": "detect_minutes",
 }
+# Labels of earlier versions (as label_key) -> (setting, the label to write now): still read, with a note.
+EARLIER_LABELS: dict[str, tuple[str, str]] = {"limitsfrom": ("base_period", "Base period")}
+SYNONYMS.update({key: name for key, (name, _) in EARLIER_LABELS.items()})
 # Label forms with a value in minutes, converted to the hours setting by the reader of the setting.
 MINUTE_FORMS: dict[str, str] = {"interval_minutes": "interval_hours", "detect_minutes": "detect_hours"}
 # A setting in process standard deviations whose label names another unit in brackets ("Shift to detect (mm)")
@@ -124,3 +126,12 @@ def setting_name(label: str) -> str | None:
     if name in _IN_UNITS and label_key(unit) not in _SIGMA_WORDS:
         return _IN_UNITS[name]
     return name
+
+
+def earlier_label_note(label: str) -> str | None:
+    """A note when `label` is a setting's earlier name (read all the same), saying what to write now; else None."""
+    key = label_key(label.replace("[", "(").partition("(")[0])
+    if key not in EARLIER_LABELS:
+        return None
+    _, now = EARLIER_LABELS[key]
+    return f"the label '{label.strip()}' is an earlier name, read as '{now}'; write '{now}' instead"

@@ -35,7 +35,7 @@ class TemplateSpec:
 
 
 _IDENTITY = ["Part", "Characteristic", "Unit"]
-_SAMPLING = ["Sampling interval (h)", "Hours per month", "Rules", "Limits from"]
+_SAMPLING = ["Sampling interval (h)", "Hours per month", "Rules", "Base period"]
 _SPECS = ["LSL", "USL", "Target"]
 
 
@@ -80,7 +80,7 @@ def write_template(spec: TemplateSpec, path: Path) -> None:
         ws.write_blank(r, 1, None, entry)
         if label == "Rules":
             ws.write_string(r, 1, "limits", entry)
-        elif label == "Limits from":
+        elif label == "Base period":
             ws.write_string(r, 1, "all", entry)
     lines = [
         "How to fill in:",

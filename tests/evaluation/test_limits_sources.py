@@ -33,7 +33,7 @@ def test_first_n_sets_the_limits_and_later_points_use_them():
     rng = np.random.default_rng(2)
     values = rng.normal(0, 1, (30, 5))
     values[25:] += 5.0
-    result = fit_characteristic(_char(values), "s", EvaluationOptions(limits_from="first 25"))
+    result = fit_characteristic(_char(values), "s", EvaluationOptions(base_period="first 25"))
     alone = fit_characteristic(_char(values[:25]), "s")
     mean = result.fit.statistics[0]
     # Phase I limits from subgroups 1-25 applied unchanged to 26-30 (common practice; Montgomery 2009, sec. 5.4)
@@ -49,12 +49,12 @@ def test_date_range_and_excluded_subgroups():
     excluded = np.zeros(20, bool)
     excluded[3] = True
     ch = _char(values, dates=dates, excluded=excluded)
-    result = fit_characteristic(ch, "s", EvaluationOptions(limits_from="2026-11-01..2026-11-10"))
+    result = fit_characteristic(ch, "s", EvaluationOptions(base_period="2026-11-01..2026-11-10"))
     assert np.flatnonzero(result.fit.base).tolist() == [0, 1, 2, 4, 5, 6, 7, 8, 9]
     assert "dated 2026-11-01 to 2026-11-10, less 1 excluded" in result.fit.limits_source
     assert result.fit.process_mean == pytest.approx(values[result.fit.base].mean(), rel=1e-12)
     days = _char(values, dates=[d.date() for d in dates])  # plain dates work as well
-    same = fit_characteristic(days, "s", EvaluationOptions(limits_from="2026-11-01..2026-11-10"))
+    same = fit_characteristic(days, "s", EvaluationOptions(base_period="2026-11-01..2026-11-10"))
     assert same.fit.base[:10].all() and not same.fit.base[10:].any()
 
 
@@ -65,7 +65,7 @@ def test_date_range_and_excluded_subgroups():
 ])
 def test_bad_base_periods(spec, words):
     with pytest.raises(ValueError, match=words):
-        fit_characteristic(_char(np.ones((30, 3)) + np.arange(3)), "s", EvaluationOptions(limits_from=spec))
+        fit_characteristic(_char(np.ones((30, 3)) + np.arange(3)), "s", EvaluationOptions(base_period=spec))
 
 
 def test_standard_values_for_variables_and_counts():
@@ -111,7 +111,7 @@ def test_carried_limits_round_trip(tmp_path):
     november = tmp_path / "november.xlsx"
     write_demo(november)
     evaluated = tmp_path / "november-evaluated.xlsx"
-    first = evaluate_file(november, evaluated, _settings(limits_from="first 20"))
+    first = evaluate_file(november, evaluated, _settings(base_period="first 20"))
     entries = read_limits_block(evaluated)
     assert set(entries) == {"Bore diameter", "Leak test", "Crimp force"}  # the demo's three sheets
     december = tmp_path / "december.xlsx"
@@ -153,7 +153,7 @@ def test_carried_limits_for_ewma_and_p_keep_their_parameters():
     assert again.fit.parameters["p0"] == pytest.approx(16 / 200)
 
 
-def test_cli_limits_from(run_cli, tmp_path):
+def test_cli_limits_from_an_earlier_output(run_cli, tmp_path):
     november = tmp_path / "november.xlsx"
     write_demo(november)
     evaluated = tmp_path / "nov-evaluated.xlsx"
@@ -216,7 +216,7 @@ def _settings(**values: object) -> dict[str, Setting]:
 
 
 @pytest.mark.parametrize(("options", "words"), [
-    (_settings(limits_from="first 40"), "limits_from 'first 40' names 40 subgroups but there are 30"),
+    (_settings(base_period="first 40"), "base period 'first 40' names 40 subgroups but there are 30"),
     (_settings(lsl=12.1, usl=11.9), "must be below the upper"),
     (_settings(chart="p"), "a p (proportion defective) chart needs attribute counts"),
 ])

@@ -23,7 +23,7 @@ def test_flat_readings_give_no_signals_and_say_why(n, chart):
     # today the EWMA flagged every point (its rounding off the center line divided by zero).
     later = [5.0, 5.1, 4.9]  # after a flat base period of 20, readings that do vary
     ch = _flat(20, n, later)
-    options = EvaluationOptions(chart=chart, limits_from="first 20")
+    options = EvaluationOptions(chart=chart, base_period="first 20")
     fitted = fit_characteristic(ch, "Flat", options)
     assert fitted.fit.sigma_within == 0.0
     assert fitted.signals == []

@@ -76,7 +76,7 @@ def test_every_requirement_is_a_known_setting():
 
 def test_a_work_shift_above_the_header_is_no_requirement():
     rows = [["Shift", "B", "Shift: 2", "Mean: 12.003"], ["Shift to detect (sigma)", 1.5]]
-    found = labelled_settings("Line", rows, 2)
+    found, _ = labelled_settings("Line", rows, 2)
     assert set(found) == {"shift"} and found["shift"].origin == "'Line'!B2"
 
 

@@ -13,7 +13,7 @@ from tests.workbooks import SheetSettings
     ("LSL", "lsl"), ("L.S.L.", "lsl"), ("Lower spec limit", "lsl"), ("USL (mm)", "usl"), ("Nominal", "target"),
     ("Sample size", "subgroup_size"), ("Subgroup size", "subgroup_size"), ("Sampling interval (h)", "interval_hours"),
     ("Interval", "interval_hours"), ("Part no.", "part"), ("Hours per month", "hours_per_month"),
-    ("Limits from", "limits_from"), ("Bore diameter", None), ("Operator", None),
+    ("Limits from", "base_period"), ("Base period", "base_period"), ("Bore diameter", None), ("Operator", None),
 ])
 def test_label_matching_ignores_case_and_punctuation(label, name):
     assert setting_name(label) == name
@@ -67,7 +67,7 @@ def test_inline_label_with_an_invalid_value_is_no_setting():
     from sheettool.workbook.reader.labels import labelled_settings
 
     rows = [["Target: monthly review"], ["USL = 12,05"], ["LSL", "11.95"]]
-    found = labelled_settings("Bore", rows, 3)
+    found, _ = labelled_settings("Bore", rows, 3)
     assert "target" not in found
     assert (found["usl"].value, found["usl"].origin) == ("12,05", "'Bore'!A2")
     assert found["lsl"].origin == "'Bore'!B3"
@@ -77,5 +77,18 @@ def test_observed_statistics_above_the_header_are_no_settings():
     from sheettool.workbook.reader.labels import labelled_settings
 
     rows = [["Mean", 12.003, "Sigma", 0.01], ["Standard mean", 12.0], ["Min", 11.97, "Max", 12.04]]
-    found = labelled_settings("Bore", rows, 3)
+    found, _ = labelled_settings("Bore", rows, 3)
     assert set(found) == {"mean"} and found["mean"].origin == "'Bore'!B2"
+
+
+def test_the_earlier_label_of_the_base_period_still_reads_with_a_note():
+    from sheettool.workbook.reader.labels import labelled_settings
+
+    rows = [["Limits from", "first 20"], ["Rules: zones"]]
+    found, notes = labelled_settings("Bore", rows, 2)
+    assert (found["base_period"].value, found["base_period"].origin) == ("first 20", "'Bore'!B1")
+    assert [(n.severity, n.cell) for n in notes] == [("note", "A1")]
+    assert "write 'Base period' instead" in notes[0].message
+    sheet, problems = read_settings_sheet([["Limits from", "first 25"], ["Base period", "all"]], "settings")
+    assert sheet.common["base_period"].value == "all"
+    assert [(p.severity, p.cell) for p in problems] == [("note", "row 1")]

@@ -18,7 +18,7 @@ import re
 from dataclasses import dataclass, field
 
 from sheettool.base.problems import Problem
-from sheettool.settings import Setting, label_key, setting_name
+from sheettool.settings import Setting, earlier_label_note, label_key, setting_name
 from sheettool.settings.convert import convert
 from sheettool.workbook.reader.cells import address
 
@@ -47,9 +47,11 @@ def _blank(value: object) -> bool:
     return value is None or (isinstance(value, str) and not value.strip())
 
 
-def labelled_settings(title: str, rows: list[list[object]], above: int) -> dict[str, Setting]:
-    """Settings named by labels in rows[0:above] (the rows above the header)."""
+def labelled_settings(title: str, rows: list[list[object]], above: int) -> tuple[dict[str, Setting], list[Problem]]:
+    """Settings named by labels in rows[0:above] (the rows above the header), and a note for each label written
+    under a setting's earlier name."""
     found: dict[str, Setting] = {}
+    notes: list[Problem] = []
     for r in range(min(above, len(rows))):
         row = rows[r]
         for c, value in enumerate(row):
@@ -61,6 +63,7 @@ def labelled_settings(title: str, rows: list[list[object]], above: int) -> dict[
                 setting = Setting(name, inline.group(2), address(title, r + 1, c + 1))
                 if _converts(setting):  # a title such as "Target: monthly review" is no setting
                     found.setdefault(name, setting)
+                    _note_earlier(notes, inline.group(1), title, setting.origin)
                 continue
             name = setting_name(value)
             if name is None or label_key(value) in _NOT_IN_CELLS:
@@ -72,7 +75,17 @@ def labelled_settings(title: str, rows: list[list[object]], above: int) -> dict[
                 found.setdefault(name, Setting(name, right, address(title, r + 1, c + 2)))
             elif not _blank(below) and setting_name(str(below)) is None:
                 found.setdefault(name, Setting(name, below, address(title, r + 2, c + 1)))
-    return found
+            else:
+                continue
+            _note_earlier(notes, value, title, address(title, r + 1, c + 1))
+    return found, notes
+
+
+def _note_earlier(notes: list[Problem], label: str, sheet: str, cell: str) -> None:
+    """A note when the label is a setting's earlier name."""
+    note = earlier_label_note(label)
+    if note:
+        notes.append(Problem("note", note, sheet=sheet, cell=cell.rpartition("!")[2]))
 
 
 def _converts(setting: Setting) -> bool:
@@ -108,4 +121,6 @@ def read_settings_sheet(rows: list[list[object]], title: str) -> tuple[SettingsS
                                     cell=f"row {r}"))
         else:
             target[name] = Setting(name, value, f"settings sheet row {r}")
+            if note := earlier_label_note(text):
+                problems.append(Problem("note", note, sheet=title, cell=f"row {r}"))
     return sheet, problems

@@ -7,6 +7,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from sheettool.base.errors import InputError
+from sheettool.base.problems import Problem
 from sheettool.core.data import Characteristic
 from sheettool.settings import Setting
 from sheettool.settings.convert import merge
@@ -32,6 +33,7 @@ class SheetParts:
     columns: Columns
     labelled: dict[str, Setting]  # labelled cells above the header
     resolved: dict[str, Setting]  # unit, subgroup size and chart, from all the layers
+    renamed: list[Problem]  # notes on labels written under a setting's earlier name
 
 
 def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dict[str, Setting]) -> SheetRead:
@@ -41,13 +43,13 @@ def read_sheet(raw: RawSheet, workbook_layer: dict[str, Setting], cli_layer: dic
     header, units_row = find_header(grid)  # before merged cells are filled: a wide title must not win
     if header is not None:
         fill_merged(grid, raw.merged, header + 1)
-    labelled = labelled_settings(raw.title, grid.rows, header or 0)
+    labelled, renamed = labelled_settings(raw.title, grid.rows, header or 0)
     resolved = _reader_settings(workbook_layer, labelled, cli_layer)
     frame = frame_of(grid, header, units_row)
     chart = resolved["chart"].value if "chart" in resolved else None
     columns = sheet_columns(grid, header, frame.data, chart)
     return _sheet_read(SheetParts(raw=raw, grid=grid, frame=frame, columns=columns, labelled=labelled,
-                                  resolved=resolved))
+                                  resolved=resolved, renamed=renamed))
 
 
 def _reader_settings(*layers: dict[str, Setting]) -> dict[str, Setting]:
@@ -76,7 +78,7 @@ def _sheet_read(parts: SheetParts) -> SheetRead:
         readings=shape.readings, blanks=cells.blanks, blank_rows=frame.blank_rows, not_numbers=seen.not_numbers,
         hidden_rows=seen.hidden_rows, hidden_columns=seen.hidden_columns, short_subgroups=out.short,
         units_row=_one_based(frame.units_row), formulas_without_value=seen.formulas_without_value,
-        problems=problems(title, seen, shape, out),
+        problems=[*parts.renamed, *problems(title, seen, shape, out)],
     )
 
 

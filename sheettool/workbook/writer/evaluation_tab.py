@@ -109,7 +109,7 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     tab.fact("Unit", ch.unit or "not given")
     tab.fact("Specification limits", _spec_words(result))
     tab.fact("Chart", f"{about.words}; subgroups of {fit.subgroup_size}")
-    tab.fact("Limits from", fit.limits_source)
+    tab.fact("Base period", fit.limits_source)
     tab.fact("Points that set the limits", _spans(np.asarray(fit.base, dtype=bool)), wrap=True)
     tab.fact("Sigma within", f"{fit.sigma_within:.6g} ({fit.sigma_words})")
     tab.fact("Rules in use", "; ".join(f"{r.text}: {r.words}" for r in result.rules), wrap=True)
