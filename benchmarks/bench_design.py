@@ -14,7 +14,7 @@ def main() -> None:
     """Time the full search once from cold caches, then a second design with a different in-control target."""
     cases = [
         ("ARL0 370.4, shift 0.5, n 1-10, intervals 0.5 and 1 h",
-         Requirements(arl_in_control=370.4, shift=0.5, detect_hours=4.0), Sampling(intervals=(0.5, 1.0))),
+         Requirements(arl_in_control=370.4, shift=0.5, ats_hours=4.0), Sampling(intervals=(0.5, 1.0))),
         ("1 false alarm / 400 h, shift 1, n 1-10, intervals 0.5, 1, 2 h",
          Requirements(false_alarms_per_month=1.0, hours_per_month=400.0, shift=1.0),
          Sampling(intervals=(0.5, 1.0, 2.0))),

@@ -29,7 +29,7 @@ SIZE = 5
 SIZES = (1_000, 10_000, 100_000)
 LARGE = 300_000
 DEMO = Path(__file__).resolve().parents[1] / "sheettool" / "demo" / "demo-measurements.xlsx"
-DESIGN = ["design", "--arl-in-control", "370.4", "--shift", "0.5", "--detect-hours", "4", "--intervals", "0.5,1"]
+DESIGN = ["design", "--arl-in-control", "370.4", "--shift", "0.5", "--ats-hours", "4", "--intervals", "0.5,1"]
 
 
 def make_input(path: Path, subgroups: int) -> None:

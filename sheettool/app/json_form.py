@@ -7,7 +7,7 @@ from typing import Any
 
 import numpy as np
 
-from sheettool import TOOL_NAME, __version__
+from sheettool import tool_json
 from sheettool.base.problems import Problem
 from sheettool.core.capability import AttributeRate, Capability
 from sheettool.core.charts import PlottedStatistic
@@ -61,6 +61,8 @@ def capability_json(cap: Capability | AttributeRate | None) -> dict[str, Any] | 
         "notes": list(cap.notes),
     })
     return out
+
+
 def run_length_json(arl: float, sdrl: float | None, percentiles: dict[int, float] | None,
                     steady_state_arl: float | None, ci: tuple[float, float] | None) -> dict[str, Any]:
     """The run-length figures of one condition; null where a method does not give one."""
@@ -106,7 +108,7 @@ def characteristic_json(result: CharacteristicResult) -> dict[str, Any]:
         "limits": {stat.name: limits_json(stat) for stat in fit.statistics},
         "signals": [{"subgroup": s.subgroup, "statistic": s.statistic, "rule": s.rule} for s in result.signals],
         "limits_source": fit.limits_source,
-        "base_subgroups": [int(i) + 1 for i in np.flatnonzero(fit.base)],
+        "base_period_points": [int(i) + 1 for i in np.flatnonzero(fit.base)],
         "removed": list(fit.removed),
         "capability": capability_json(result.capability),
         "performance": performance_json(perf),
@@ -150,7 +152,7 @@ def report_json(report: EvaluationReport) -> dict[str, Any]:
     """The whole report as one JSON-ready object."""
     problems = report.problems + [p for c in report.characteristics for p in c.problems]
     return {
-        "tool": {"name": TOOL_NAME, "version": __version__},
+        "tool": tool_json(),
         "input": str(report.input),
         "input_sha256": report.input_sha256,
         "output": str(report.output) if report.output else None,
@@ -171,7 +173,7 @@ def reader_json(settings: dict[str, Setting], read: SheetRead | None) -> dict[st
             "columns": read.columns, "subgroups": read.subgroups, "readings": read.readings,
             "blanks": read.blanks, "blank_rows": read.blank_rows, "not_numbers": read.not_numbers,
             "short_subgroups": read.short_subgroups,
-            "excluded": [{"subgroup": int(i) + 1, "label": ch.labels[i], "note": ch.notes[i]}
+            "excluded": [{"point": int(i) + 1, "label": ch.labels[i], "note": ch.notes[i]}
                          for i in np.flatnonzero(ch.excluded)],
             "hidden_rows": read.hidden_rows, "hidden_columns": read.hidden_columns,
             "formulas_without_value": read.formulas_without_value, "unit": ch.unit or None,

@@ -8,7 +8,7 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from sheettool import TOOL_NAME, __version__
+from sheettool import tool_json
 from sheettool.app.api import design_schemes
 from sheettool.base.errors import UsageError
 from sheettool.cli.common import number, number_list, print_json, setting_list, setting_value, write_stdout
@@ -19,16 +19,16 @@ from sheettool.workbook.design_book import HEAD, candidate_row, requirement_line
 def add_arguments(p: argparse.ArgumentParser) -> None:
     """The sub-command's options (its line in the list of commands is in cli/main.py)."""
     p.description = ("Search Shewhart, EWMA and CUSUM schemes at the sampling allowed, calibrate EWMA and CUSUM to the "
-                     "in-control target and rank them by the time they take to catch the shift that matters.")
+                     "in-control target and rank them by their ATS, the hours to signal the shift that matters.")
     p.add_argument("--arl-in-control", help="in-control ARL wanted at least, in points (default 370.4); with "
                    "--false-alarms-per-month too, the stricter of the two")
     p.add_argument("--false-alarms-per-month", help="false alarms per month allowed at most (needs --hours-per-month)")
     p.add_argument("--hours-per-month", help="production hours per month")
     p.add_argument("--shift", help="the shift that matters, in process standard deviations (default 1)")
-    p.add_argument("--shift-units", help="the shift that matters in the characteristic's unit (needs --sigma)")
+    p.add_argument("--shift-unit", help="the shift that matters in the characteristic's unit (needs --sigma)")
     p.add_argument("--sigma", help="the process standard deviation, in the characteristic's unit")
-    p.add_argument("--detect-arl", help="ARL at the shift wanted at most, in points")
-    p.add_argument("--detect-hours", help="average time to catch the shift wanted at most, in hours, e.g. 2 or "
+    p.add_argument("--arl-at-shift", help="ARL at the shift wanted at most, in points")
+    p.add_argument("--ats-hours", help="ATS at the shift wanted at most: the average hours to signal it, e.g. 2 or "
                    "'90 min'")
     p.add_argument("--sizes", default="1-10", help="subgroup sizes allowed: a range 1-10 or a list 1,2,5")
     p.add_argument("--intervals", help="sampling intervals allowed, in hours: a list 0.5,1,2 (or 30 min,1 h)")
@@ -57,12 +57,12 @@ def _sizes(text: str) -> tuple[int, ...]:
 def _inputs(args: argparse.Namespace) -> tuple[Requirements, Sampling, SearchGrid]:
     if args.false_alarms_per_month is not None and args.hours_per_month is None:
         raise UsageError("--false-alarms-per-month needs --hours-per-month (production hours per month)")
-    if args.shift_units is not None and args.sigma is None:
-        raise UsageError("--shift-units needs --sigma, the process standard deviation in the same unit")
+    if args.shift_unit is not None and args.sigma is None:
+        raise UsageError("--shift-unit needs --sigma, the process standard deviation in the same unit")
     top = number("--top", args.top)
     if not (top is not None and top == int(top) and top >= 1):
         raise UsageError(f"--top: must be a whole number of at least 1, got '{args.top}'")
-    # each requirement, the hours and sigma as the setting of that name, e.g. --detect-hours '90 min'
+    # each requirement, the hours and sigma as the setting of that name, e.g. --ats-hours '90 min'
     values = {name: setting_value(name, f"--{name.replace('_', '-')}", getattr(args, name))
               for name in (*REQUIREMENT_KEYS, "hours_per_month", "sigma")}
     try:
@@ -122,11 +122,11 @@ def design_json(result: DesignResult) -> dict[str, Any]:
     """The whole design as one JSON-ready object (every candidate, ranked)."""
     req, sampling = result.requirements, result.sampling
     return {
-        "tool": {"name": TOOL_NAME, "version": __version__},
+        "tool": tool_json(),
         "requirements": {"arl_in_control": req.arl_in_control, "false_alarms_per_month": req.false_alarms_per_month,
                          "hours_per_month": req.hours_per_month, "shift": result.shift,
-                         "shift_units": req.shift_units, "sigma": req.sigma, "detect_arl": req.detect_arl,
-                         "detect_hours": req.detect_hours},
+                         "shift_unit": req.shift_unit, "sigma": req.sigma, "arl_at_shift": req.arl_at_shift,
+                         "ats_hours": req.ats_hours},
         "sampling": {"sizes": list(sampling.sizes), "intervals": list(sampling.intervals or []) or None,
                      "budget": sampling.budget},
         "feasible": result.feasible,

@@ -6,7 +6,7 @@ import argparse
 import sys
 from pathlib import Path
 
-from sheettool import TOOL_NAME, __version__
+from sheettool import TOOL_NAME, tool_json
 from sheettool.base.errors import InputError, UsageError
 from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, print_json, writer_options
 
@@ -79,7 +79,7 @@ def run(args: argparse.Namespace) -> int:
             if reports:
                 print_json(reports[0])
         else:
-            print_json({"tool": {"name": TOOL_NAME, "version": __version__}, "evaluations": reports,
+            print_json({"tool": tool_json(), "evaluations": reports,
                         "failed": [{"input": str(o.job.path), "message": o.error, "exit_code": o.code}
                                    for o in outcomes if o.report is None],
                         "skipped": [{"input": str(p), "message": why} for p, why in skipped]})

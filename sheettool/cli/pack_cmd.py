@@ -7,7 +7,7 @@ import sys
 from pathlib import Path
 from typing import Any
 
-from sheettool import TOOL_NAME, __version__
+from sheettool import tool_json
 from sheettool.app.batch import Progress
 from sheettool.app.json_form import characteristic_json, problem_json
 from sheettool.app.outputs import check_output
@@ -75,7 +75,7 @@ def pack_json(pack: Pack, output: Path) -> dict[str, Any]:
         problems += [problem_json(p, outcome.job.source)
                      for p in report.problems + [p for c in report.characteristics for p in c.problems]]
     return {
-        "tool": {"name": TOOL_NAME, "version": __version__},
+        "tool": tool_json(),
         "output": str(output),
         "period": pack.period.label if pack.period else None,
         "characteristics": characteristics,

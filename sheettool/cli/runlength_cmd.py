@@ -6,6 +6,7 @@ import argparse
 import math
 from typing import Any
 
+from sheettool import tool_json
 from sheettool.app.json_form import run_length_json
 from sheettool.base.errors import UsageError
 from sheettool.cli.common import number, number_list, print_json, setting_value, write_stdout
@@ -119,6 +120,7 @@ def _document(args: argparse.Namespace, scheme: Scheme, result: SchemeResult, ar
         row["ats_hours"] = ats if ats is not None and math.isfinite(ats) else None
         rows.append(row)
     return {
+        "tool": tool_json(),
         "scheme": info,
         "method": result.method,
         "arl_in_control": arl0 if math.isfinite(arl0) else None,

@@ -19,14 +19,14 @@ from sheettool.settings.typed_text import number_text
 
 _NUMBERS = {"lsl", "usl", "target", "interval_hours", "hours_per_month", "mean", "sigma", "p0", "c0",
             "confidence", *PARAMETER_SETTINGS, *REQUIREMENT_KEYS}
-_IN_HOURS = {"interval_hours", "detect_hours"}  # a value may say "30 min"
+_IN_HOURS = {"interval_hours", "ats_hours"}  # a value may say "30 min"
 _TEXTS = {"unit", "part", "base_period"}
 _WITH_UNIT = re.compile(r"^\s*([+-]?[\d.,]+(?:[eE][+-]?\d+)?)\s*([A-Za-zµμ°%/]{0,8})\s*$")
 _MINUTES = {"min", "mins", "minute", "minutes", "m"}
 _HOURS = {"", "h", "hr", "hrs", "hour", "hours"}
 _YES = {"yes", "y", "true", "1", "on", "x"}
 _NO = {"no", "n", "false", "0", "off", ""}
-_ALTERNATIVES = (("shift", "shift_units", "give the shift to detect in process standard deviations or in the "
+_ALTERNATIVES = (("shift", "shift_unit", "give the shift to detect in process standard deviations or in the "
                   "characteristic's unit, not both"),)  # one or the other, never both
 
 

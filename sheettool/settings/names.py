@@ -50,9 +50,9 @@ KNOWN_SETTINGS.update({
     "arl_in_control": "required in-control ARL (points between false alarms, at least)",
     "false_alarms_per_month": "allowed false alarms per month (at most)",
     "shift": "shift to detect (process standard deviations)",
-    "shift_units": "shift to detect (in the characteristic's unit)",
-    "detect_arl": "required ARL at the shift to detect (points, at most)",
-    "detect_hours": "time to detect the shift (hours, at most)",
+    "shift_unit": "shift to detect (in the characteristic's unit)",
+    "arl_at_shift": "ARL at the shift to detect (points, at most)",
+    "ats_hours": "ATS at the shift to detect: hours to signal it (at most)",
 })
 
 # Words a technician may write for a setting, after `label_key` (lower case, letters and digits
@@ -88,22 +88,25 @@ SYNONYMS: dict[str, str] = {
     "falsealarmspermonth": "false_alarms_per_month", "maxfalsealarmspermonth": "false_alarms_per_month",
     "shifttodetect": "shift", "shiftthatmatters": "shift", "shifttodetectsigma": "shift",
     "shifttodetectsd": "shift", "shiftinsigma": "shift",
-    "shifttodetectunits": "shift_units", "shiftthatmattersunits": "shift_units", "shiftinunits": "shift_units",
-    "requiredarlatshift": "detect_arl", "detectwithinpoints": "detect_arl", "arlatshiftatmost": "detect_arl",
-    "arlatshift": "detect_arl",
-    "detectwithinhours": "detect_hours", "timetodetect": "detect_hours", "timetodetecth": "detect_hours",
-    "hourstodetect": "detect_hours", "timetodetecthours": "detect_hours",
-    "detectwithinminutes": "detect_minutes", "timetodetectmin": "detect_minutes",
-    "timetodetectminutes": "detect_minutes",
+    "shiftunits": "shift_unit",
+    "shifttodetectunits": "shift_unit", "shiftthatmattersunits": "shift_unit", "shiftinunits": "shift_unit",
+    "requiredarlatshift": "arl_at_shift", "detectwithinpoints": "arl_at_shift", "arlatshiftatmost": "arl_at_shift",
+    "arlatshift": "arl_at_shift",
+    "detectwithinhours": "ats_hours", "timetodetect": "ats_hours", "timetodetecth": "ats_hours",
+    "hourstodetect": "ats_hours", "timetodetecthours": "ats_hours", "hourstosignal": "ats_hours",
+    "atsatmost": "ats_hours", "atsatmosthours": "ats_hours", "atsh": "ats_hours", "atsatshift": "ats_hours",
+    "atsatshifthours": "ats_hours", "atsmin": "ats_minutes", "atsminutes": "ats_minutes",
+    "detectwithinminutes": "ats_minutes", "timetodetectmin": "ats_minutes",
+    "timetodetectminutes": "ats_minutes",
 }
 # Labels of earlier versions (as label_key) -> (setting, the label to write now): still read, with a note.
 EARLIER_LABELS: dict[str, tuple[str, str]] = {"limitsfrom": ("base_period", "Base period")}
 SYNONYMS.update({key: name for key, (name, _) in EARLIER_LABELS.items()})
 # Label forms with a value in minutes, converted to the hours setting by the reader of the setting.
-MINUTE_FORMS: dict[str, str] = {"interval_minutes": "interval_hours", "detect_minutes": "detect_hours"}
+MINUTE_FORMS: dict[str, str] = {"interval_minutes": "interval_hours", "ats_minutes": "ats_hours"}
 # A setting in process standard deviations whose label names another unit in brackets ("Shift to detect (mm)")
 # means the same in the characteristic's unit.
-_IN_UNITS: dict[str, str] = {"shift": "shift_units"}
+_IN_UNITS: dict[str, str] = {"shift": "shift_unit"}
 _SIGMA_WORDS = {"sigma", "sigmas", "sd", "σ", "standarddeviations", "standarddeviation", "s"}
 
 

@@ -45,16 +45,16 @@ def requirement_lines(result: DesignResult) -> list[tuple[str, str]]:
     """The requirements and sampling in words, label by label (also used by the terminal output)."""
     req, sampling = result.requirements, result.sampling
     lines = [("Shift that matters", f"{result.shift:.4g} sigma (process standard deviations)"
-              + (f" ({req.shift_units:g} in the unit, sigma {req.sigma:g})" if req.shift_units is not None else ""))]
+              + (f" ({req.shift_unit:g} in the unit, sigma {req.sigma:g})" if req.shift_unit is not None else ""))]
     if req.arl_in_control is not None:
         lines.append(("In-control ARL at least", f"{req.arl_in_control:g} points"))
     if req.false_alarms_per_month is not None:
         lines.append(("False alarms per month at most", f"{req.false_alarms_per_month:g} "
-                      f"({req.hours_per_month:g} production hours a month)"))
-    if req.detect_arl is not None:
-        lines.append(("ARL at the shift at most", f"{req.detect_arl:g} points"))
-    if req.detect_hours is not None:
-        lines.append(("Time to catch the shift at most", f"{req.detect_hours:g} h"))
+                      f"({req.hours_per_month:g} production hours per month)"))
+    if req.arl_at_shift is not None:
+        lines.append(("ARL at the shift at most", f"{req.arl_at_shift:g} points"))
+    if req.ats_hours is not None:
+        lines.append(("ATS at the shift at most (hours)", f"{req.ats_hours:g}"))
     lines.append(("Subgroup sizes", ", ".join(str(n) for n in sampling.sizes)))
     if sampling.intervals is not None:
         lines.append(("Intervals", ", ".join(f"{t:g} h" for t in sampling.intervals)))
@@ -63,8 +63,8 @@ def requirement_lines(result: DesignResult) -> list[tuple[str, str]]:
     return lines
 
 
-HEAD = ("Rank", "Scheme", "n", "Every (h)", "Measurements per hour", "In-control ARL", "False alarms per month",
-        "ARL at the shift", "Time to catch (h)", "Meets every requirement", "Not met")
+HEAD = ("Rank", "Scheme", "n", "Interval (h)", "Measurements per hour", "In-control ARL", "False alarms per month",
+        "ARL at the shift", "ATS (hours)", "Meets every requirement", "Not met")
 
 
 def candidate_row(rank: int, c: Candidate) -> list[str | float | None]:

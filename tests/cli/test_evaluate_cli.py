@@ -47,7 +47,7 @@ def test_demo_leak_test_and_crimp_force_sheets(run_cli, demo_copy, tmp_path):
     # Leak test: the number tested varies by shift -> p chart (common practice), limits from the first 24 shifts;
     # the leak rate rises from 1.5% to 5% at shift 28 and the chart signals after it (with this seed only after it).
     leak = chars["Leak test"]
-    assert leak["chart"] == "p" and leak["base_subgroups"] == list(range(1, scenario.LEAK_BASE + 1))
+    assert leak["chart"] == "p" and leak["base_period_points"] == list(range(1, scenario.LEAK_BASE + 1))
     assert leak["signals"] and all(s["subgroup"] >= scenario.LEAK_RISE_AT for s in leak["signals"])
     # p-bar of about 24 x 200 units at 1.5%: standard error about 0.0018, so within 0.006 (3 standard errors)
     assert leak["limits"]["proportion"]["center"] == pytest.approx(scenario.LEAK_RATE, abs=0.006)
@@ -58,7 +58,7 @@ def test_demo_leak_test_and_crimp_force_sheets(run_cli, demo_copy, tmp_path):
     assert crimp["capability"]["lsl"] == scenario.CRIMP_LSL and crimp["capability"]["usl"] == scenario.CRIMP_USL
     # the bore's requirements come from its labelled cells
     req = chars["Bore diameter"]["requirements"]
-    assert {i["name"] for i in req["items"]} == {"false_alarms_per_month", "detect_hours"}
+    assert {i["name"] for i in req["items"]} == {"false_alarms_per_month", "ats_hours"}
 
 
 def test_default_output_beside_input(run_cli, demo_copy):

@@ -100,7 +100,7 @@ def test_runlength(args):
 
 
 def test_design_on_a_small_grid():
-    code, doc = _run_json("design", "--shift", "1", "--detect-arl", "5", "--sizes", "1,4", "--intervals", "1",
+    code, doc = _run_json("design", "--shift", "1", "--arl-at-shift", "5", "--sizes", "1,4", "--intervals", "1",
                           "--presets", "limits,zones", "--lambdas", "0.2", "--ks", "0.5", "--json")
     assert code == 0
     _valid("design", doc)

@@ -87,7 +87,7 @@ def test_broken_pipe_is_quiet():
     command = (f"'{sys.executable}' -m sheettool runlength --n 5 --shift {shifts} --json | head -c 10; "
                "exit ${PIPESTATUS[0]}")
     done = subprocess.run(["bash", "-c", command], capture_output=True, text=True, cwd=Path(__file__).parents[2])
-    assert done.stdout == '{\n  "schem' and "Traceback" not in done.stderr
+    assert done.stdout == '{\n  "tool"' and "Traceback" not in done.stderr
     assert done.returncode == 0, done.stderr
 
 

@@ -119,10 +119,10 @@ def test_budget_pairs_sizes_with_intervals():
 
 
 def test_a_detection_target_no_scheme_meets_says_which_and_the_nearest():
-    result = design(Requirements(shift=0.5, detect_hours=0.5), Sampling(sizes=(1, 2), intervals=(1.0,)))
+    result = design(Requirements(shift=0.5, ats_hours=0.5), Sampling(sizes=(1, 2), intervals=(1.0,)))
     assert not result.feasible
     text = " ".join(result.messages)
-    assert "detect_hours = 0.5" in text and "cannot be met" in text and "nearest" in text
+    assert "ats_hours = 0.5" in text and "cannot be met" in text and "nearest" in text
     best = min((c for c in result.candidates if c.check.items[0].met), key=lambda c: c.ats_hours)
     assert f"{best.ats_hours:.4g}" in text
 
@@ -134,13 +134,13 @@ def test_no_allowed_sampling_is_a_message_not_an_exception():
 
 
 @pytest.mark.parametrize(("make", "words"), [
-    (lambda: Requirements(detect_arl=0.5), "ARL at the shift"),
+    (lambda: Requirements(arl_at_shift=0.5), "ARL at the shift"),
     (lambda: Requirements(shift=-1.0), "shift"),
-    (lambda: Requirements(shift=1.0, shift_units=0.2), "not both"),
+    (lambda: Requirements(shift=1.0, shift_unit=0.2), "not both"),
     (lambda: Sampling(sizes=()), "no subgroup size"),
     (lambda: SearchGrid(lambdas=(1.5,)), "lambda"),
     (lambda: design(Requirements(arl_in_control=5e7)), "outside what the design calibrates"),
-    (lambda: Requirements(shift_units=0.02).delta(), "needs the process sigma"),
+    (lambda: Requirements(shift_unit=0.02).delta(), "needs the process sigma"),
 ])
 def test_malformed_requirements_raise_a_plain_value_error(make, words):
     with pytest.raises(ValueError, match=words):
@@ -148,7 +148,7 @@ def test_malformed_requirements_raise_a_plain_value_error(make, words):
 
 
 def test_check_requirements_words_and_missing_interval():
-    req = Requirements(arl_in_control=500.0, detect_hours=2.0, shift_units=0.02, sigma=0.01)
+    req = Requirements(arl_in_control=500.0, ats_hours=2.0, shift_unit=0.02, sigma=0.01)
     check = check_requirements(req, 370.4, 3.0, None, req.delta())
     assert req.delta() == pytest.approx(2.0)
     assert check.items[0].met is False and check.items[1].met is None and check.met is False
@@ -157,7 +157,7 @@ def test_check_requirements_words_and_missing_interval():
 
 def test_cli_json_shape_and_workbook_chart(run_cli, tmp_path):
     out = tmp_path / "design.xlsx"
-    run = run_cli("design", "--shift", "1", "--sizes", "1,5", "--intervals", "1,2", "--detect-hours", "10",
+    run = run_cli("design", "--shift", "1", "--sizes", "1,5", "--intervals", "1,2", "--ats-hours", "10",
                   "--lambdas", "0.1,0.2", "--ks", "0.5", "--json", "-o", out)
     assert run.code == 0, run.err
     doc = run.json
@@ -173,14 +173,14 @@ def test_cli_json_shape_and_workbook_chart(run_cli, tmp_path):
 
 
 @pytest.mark.parametrize("args", [["--sizes", "a-b"], ["--shift", "x"], ["--false-alarms-per-month", "2"],
-                                  ["--shift-units", "0.1"], ["--detect-arl", "0.2"], ["--top", "0"]])
+                                  ["--shift-unit", "0.1"], ["--arl-at-shift", "0.2"], ["--top", "0"]])
 def test_cli_bad_options_exit_2(run_cli, args):
     run = run_cli("design", *args)
     assert run.code == 2 and "Traceback" not in run.err and run.err.strip()
 
 
 def test_cli_table_when_nothing_meets(run_cli):
-    run = run_cli("design", "--shift", "0.5", "--detect-arl", "1", "--sizes", "1", "--lambdas", "0.1", "--ks", "0.5")
+    run = run_cli("design", "--shift", "0.5", "--arl-at-shift", "1", "--sizes", "1", "--lambdas", "0.1", "--ks", "0.5")
     assert run.code == 0
     assert "No scheme searched meets every requirement" in run.out and "nearest" in run.out
 
@@ -193,26 +193,26 @@ def test_evaluate_json_has_estimated_limits_data_shape_and_requirements(tmp_path
     est = char["estimated_limits"]
     assert set(est) == {"carl_mean", "carl_sd", "carl_p10", "carl_p50", "adjusted_factor", "subgroups_needed",
                         "sentence", "method"}
-    assert f"{len(char['base_subgroups'])} subgroups" in est["sentence"]
+    assert f"{len(char['base_period_points'])} subgroups" in est["sentence"]
     # 3-sigma limits suffice exactly when the adjusted factor is at most 3 (the demo's own false-alarm target)
     assert (est["adjusted_factor"] <= 3.0) == ("already enough" in est["sentence"])
     shape = char["data_shape"]
     assert set(shape) == {"family", "arl_normal", "arl_shape", "r1", "significant", "arl_ar1", "warnings", "method"}
     assert (shape["arl_ar1"] is None) == (not shape["significant"])
     # the demo's labelled cells ask for at most 3 false alarms a month and a 0.015 mm shift caught within 2 h
-    assert {i["name"] for i in char["requirements"]["items"]} == {"false_alarms_per_month", "detect_hours"}
+    assert {i["name"] for i in char["requirements"]["items"]} == {"false_alarms_per_month", "ats_hours"}
     # the same demo characteristic with other requirements in its options
     sheet = next(s for s in read_workbook(BUNDLED).sheets if s.sheet == "Bore diameter")
-    options = EvaluationOptions(requirements={"arl_in_control": 370.4, "shift": 1.0, "detect_hours": 2.0},
+    options = EvaluationOptions(requirements={"arl_in_control": 370.4, "shift": 1.0, "ats_hours": 2.0},
                                 interval_hours=1.0, hours_per_month=400.0)
     result = evaluate(sheet.characteristic, sheet.sheet, options)
     req = characteristic_json(result)["requirements"]
     items = {i["name"]: i for i in req["items"]}
     # X-bar and R, n = 5: ARL at 1 sigma is a little under the X-bar alone's 1/p = 4.5 (scipy.stats; common practice)
     p = stats.norm.cdf(-3.0 + 5 ** 0.5) + stats.norm.cdf(-3.0 - 5 ** 0.5)
-    assert items["detect_hours"]["achieved"] == pytest.approx(1.0 / p, rel=0.05)
-    assert items["detect_hours"]["met"] is False and req["met"] is False
-    assert any(p.message.startswith("requirement detect_hours") for p in result.problems)
+    assert items["ats_hours"]["achieved"] == pytest.approx(1.0 / p, rel=0.05)
+    assert items["ats_hours"]["met"] is False and req["met"] is False
+    assert any(p.message.startswith("requirement ats_hours") for p in result.problems)
 
 # Lucas and Saccucci (1990) EWMA table, lambda 0.20 with L 2.962 (in-control ARL 500): ARL 10.5 at 1 sigma and 41.8
 # at 0.5 sigma; two-sided CUSUM k = 0.5, h = 5 (465): ARL 38.0 at 0.5 sigma (Hawkins 1993 as reprinted in common
@@ -265,11 +265,11 @@ def test_requirements_on_a_time_weighted_chart_use_its_own_run_length():
     values = np.random.default_rng(9).normal(10.0, 1.0, (40, 1))
     for hours, met in ((12.0, True), (8.0, False)):
         options = EvaluationOptions(chart="ewma", ewma=EwmaParameters(0.2, 2.962), interval_hours=1.0,
-                                    requirements={"shift": 1.0, "detect_hours": hours, "arl_in_control": 490.0})
+                                    requirements={"shift": 1.0, "ats_hours": hours, "arl_in_control": 490.0})
         check = evaluate(_characteristic(values), "s", options).requirements_check
         items = {i.name: i for i in check.items}
-        assert items["detect_hours"].achieved == pytest.approx(drawn_limits_arl(EwmaChart(0.2, 2.962), 1.0), rel=1e-9)
-        assert items["detect_hours"].met is met and items["arl_in_control"].met is True
+        assert items["ats_hours"].achieved == pytest.approx(drawn_limits_arl(EwmaChart(0.2, 2.962), 1.0), rel=1e-9)
+        assert items["ats_hours"].met is met and items["arl_in_control"].met is True
 
 
 # Both in-control targets set: `evaluate` (the target of its estimated-limits check) and `design` (the ARL its EWMA is
@@ -294,9 +294,9 @@ def test_both_in_control_targets_give_the_stricter_in_evaluate_and_design(arl, p
 def test_cli_reads_hours_as_the_settings_do(run_cli):
     # "90 min" is 1.5 h, "30 min" is 0.5 h, as in a workbook's settings (settings converter)
     base = ["design", "--sizes", "1", "--presets", "limits", "--lambdas", "0.2", "--ks", "0.5", "--json"]
-    words = run_cli(*base, "--intervals", "30 min,1", "--detect-hours", "90 min").json
-    hours = run_cli(*base, "--intervals", "0.5,1", "--detect-hours", "1.5").json
+    words = run_cli(*base, "--intervals", "30 min,1", "--ats-hours", "90 min").json
+    hours = run_cli(*base, "--intervals", "0.5,1", "--ats-hours", "1.5").json
     assert words == hours and words["sampling"]["intervals"] == [0.5, 1.0]
-    assert words["requirements"]["detect_hours"] == 1.5
-    bad = run_cli("design", "--detect-hours", "2 days")
-    assert bad.code == 2 and "option --detect-hours" in bad.err and "hours (h) or minutes (min)" in bad.err
+    assert words["requirements"]["ats_hours"] == 1.5
+    bad = run_cli("design", "--ats-hours", "2 days")
+    assert bad.code == 2 and "option --ats-hours" in bad.err and "hours (h) or minutes (min)" in bad.err

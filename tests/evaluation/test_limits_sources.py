@@ -165,7 +165,7 @@ def test_cli_limits_from_an_earlier_output(run_cli, tmp_path):
     assert out.code == 0, out.err
     char = next(c for c in out.json["characteristics"] if c["sheet"] == "Bore diameter")
     assert char["limits_source"].startswith("carried from nov-evaluated.xlsx")
-    assert char["base_subgroups"] == []
+    assert char["base_period_points"] == []
     # a sheet the block does not know: its own base period and a problem saying so
     book = openpyxl.load_workbook(december)
     book.active.title = "Outer diameter"

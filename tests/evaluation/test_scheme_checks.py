@@ -31,7 +31,7 @@ def test_pattern_rules_apply_to_the_location_chart_only():
                                                    (12, "limits", "xbar-s")])
 def test_design_and_evaluate_give_the_same_in_control_figures(n, rules, chart):
     # The same scheme (chart with its spread chart, rules, subgroup size, every hour, 400 h a month) must give the
-    # same in-control ARL and false alarms a month in both commands (issue 13: 3.84 against 5.39 before).
+    # same in-control ARL and false alarms per month in both commands (issue 13: 3.84 against 5.39 before).
     values = np.random.default_rng(11).normal(10.0, 1.0, (30, n))
     options = EvaluationOptions(rules=rules, interval_hours=1.0, hours_per_month=400.0)
     fitted = fit_characteristic(Characteristic("bore", Measurements(values)), "s", options)
@@ -43,7 +43,7 @@ def test_design_and_evaluate_give_the_same_in_control_figures(n, rules, chart):
     assert c.scheme.chart == chart
     assert c.arl_in_control == pytest.approx(performance.arl_in_control, rel=1e-9)
     assert c.false_alarms_per_month == pytest.approx(performance.false_alarms_per_month, rel=1e-9)
-    # false alarms a month = production hours / (interval x in-control ARL) (definition, common practice)
+    # false alarms per month = production hours / (interval x in-control ARL) (definition, common practice)
     assert c.false_alarms_per_month == pytest.approx(400.0 / c.arl_in_control, rel=1e-12)
 
 

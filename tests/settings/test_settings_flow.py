@@ -61,10 +61,11 @@ def _one(run_cli, path: Path, tmp_path: Path, *options: str) -> dict:
     ("Required in-control ARL", "arl_in_control"), ("In-control ARL at least", "arl_in_control"),
     ("False alarms per month at most", "false_alarms_per_month"),
     ("Allowed false alarms per month", "false_alarms_per_month"), ("Shift to detect (sigma)", "shift"),
-    ("Shift that matters", "shift"), ("Shift to detect (units)", "shift_units"),
-    ("Shift to detect (mm)", "shift_units"), ("Required ARL at shift", "detect_arl"),
-    ("Detect within points", "detect_arl"), ("Detect within hours", "detect_hours"),
-    ("Time to detect (h)", "detect_hours"), ("Time to detect (min)", "detect_minutes"),
+    ("Shift that matters", "shift"), ("Shift to detect (units)", "shift_unit"),
+    ("Shift to detect (mm)", "shift_unit"), ("Required ARL at shift", "arl_at_shift"),
+    ("Detect within points", "arl_at_shift"), ("Detect within hours", "ats_hours"),
+    ("ATS at most (hours)", "ats_hours"),
+    ("Time to detect (h)", "ats_hours"), ("Time to detect (min)", "ats_minutes"),
 ])
 def test_requirement_labels(label, name):
     assert setting_name(label) == name
@@ -89,8 +90,8 @@ def test_text_labels_above_a_numeric_table_in_the_same_columns_leave_the_header_
 
 
 @pytest.mark.parametrize(("name", "raw", "value"), [
-    ("detect_hours", "90 min", 1.5), ("detect_minutes", 30, 0.5), ("arl_in_control", "500", 500.0),
-    ("false_alarms_per_month", "0,5", 0.5), ("shift_units", "0.015 mm", 0.015)])
+    ("ats_hours", "90 min", 1.5), ("ats_minutes", 30, 0.5), ("arl_in_control", "500", 500.0),
+    ("false_alarms_per_month", "0,5", 0.5), ("shift_unit", "0.015 mm", 0.015)])
 def test_requirement_values_are_converted(name, raw, value):
     converted = convert(Setting(name, raw, "here"))
     assert converted.value == pytest.approx(value, rel=1e-12)
@@ -98,9 +99,9 @@ def test_requirement_values_are_converted(name, raw, value):
 
 def test_the_shift_in_units_replaces_the_shift_in_sigmas_of_a_lower_layer():
     book = SettingsSheet(common={"shift": Setting("shift", 1.0, "settings sheet row 2")})
-    cells = {"shift_units": Setting("shift_units", 0.02, "'Line'!B3")}
+    cells = {"shift_unit": Setting("shift_unit", 0.02, "'Line'!B3")}
     options, used = options_for(SheetSettings(cells, "Line"), book, {})
-    assert options.requirements == {"shift_units": 0.02} and "shift" not in used
+    assert options.requirements == {"shift_unit": 0.02} and "shift" not in used
     both = {**cells, "shift": Setting("shift", 1.0, "'Line'!B4")}
     with pytest.raises(ValueError, match=r"'Line'!B[34] and 'Line'!B[34]: give the shift to detect") as caught:
         options_for(SheetSettings(both, "Line"), book, {})
@@ -115,19 +116,19 @@ def test_requirements_flow_from_cells_settings_sheet_and_set(run_cli, tmp_path):
                  settings=[["name", "value"], ["[Data]"], ["time to detect (h)", 100]])
     char = _one(run_cli, path, tmp_path)
     origins = {k: v["origin"] for k, v in char["settings"].items()}
-    assert origins["arl_in_control"] == "'Data'!E1" and origins["detect_hours"] == "settings sheet row 3"
+    assert origins["arl_in_control"] == "'Data'!E1" and origins["ats_hours"] == "settings sheet row 3"
     items = {i["name"]: i for i in char["requirements"]["items"]}
     # individuals chart, 3-sigma limits: in-control ARL 370.4; at a 1-sigma shift 1/(Phi(-2) + Phi(-4)) = 43.9
     # (common practice; scipy.stats)
     at_one = 1.0 / (stats.norm.cdf(-2.0) + stats.norm.cdf(-4.0))
     assert items["arl_in_control"]["achieved"] == pytest.approx(370.4, rel=1e-3) and items["arl_in_control"]["met"]
-    assert items["detect_arl"]["achieved"] == pytest.approx(at_one, rel=1e-3) and items["detect_arl"]["met"]
-    assert items["detect_hours"]["achieved"] == pytest.approx(2 * at_one, rel=1e-3) and items["detect_hours"]["met"]
+    assert items["arl_at_shift"]["achieved"] == pytest.approx(at_one, rel=1e-3) and items["arl_at_shift"]["met"]
+    assert items["ats_hours"]["achieved"] == pytest.approx(2 * at_one, rel=1e-3) and items["ats_hours"]["met"]
     # --set wins over the cell: 40 points is faster than the chart catches a 1-sigma shift
-    char = _one(run_cli, path, tmp_path, "--set", "detect_arl=40")
+    char = _one(run_cli, path, tmp_path, "--set", "arl_at_shift=40")
     items = {i["name"]: i for i in char["requirements"]["items"]}
-    assert char["settings"]["detect_arl"]["origin"] == "option --set detect_arl"
-    assert items["detect_arl"]["met"] is False and char["requirements"]["met"] is False
+    assert char["settings"]["arl_at_shift"]["origin"] == "option --set arl_at_shift"
+    assert items["arl_at_shift"]["met"] is False and char["requirements"]["met"] is False
 
 
 def test_bad_requirement_in_a_cell_is_reported_with_the_cell(run_cli, tmp_path):

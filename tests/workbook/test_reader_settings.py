@@ -34,8 +34,8 @@ def test_values_are_converted(name, raw, value):
     ("subgroup_size", 2.5, "whole number"), ("interval_hours", "2 days", "hours (h) or minutes (min)"),
     ("rules", "9/3>2", "rules '9/3>2'"), ("revise", "maybe", "yes or no"), ("new_limits", "later", "yes or no"),
     ("arl_in_control", "many", "must be a number"), ("arl_in_control", 0.5, "in-control ARL"),
-    ("shift", -1, "the shift must be"), ("detect_hours", "2 days", "hours (h) or minutes (min)"),
-    ("detect_arl", 0.5, "ARL at the shift"),
+    ("shift", -1, "the shift must be"), ("ats_hours", "2 days", "hours (h) or minutes (min)"),
+    ("arl_at_shift", 0.5, "ARL at the shift"),
 ])
 def test_bad_values_name_their_origin(name, raw, words):
     with pytest.raises(ValueError, match=r"^'Bore'!B4: ") as caught:

@@ -72,4 +72,4 @@ def test_filled_template_evaluates(run_cli, tmp_path, name, kind, chart):
     assert char["chart"] == chart
     assert char["subgroups"] == 26  # the worked row is plotted ...
     assert char["read"]["excluded"][0]["note"] == "worked example - exclude"  # ... but kept out of the limits
-    assert len(char["base_subgroups"]) == 25
+    assert len(char["base_period_points"]) == 25

@@ -36,7 +36,7 @@ def _ar1(n: int, phi: float, seed: int) -> np.ndarray:
 def checked(tmp_path_factory: pytest.TempPathFactory):
     tmp = tmp_path_factory.mktemp("checks")
     result, read = varying_sizes_case()
-    req = Requirements(arl_in_control=500.0, false_alarms_per_month=1.0, detect_arl=5.0)
+    req = Requirements(arl_in_control=500.0, false_alarms_per_month=1.0, arl_at_shift=5.0)
     reachable = estimated_limits_report(20, 5, "range", target=200.0)  # a target 3-sigma can reach
     result = with_checks(result, estimated_limits=reachable,
                          data_shape=data_shape_report(_ar1(200, 0.7, seed=21), 1),
@@ -105,7 +105,7 @@ def test_requirement_rows_in_words(checked):
     arl = _row(rows, "In-control ARL")
     assert arl[1:4] == (500.0, pytest.approx(370.4, abs=TOL), "NO") and arl[4] == items["arl_in_control"].words
     # no interval and no production hours: the false-alarm rate is unknown, shown as a dash and not judged
-    assert _row(rows, "False alarms a month")[1:4] == (1.0, "—", "cannot judge")
+    assert _row(rows, "False alarms per month")[1:4] == (1.0, "—", "cannot judge")
     assert _row(rows, "ARL at the shift")[1:4] == (5.0, 8.0, "NO")
     assert "not every requirement is met" in _row(rows, "Requirements")[1]
 

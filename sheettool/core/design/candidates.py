@@ -3,11 +3,11 @@
 Candidates, each at every allowed (n, interval): the Shewhart scheme `evaluate` would use (individuals for n = 1,
 X-bar with its R chart for n 2 to 9, with its S chart from 10; the spread chart's limits signal too) with the rule
 presets (their in-control ARL is fixed by the rules and n); EWMA with lambda over a grid and L calibrated to the in-
-control target; CUSUM with k over a grid and h calibrated the same way (calibration.py). Time to catch the shift: the
-zero-state ARL at the shift times the interval (ATS): the scheme starts fresh with the shift present from the first
-point, the figure tabled by Lucas and Saccucci (1990) and used by `evaluate`. A mean of n readings moves by shift *
-sqrt(n) standard errors, so EWMA and CUSUM in-control ARLs are computed once per chart setting and ARLs at the shift
-once per (setting, n).
+control target; CUSUM with k over a grid and h calibrated the same way (calibration.py). ATS at the shift, the hours
+to signal it: the zero-state ARL at the shift times the interval, the scheme starting fresh with the shift present
+from the first point, the figure tabled by Lucas and Saccucci (1990) and used by `evaluate`. A mean of n readings
+moves by shift * sqrt(n) standard errors, so EWMA and CUSUM in-control ARLs are computed once per chart setting and
+ARLs at the shift once per (setting, n).
 """
 
 from __future__ import annotations
@@ -134,7 +134,7 @@ def _candidate(family: str, scheme: Scheme, preset: str | None, n: int, interval
 
 def candidates(req: Requirements, sampling: Sampling, grid: SearchGrid) -> list[Candidate]:
     """Every scheme of the grid at every allowed (n, interval), calibrated to that interval's in-control target;
-    schemes meeting every requirement first, each group by time to catch the shift."""
+    schemes meeting every requirement first, each group by ATS at the shift."""
     delta = req.delta()
     out = []
     for n, interval in sampling.pairs():

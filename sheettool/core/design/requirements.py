@@ -18,9 +18,9 @@ REQUIREMENT_KEYS: dict[str, str] = {
     "arl_in_control": "in-control ARL at least, points between false alarms",
     "false_alarms_per_month": "false alarms per month at most; needs the interval and production hours",
     "shift": "the shift that matters, in process standard deviations",
-    "shift_units": "the shift that matters, in the characteristic's unit; divided by sigma",
-    "detect_arl": "ARL at the shift at most, points",
-    "detect_hours": "average time to catch the shift at most, hours",
+    "shift_unit": "the shift that matters, in the characteristic's unit; divided by sigma",
+    "arl_at_shift": "ARL at the shift at most, in points",
+    "ats_hours": "ATS at the shift at most: the average hours to signal it",
 }
 
 
@@ -40,11 +40,11 @@ class Requirements:
     arl_in_control: float | None = None
     false_alarms_per_month: float | None = None
     hours_per_month: float | None = None
-    shift: float | None = None  # process standard deviations; 1 when neither shift nor shift_units is given
-    shift_units: float | None = None
-    sigma: float | None = None  # the process sigma that turns shift_units into sigmas
-    detect_arl: float | None = None
-    detect_hours: float | None = None
+    shift: float | None = None  # process standard deviations; 1 when neither shift nor shift_unit is given
+    shift_unit: float | None = None
+    sigma: float | None = None  # the process sigma that turns shift_unit into sigmas
+    arl_at_shift: float | None = None
+    ats_hours: float | None = None
 
     def __post_init__(self) -> None:
         check_number("the in-control ARL", self.arl_in_control, 1.0)
@@ -52,11 +52,11 @@ class Requirements:
         check_number("the production hours per month", self.hours_per_month)
         check_number("the shift", self.shift)
         check_number("sigma", self.sigma)
-        check_number("the ARL at the shift", self.detect_arl, 1.0, strict=False)
-        check_number("the hours to catch the shift", self.detect_hours)
-        if self.shift_units is not None and not (math.isfinite(self.shift_units) and self.shift_units != 0):
-            raise ValueError(f"the shift in units must be a finite number other than 0, got {self.shift_units!r}")
-        if self.shift is not None and self.shift_units is not None:
+        check_number("the ARL at the shift", self.arl_at_shift, 1.0, strict=False)
+        check_number("the ATS at the shift (hours)", self.ats_hours)
+        if self.shift_unit is not None and not (math.isfinite(self.shift_unit) and self.shift_unit != 0):
+            raise ValueError(f"the shift in units must be a finite number other than 0, got {self.shift_unit!r}")
+        if self.shift is not None and self.shift_unit is not None:
             raise ValueError("give the shift in sigmas or in the characteristic's unit, not both")
 
     @classmethod
@@ -70,12 +70,12 @@ class Requirements:
 
     def delta(self, sigma: float | None = None) -> float:
         """The shift that matters in process standard deviations (absolute: the schemes are two-sided)."""
-        if self.shift_units is None:
+        if self.shift_unit is None:
             return float(self.shift) if self.shift is not None else 1.0
         sigma = sigma if sigma is not None else self.sigma
         if not (sigma is not None and math.isfinite(sigma) and sigma > 0):
             raise ValueError("a shift in the characteristic's unit needs the process sigma (a positive number)")
-        return abs(self.shift_units) / sigma
+        return abs(self.shift_unit) / sigma
 
     def target_arl(self, interval_hours: float | None) -> float:
         """The in-control ARL a scheme sampled every `interval_hours` must reach (`timing.in_control_target`);
@@ -141,17 +141,17 @@ def check_requirements(req: Requirements, arl_in_control: float, arl_at_shift: f
                              f"in-control ARL {arl_in_control:.1f} points", f"at least {req.arl_in_control:g}"))
     if req.false_alarms_per_month is not None:
         rate = false_alarms_per_month(arl_in_control, interval_hours, req.hours_per_month)
-        got = (f"{rate:.2f} false alarms a month expected" if rate is not None
-               else "false alarms a month unknown without the interval and production hours")
+        got = (f"{rate:.2f} false alarms per month expected" if rate is not None
+               else "false alarms per month unknown without the interval and production hours")
         items.append(_judged("false_alarms_per_month", req.false_alarms_per_month, rate, False,
                              got, f"at most {req.false_alarms_per_month:g}"))
-    if req.detect_arl is not None:
-        items.append(_judged("detect_arl", req.detect_arl, arl_at_shift, False,
+    if req.arl_at_shift is not None:
+        items.append(_judged("arl_at_shift", req.arl_at_shift, arl_at_shift, False,
                              f"ARL {arl_at_shift:.1f} points at a shift of {shift:.3g} sigma",
-                             f"at most {req.detect_arl:g}"))
-    if req.detect_hours is not None:
+                             f"at most {req.arl_at_shift:g}"))
+    if req.ats_hours is not None:
         ats = ats_hours(arl_at_shift, interval_hours)
-        got = f"caught in {ats:.2f} h on average" if ats is not None else "time to signal unknown without the interval"
-        items.append(_judged("detect_hours", req.detect_hours, ats, False,
-                             f"a shift of {shift:.3g} sigma {got}", f"within {req.detect_hours:g} h"))
+        got = f"ATS {ats:.2f} hours" if ats is not None else "ATS unknown without the interval"
+        items.append(_judged("ats_hours", req.ats_hours, ats, False,
+                             f"a shift of {shift:.3g} sigma {got}", f"within {req.ats_hours:g} h"))
     return RequirementsCheck(tuple(items), float(shift))

@@ -13,10 +13,11 @@ METHOD = ("Candidates: the Shewhart schemes evaluate uses with the rule presets:
           "Champ and Woodall 1987; trend and alternate rules by seeded simulation); EWMA with lambda on a grid and "
           "L found by Brent's root finding so that the in-control zero-state ARL is the target (integral equation, "
           "Crowder 1987; design procedure of Lucas and Saccucci 1990); two-sided tabular CUSUM with k on a grid and"
-          " h found the same way (Brook and Evans 1972 chain, bracketed by Siegmund 1985). Time to catch the shift:"
-          " the zero-state ARL at the shift (a fresh start with the shift present from the first point) times the "
+          " h found the same way (Brook and Evans 1972 chain, bracketed by Siegmund 1985). ATS at the shift, the "
+          "hours to signal it: the zero-state ARL at the shift (a fresh start with the shift present from the first "
+          "point) times the "
           "sampling interval; a shift that starts between two samples is caught on average up to half an interval "
-          "later. Ranked by that time, schemes meeting every requirement first; a mean of n readings moves by shift"
+          "later. Ranked by that ATS, schemes meeting every requirement first; a mean of n readings moves by shift"
           " x sqrt(n) standard errors.")
 
 

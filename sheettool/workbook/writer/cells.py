@@ -11,6 +11,8 @@ from xlsxwriter.format import Format
 from xlsxwriter.utility import xl_col_to_name, xl_rowcol_to_cell
 from xlsxwriter.worksheet import Worksheet
 
+from sheettool import TOOL_NAME
+
 EXCEL_EPOCH = dt.datetime(1899, 12, 30)
 
 
@@ -110,7 +112,7 @@ def _tab_clean(text: str) -> str:
 def defined_name(*parts: str) -> str:
     """A workbook-level name built from parts: letters, digits and underscores, never a cell address."""
     text = "_".join(re.sub(r"[^A-Za-z0-9]+", "_", p).strip("_") for p in parts if p)
-    return "sq_" + (text or "name")
+    return f"{TOOL_NAME}_" + (text or "name")
 
 
 def decimals(values: np.ndarray, most: int = 6) -> int:

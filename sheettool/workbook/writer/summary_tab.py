@@ -15,7 +15,7 @@ from sheettool.workbook.writer.tab import Tab
 
 SUMMARY_TAB = "Review summary"
 COLUMNS = ("Source file", "Sheet", "Characteristic", "Chart", "Points in period", "Signals", "Latest signal",
-           "Cpk", "Cpk low", "Cpk high", "In-control ARL", "False alarms / month", "Status", "Reason")
+           "Cpk", "Cpk low", "Cpk high", "In-control ARL", "False alarms per month", "Status", "Reason")
 WIDTHS = (28, 18, 22, 20, 10, 8, 22, 8, 8, 8, 11, 11, 26, 50)
 
 

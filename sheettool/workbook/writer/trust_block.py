@@ -19,8 +19,8 @@ TITLE = "How far to trust these limits"
 NO_VALUE = "—"
 UNBOUNDED = "unbounded"
 MET_WORDS = {True: "yes", False: "NO", None: "cannot judge"}
-REQUIREMENT_LABELS = {"arl_in_control": "In-control ARL", "false_alarms_per_month": "False alarms a month",
-                      "detect_arl": "ARL at the shift", "detect_hours": "Hours to catch the shift"}
+REQUIREMENT_LABELS = {"arl_in_control": "In-control ARL", "false_alarms_per_month": "False alarms per month",
+                      "arl_at_shift": "ARL at the shift", "ats_hours": "ATS (hours)"}
 # characters per printed line, taking a character as wide as a digit (text runs narrower, so no font cuts a line):
 # the note column less its indent, and the tab's full width
 _NOTE_CHARS = style.EVAL_COLUMNS[4] - 2
