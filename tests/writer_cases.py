@@ -105,7 +105,7 @@ def attribute_case(m: int = 25, seed: int = 9) -> tuple[CharacteristicResult, Sh
     fit = ChartFit("p", [stat], int(inspected.max()), pbar, float(np.sqrt(pbar * (1 - pbar))),
                    SigmaMethod.PROPORTION, np.ones(m, dtype=bool))
     ch = Characteristic("Seal leaks", Counts(counts, inspected), labels=[f"L{i + 100}" for i in range(m)])
-    rules = parse_rules("limits")
+    rules = parse_rules("beyond-limits")
     result = CharacteristicResult(
         Fitted(characteristic=ch, sheet="Leaks", fit=fit, rules=rules, signals=find_signals(fit, rules, ch.labels),
                capability=AttributeRate("proportion", pbar, Interval(pbar * 0.8, pbar * 1.2), 0.95)),
@@ -154,7 +154,7 @@ def cusum_ewma_case(m: int = 60, seed: int = 13) -> tuple[CharacteristicResult, 
     fit = ChartFit("ewma", stats, 1, mu, sigma, SigmaMethod.GIVEN, np.ones(m, dtype=bool),
                    limits_source="standard values given in the settings", sigma_given="standard value")
     ch = Characteristic("Torque", Measurements(x[:, None]), unit="N m")
-    rules = parse_rules("limits")
+    rules = parse_rules("beyond-limits")
     result = CharacteristicResult(Fitted(characteristic=ch, sheet="Torque", fit=fit, rules=rules,
                                          signals=find_signals(fit, rules, ch.labels)),
                                   Assessment(performance=_performance(None)))

@@ -13,6 +13,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from sheettool.base.errors import UsageError
+from sheettool.core.presets import presets_help
 from sheettool.settings import Setting, setting_name
 
 if TYPE_CHECKING:
@@ -25,7 +26,8 @@ SETTING_OPTIONS = {"lsl": "lsl", "usl": "usl", "target": "target", "chart": "cha
 
 def add_evaluation_options(p: argparse.ArgumentParser) -> None:
     """The settings, limits, output and process options of evaluate and pack."""
-    p.add_argument("--rules", help="pattern rules or preset (default: limits)")
+    p.add_argument("--rules", help="a preset or rules like 1/1>3,2/3>2 (docs/command-line.md, Pattern rules). "
+                   f"Presets: {presets_help()}")
     p.add_argument("--limits-from", type=Path, metavar="PREVIOUS.xlsx", dest="limits_file",
                    help="apply the limits an earlier sheettool output carries")
     p.add_argument("--lsl", help="lower specification limit")

@@ -13,6 +13,7 @@ from sheettool.app.api import design_schemes
 from sheettool.base.errors import UsageError
 from sheettool.cli.common import number, number_list, print_json, setting_list, setting_value, write_stdout
 from sheettool.core.design import REQUIREMENT_KEYS, Candidate, DesignResult, Requirements, Sampling, SearchGrid
+from sheettool.core.presets import PRESETS, presets_help
 from sheettool.workbook.design_book import HEAD, candidate_row, requirement_lines
 
 
@@ -33,9 +34,11 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--sizes", default="1-10", help="subgroup sizes allowed: a range 1-10 or a list 1,2,5")
     p.add_argument("--intervals", help="sampling intervals allowed, in hours: a list 0.5,1,2 (or 30 min,1 h)")
     p.add_argument("--budget", help="measurements per hour allowed at most")
-    p.add_argument("--presets", default="limits,zones,all", help="Shewhart rule presets searched")
-    p.add_argument("--lambdas", help="EWMA weights searched (default 0.05,0.1,0.15,0.2,0.25,0.3,0.4,0.5,0.75)")
-    p.add_argument("--ks", help="CUSUM reference values searched, in standard errors (default 0.25,0.5,0.75,1)")
+    p.add_argument("--presets", default=",".join(PRESETS), help="Shewhart rule presets searched, comma-separated "
+                   f"(default: all of them). {presets_help()}")
+    p.add_argument("--weights", help="EWMA weights lambda searched (default 0.05,0.1,0.15,0.2,0.25,0.3,0.4,0.5,0.75)")
+    p.add_argument("--references", help="CUSUM reference values k searched, in standard errors (default "
+                   "0.25,0.5,0.75,1)")
     p.add_argument("--top", default="15", help="rows shown in the terminal table (default 15)")
     p.add_argument("--json", action="store_true", help="print the whole design as one JSON object on stdout")
     p.add_argument("-o", "--output", type=Path, metavar="DESIGN.xlsx", help="also write the design workbook")
@@ -73,7 +76,7 @@ def _inputs(args: argparse.Namespace) -> tuple[Requirements, Sampling, SearchGri
                             budget=number("--budget", args.budget))
         presets = tuple(p.strip().lower() for p in args.presets.split(",") if p.strip())
         grid = SearchGrid(presets=presets, **{key: number_list(f"--{name}", text) for key, name, text in (
-            ("lambdas", "lambdas", args.lambdas), ("ks", "ks", args.ks)) if text is not None})
+            ("lambdas", "weights", args.weights), ("ks", "references", args.references)) if text is not None})
     except ValueError as exc:
         raise UsageError(str(exc)) from None
     return req, sampling, grid

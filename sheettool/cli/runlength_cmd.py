@@ -10,7 +10,8 @@ from sheettool import tool_json
 from sheettool.app.json_form import run_length_json
 from sheettool.base.errors import UsageError
 from sheettool.cli.common import number, number_list, print_json, setting_value, write_stdout
-from sheettool.core.parameters import PARAMETER_SETTINGS, CusumParameters, EwmaParameters
+from sheettool.core.parameters import CusumParameters, EwmaParameters
+from sheettool.core.presets import DEFAULT_RULES, presets_help
 from sheettool.core.rules import parse_rules
 from sheettool.core.runlength.scheme import ATTRIBUTES, Scheme, SchemeResult, scheme_run_lengths
 from sheettool.core.timing import ats_hours, false_alarms_per_month
@@ -18,6 +19,9 @@ from sheettool.core.timing import ats_hours, false_alarms_per_month
 # The chart codes of evaluate and design, and "xbar": the X-bar chart alone, as published single-chart tables give it.
 _CHARTS = ("xbar-r", "xbar-s", "individuals", "p", "np", "c", "u", "ewma", "cusum", "xbar")
 _VARIABLE_SHIFTS = "0,0.5,1,1.5,2,3"
+_ATTRIBUTE_SHIFTS = "0,1,2,3"
+# option -> the chart parameter's setting name (the symbols lambda, L, k and h stay in the tables and the JSON)
+_PARAMETER_OPTIONS = {"weight": "lambda", "limit_width": "L", "reference": "k", "decision_interval": "h"}
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
@@ -29,17 +33,24 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    "and xbar-s add the R or S chart's limits; individuals: the individuals chart, one reading per "
                    "point)")
     p.add_argument("--n", help="readings per subgroup (variables) or units inspected per subgroup (p, np, u)")
-    p.add_argument("--rules", default="limits", help="pattern rules or preset for Shewhart and attribute charts")
+    p.add_argument("--rules", default=DEFAULT_RULES, help="Shewhart and attribute charts: a preset or rules like "
+                   f"1/1>3,2/3>2 (docs/command-line.md, Pattern rules). Presets: {presets_help()}")
     ewma, cusum = EwmaParameters(), CusumParameters()
-    p.add_argument("--lambda", "--lam", dest="lambda", help=f"EWMA weight lambda, in (0, 1] (default {ewma.lam:g})")
-    p.add_argument("--L", help=f"EWMA limit width in standard errors (default {ewma.L:g})")
-    p.add_argument("--k", help=f"CUSUM reference value in standard errors (default {cusum.k:g})")
-    p.add_argument("--h", help=f"CUSUM decision interval in standard errors (default {cusum.h:g})")
+    p.add_argument("--weight", help=f"EWMA: the weight of the newest point, lambda, above 0 and at most 1 "
+                   f"(default {ewma.lam:g})")
+    p.add_argument("--limit-width", help=f"EWMA: the limits' distance from the center line in standard errors of "
+                   f"the EWMA, L (default {ewma.L:g})")
+    p.add_argument("--reference", help=f"CUSUM: the slack subtracted from each point before it is added to a sum, "
+                   f"in standard errors, k (default {cusum.k:g}; half the shift to catch)")
+    p.add_argument("--decision-interval", help=f"CUSUM: a sum above this signals, in standard errors, h "
+                   f"(default {cusum.h:g})")
     p.add_argument("--p0", help="in-control proportion defective (p, np)")
     p.add_argument("--c0", help="in-control defects per subgroup (c) or per unit (u)")
-    p.add_argument("--shift", help="comma-separated list: mean shifts in process sigmas (default "
-                   f"{_VARIABLE_SHIFTS}); for p, np, c and u the shifted proportion or rate itself "
-                   "(default: the in-control rate and 1, 2 and 3 standard errors above it)")
+    p.add_argument("--shift", help="comma-separated list of shifts: of the mean in process standard deviations "
+                   f"(default {_VARIABLE_SHIFTS}); for p, np, c and u, upward in standard errors of the plotted rate, "
+                   f"as evaluate reports them (default {_ATTRIBUTE_SHIFTS})")
+    p.add_argument("--rates", help="p, np, c and u: comma-separated list of shifted proportions or rates "
+                   "themselves, instead of --shift")
     p.add_argument("--sigma-ratio", default="1", help="process sigma as a multiple of the in-control sigma")
     p.add_argument("--interval", help="hours between subgroups, e.g. 1 or '30 min': gives the average time to "
                    "signal (ATS)")
@@ -59,11 +70,25 @@ def _scheme(args: argparse.Namespace) -> Scheme:
             raise UsageError(f"--n: needed for the {args.chart} chart (readings or units per subgroup)")
         n = 1.0
     # the chart parameters given, by setting name (each option is named as its setting)
-    given = {name: setting_value(name, f"--{name}", getattr(args, name)) for name in PARAMETER_SETTINGS
-             if getattr(args, name) is not None}
+    given = {name: setting_value(name, f"--{option.replace('_', '-')}", getattr(args, option))
+             for option, name in _PARAMETER_OPTIONS.items() if getattr(args, option) is not None}
     return Scheme(chart=chart, rules=rules, n=n,
                   p0=setting_value("p0", "--p0", args.p0), c0=setting_value("c0", "--c0", args.c0),
                   ewma=EwmaParameters.from_mapping(given), cusum=CusumParameters.from_mapping(given))
+
+
+def _shifts(args: argparse.Namespace, attribute: bool) -> tuple[list[float | None], list[float]]:
+    """(shifts, rates) asked for: shifts in standard deviations or standard errors, or the rates themselves (then
+    the shifts are None)."""
+    if args.rates is not None:
+        if not attribute:
+            raise UsageError("--rates: for p, np, c and u only; give mean shifts with --shift")
+        if args.shift is not None:
+            raise UsageError("give either --shift (in standard errors) or --rates (the rates themselves), not both")
+        rates = list(number_list("--rates", args.rates))
+        return [None] * len(rates), rates
+    default = _ATTRIBUTE_SHIFTS if attribute else _VARIABLE_SHIFTS
+    return list(number_list("--shift", args.shift if args.shift is not None else default)), []
 
 
 def run(args: argparse.Namespace) -> int:
@@ -71,17 +96,13 @@ def run(args: argparse.Namespace) -> int:
     ratio = number("--sigma-ratio", args.sigma_ratio, positive=True)
     interval = setting_value("interval_hours", "--interval", args.interval)
     per_month = setting_value("hours_per_month", "--hours-per-month", args.hours_per_month)
-    given = list(number_list("--shift", args.shift)) if args.shift is not None else None
     try:
         scheme = _scheme(args)
         attribute = scheme.chart in ATTRIBUTES
-        if given is not None:
-            shifts = given
-        elif attribute:
-            shifts = [scheme.count_model.rate_at(s) for s in (0.0, 1.0, 2.0, 3.0)]
-        else:
-            shifts = list(number_list("--shift", _VARIABLE_SHIFTS))
-        conditions = [(s, 1.0 if attribute else ratio) for s in shifts]
+        shifts, rates = _shifts(args, attribute)
+        if attribute:
+            rates = rates or [scheme.count_model.rate_at(s) for s in shifts]
+        conditions = [(r, 1.0) for r in rates] if attribute else [(s, ratio) for s in shifts]
         in_control = (scheme.count_model.rate0 if attribute else 0.0, 1.0)
         extra = [] if in_control in conditions else [in_control]  # the in-control ARL, for false alarms
         result = scheme_run_lengths(scheme, conditions + extra)
@@ -89,7 +110,7 @@ def run(args: argparse.Namespace) -> int:
         raise UsageError(str(exc)) from None
     arl0 = result.results[(conditions + extra).index(in_control)].arl
     del result.conditions[len(conditions):], result.results[len(conditions):]
-    doc = _document(args, scheme, result, arl0, interval, per_month)
+    doc = _document(args, scheme, result, arl0, interval, per_month, shifts)
     if args.json:
         print_json(doc)
     else:
@@ -98,7 +119,7 @@ def run(args: argparse.Namespace) -> int:
 
 
 def _document(args: argparse.Namespace, scheme: Scheme, result: SchemeResult, arl0: float,
-              interval: float | None, per_month: float | None) -> dict[str, Any]:
+              interval: float | None, per_month: float | None, shifts: list[float | None]) -> dict[str, Any]:
     attribute = scheme.chart in ATTRIBUTES
     info: dict[str, Any] = {"chart": args.chart, "n": scheme.n}
     if scheme.chart == "ewma":
@@ -113,8 +134,9 @@ def _document(args: argparse.Namespace, scheme: Scheme, result: SchemeResult, ar
         info["c0"] = scheme.c0
     info.update({"interval_hours": interval, "hours_per_month": per_month})
     rows = []
-    for (shift, ratio), rl in zip(result.conditions, result.results, strict=True):
-        row: dict[str, Any] = {"shift": shift, "sigma_ratio": None if attribute else ratio}
+    for shift, (condition, ratio), rl in zip(shifts, result.conditions, result.results, strict=True):
+        row: dict[str, Any] = {"shift": shift, "rate": condition if attribute else None,
+                               "sigma_ratio": None if attribute else ratio}
         row.update(run_length_json(rl.arl, rl.sdrl, rl.percentiles, rl.steady_state_arl, rl.ci))
         ats = ats_hours(rl.arl, interval)
         row["ats_hours"] = ats if ats is not None and math.isfinite(ats) else None
@@ -141,20 +163,24 @@ def _table(doc: dict[str, Any]) -> str:
     lines = [f"Scheme: {shown}", f"Method: {doc['method']}", f"In-control ARL: {_fmt(doc['arl_in_control'])}"]
     if doc["false_alarms_per_month"] is not None:
         lines.append(f"Expected false alarms per month: {doc['false_alarms_per_month']:.3g}")
-    head = ["rate" if attribute else "shift", "sigma ratio", "ARL", "SDRL", "5%", "50%", "95%", "steady ARL", "ATS h"]
+    head = ["shift", "rate" if attribute else "sigma ratio", "ARL", "SDRL", "5%", "50%", "95%", "steady ARL",
+            "ATS (hours)"]
     body = []
     for r in doc["results"]:
         pct = r["percentiles"] or {}
         arl = _fmt(r["arl"])
         if r["arl_ci95"]:
             arl += f" ({_fmt(r['arl_ci95'][0], 3)}-{_fmt(r['arl_ci95'][1], 3)})"
-        body.append([f"{r['shift']:g}", _fmt(r["sigma_ratio"], 3), arl, _fmt(r["sdrl"]), _fmt(pct.get("5")),
-                     _fmt(pct.get("50")), _fmt(pct.get("95")), _fmt(r["steady_state_arl"]), _fmt(r["ats_hours"])])
+        body.append([_fmt(r["shift"]), _fmt(r["rate"] if attribute else r["sigma_ratio"]), arl, _fmt(r["sdrl"]),
+                     _fmt(pct.get("5")), _fmt(pct.get("50")), _fmt(pct.get("95")), _fmt(r["steady_state_arl"]),
+                     _fmt(r["ats_hours"])])
     widths = [max(len(h), *(len(row[i]) for row in body)) if body else len(h) for i, h in enumerate(head)]
     lines.append("")
     lines.append("  ".join(h.rjust(w) for h, w in zip(head, widths, strict=True)))
     lines.extend("  ".join(c.rjust(w) for c, w in zip(row, widths, strict=True)) for row in body)
     lines.append("")
-    lines.append("ARL: average number of points until the scheme signals; percentiles of the run length in "
-                 "points; steady state: after a long in-control run without a false alarm.")
+    unit = "standard errors of the plotted rate, upward" if attribute else "process standard deviations"
+    lines.append(f"Shift: in {unit}. ARL: average number of points until the scheme signals; percentiles of the "
+                 "run length in points; steady state: after a long in-control run without a false alarm. ATS: the "
+                 "ARL in hours, the hours to signal.")
     return "\n".join(lines) + "\n"

@@ -25,6 +25,9 @@ def run(args: argparse.Namespace) -> int:
         spec = template_spec(args.kind, args.n)
     except ValueError as exc:
         raise UsageError(str(exc)) from None
+    if args.output.suffix.lower() != ".xlsx":
+        raise UsageError(f"{args.output}: a template is written as an .xlsx workbook; give a name ending in .xlsx "
+                         f"(e.g. {args.output.with_suffix('.xlsx').name})")
     if args.output.exists():
         raise UsageError(f"{args.output}: already exists; choose another name or remove it first")
     write_atomically(args.output, lambda tmp: write_template(spec, Path(tmp)))

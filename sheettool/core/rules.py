@@ -6,7 +6,7 @@ Grammar (comma separated):
   K/M>>Z   K of the last M points more than Z standard errors from the center, either side
   trend N      N points in a row, each higher than the one before (or each lower)
   alternate N  N points in a row alternating up and down
-Presets: "limits", "zones", "all" (see PRESETS). While fewer than M points exist, the window is
+Presets: "beyond-limits", "zones", "all" (see PRESETS). While fewer than M points exist, the window is
 what there is, as in the Markov-chain treatment of Champ and Woodall (1987).
 """
 
@@ -17,11 +17,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-PRESETS: dict[str, str] = {
-    "limits": "1/1>3",
-    "zones": "1/1>3,2/3>2,4/5>1,8/8>0",
-    "all": "1/1>3,2/3>2,4/5>1,8/8>0,trend 6,alternate 14,15/15<1,8/8>>1",
-}
+from sheettool.core.presets import EARLIER_PRESETS, PRESETS
 
 _ZONE = re.compile(r"^(\d+)\s*/\s*(\d+)\s*(>>|>|<)\s*(\d+(?:\.\d*)?|\.\d+)$")
 _RUN = re.compile(r"^(trend|alternate)\s+(\d+)$")
@@ -78,10 +74,11 @@ def _decimal(value: float) -> str:
 def parse_rules(text: str) -> list[Rule]:
     """Parse a comma-separated rule list or preset name; raise ValueError naming the bad part."""
     if not text or not text.strip():
-        raise ValueError("no rules given; use a preset (limits, zones, all) or rules like 1/1>3")
+        raise ValueError(f"no rules given; use a preset ({', '.join(PRESETS)}) or rules like 1/1>3")
     rules: list[Rule] = []
     for raw in text.split(","):
         part = " ".join(raw.strip().lower().split())
+        part = EARLIER_PRESETS.get(part, part)
         if part in PRESETS:
             rules.extend(r for r in parse_rules(PRESETS[part]) if r not in rules)
             continue
@@ -111,7 +108,7 @@ def _parse_one(part: str) -> Rule:
         return Rule(run[1], n, n)
     raise ValueError(
         f"rule '{part}' is not understood; write K/M>Z, K/M<Z, K/M>>Z, 'trend N' or "
-        "'alternate N', or a preset: limits, zones, all"
+        f"'alternate N', or a preset: {', '.join(PRESETS)}"
     )
 
 

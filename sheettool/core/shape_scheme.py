@@ -66,7 +66,7 @@ class ShapeScheme:
     """The scheme the shape and dependence figures judge: the rules on the plotted points and the spread chart whose
     limits also signal ("range", "sd" or None), with its words."""
 
-    rules: tuple[Rule, ...] = tuple(parse_rules("limits"))
+    rules: tuple[Rule, ...] = tuple(parse_rules("beyond-limits"))
     companion: str | None = None
     words: str = "3-sigma limits"
     n: int = 1  # subgroup size, for the spread chart's signal probability

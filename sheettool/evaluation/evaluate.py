@@ -17,6 +17,7 @@ from sheettool.core.charts.variables import within_sigma
 from sheettool.core.data import Characteristic, Counts, Measurements
 from sheettool.core.limits import fit_limits
 from sheettool.core.parameters import EwmaParameters
+from sheettool.core.presets import DEFAULT_RULES
 from sheettool.core.rules import Rule, find_hits, parse_rules, standardized
 from sheettool.core.runlength.ewma import limits_as_drawn
 from sheettool.core.runlength.scheme import performance_of
@@ -103,7 +104,7 @@ def fit_characteristic(characteristic: Characteristic, sheet: str,
     fit.origin = origin
     if kind.time_weighted:
         rules = parse_rules(kind.signal_rule(fit))
-        if options.rules.strip().lower() != "limits":
+        if parse_rules(options.rules) != parse_rules(DEFAULT_RULES):
             fit.notes.append(f"pattern rules are not applied to a {kind.title} chart (its points are not "
                              "independent); it signals when a point crosses a limit")
     else:
@@ -184,4 +185,4 @@ def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Si
 
 # the spread charts of X-bar and R, X-bar and S, individuals and moving range
 SPREAD_STATISTICS = ("range", "sd", "moving_range")
-SPREAD_RULES: tuple[Rule, ...] = tuple(parse_rules("limits"))  # a spread chart signals beyond its limits only
+SPREAD_RULES: tuple[Rule, ...] = tuple(parse_rules("beyond-limits"))  # a spread chart signals beyond its limits only

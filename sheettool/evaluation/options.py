@@ -7,6 +7,7 @@ from typing import Any
 
 from sheettool.core.design import REQUIREMENT_KEYS
 from sheettool.core.parameters import PARAMETER_SETTINGS, CusumParameters, EwmaParameters
+from sheettool.core.presets import DEFAULT_RULES
 from sheettool.settings import Setting
 from sheettool.settings.convert import merge
 
@@ -24,7 +25,7 @@ class EvaluationOptions:
     """Choices that shape an evaluation; filled from settings (workbook, options, defaults)."""
 
     chart: str | None = None
-    rules: str = "limits"
+    rules: str = DEFAULT_RULES
     shifts: tuple[float, ...] = STANDARD_SHIFTS
     lsl: float | None = None
     usl: float | None = None

@@ -88,8 +88,8 @@ def test_pack_of_the_demo_folder(tmp_path):
 
 @pytest.mark.parametrize("args", [
     ("--chart", "xbar", "--n", "5", "--rules", "zones", "--interval", "1", "--hours-per-month", "400"),
-    ("--chart", "ewma", "--lam", "0.2", "--L", "2.962", "--shift", "0,1"),
-    ("--chart", "cusum", "--k", "0.5", "--h", "4", "--shift", "0,1"),
+    ("--chart", "ewma", "--weight", "0.2", "--limit-width", "2.962", "--shift", "0,1"),
+    ("--chart", "cusum", "--reference", "0.5", "--decision-interval", "4", "--shift", "0,1"),
     ("--chart", "p", "--n", "100", "--p0", "0.05"),
 ], ids=["shewhart", "ewma", "cusum", "p"])
 def test_runlength(args):
@@ -101,7 +101,7 @@ def test_runlength(args):
 
 def test_design_on_a_small_grid():
     code, doc = _run_json("design", "--shift", "1", "--arl-at-shift", "5", "--sizes", "1,4", "--intervals", "1",
-                          "--presets", "limits,zones", "--lambdas", "0.2", "--ks", "0.5", "--json")
+                          "--presets", "beyond-limits,zones", "--weights", "0.2", "--references", "0.5", "--json")
     assert code == 0
     _valid("design", doc)
     # every chart kind of the search is there: 2 presets, one EWMA, one CUSUM, at each of 2 sizes

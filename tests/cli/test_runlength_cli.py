@@ -22,18 +22,24 @@ def test_json_shape(run_cli):
     assert second["shift"] == 1.0 and second["arl"] < first["arl"]
 
 
-def test_attribute_shift_is_the_rate(run_cli):
-    result = run_cli("runlength", "--chart", "c", "--c0", "4", "--shift", "4,9", "--json")
+def test_attribute_rates_or_shifts_in_standard_errors(run_cli):
+    result = run_cli("runlength", "--chart", "c", "--c0", "4", "--rates", "4,9", "--json")
     assert result.code == 0, result.err
     rows = result.json["results"]
     # c chart 4 +/- 3*2: signals above 10 (scipy.stats.poisson as reference).
-    assert rows[1]["shift"] == 9 and rows[1]["arl"] == pytest.approx(1 / stats.poisson.sf(10, 9), rel=1e-9)
-    assert rows[0]["sigma_ratio"] is None
+    assert rows[1]["rate"] == 9 and rows[1]["arl"] == pytest.approx(1 / stats.poisson.sf(10, 9), rel=1e-9)
+    assert rows[0]["sigma_ratio"] is None and rows[0]["shift"] is None
+    # --shift 2.5 moves the rate up by 2.5 standard errors, sqrt(4) = 2 each: 4 + 5 = 9, the same condition
+    # (Poisson standard deviation sqrt(c), common practice).
+    shifted = run_cli("runlength", "--chart", "c", "--c0", "4", "--shift", "2.5", "--json").json["results"][0]
+    assert (shifted["shift"], shifted["rate"]) == (2.5, 9) and shifted["arl"] == pytest.approx(rows[1]["arl"])
+    both = run_cli("runlength", "--chart", "c", "--c0", "4", "--rates", "9", "--shift", "1")
+    assert both.code == 2 and "not both" in both.err
 
 
 @pytest.mark.parametrize("chart, extra, words", [
-    ("ewma", ["--lam", "0.05", "--L", "2.615"], "Gauss-Legendre"),
-    ("cusum", ["--k", "0.5", "--h", "4"], "Brook and Evans"),
+    ("ewma", ["--weight", "0.05", "--limit-width", "2.615"], "Gauss-Legendre"),
+    ("cusum", ["--reference", "0.5", "--decision-interval", "4"], "Brook and Evans"),
     ("individuals", ["--rules", "all"], "Monte Carlo"),
     ("np", ["--n", "50", "--p0", "0.1"], "binomial"),
     ("u", ["--n", "5", "--c0", "0.4"], "Poisson"),
@@ -47,9 +53,9 @@ def test_every_chart_and_the_table(run_cli, chart, extra, words):
 
 @pytest.mark.parametrize("args, words", [
     (["--rules", "7/3>2", "--n", "5"], "K must be"),
-    (["--chart", "ewma", "--lam", "1.5"], "lambda"),
-    (["--chart", "ewma", "--lam", "0"], "lambda"),
-    (["--chart", "cusum", "--h", "-1"], "option --h: CUSUM decision interval"),
+    (["--chart", "ewma", "--weight", "1.5"], "weight"),
+    (["--chart", "ewma", "--weight", "0"], "weight"),
+    (["--chart", "cusum", "--decision-interval", "-1"], "option --decision-interval: CUSUM decision interval"),
     (["--n", "5", "--shift", "0,abc"], "'abc' is not a number"),
     (["--n", "5", "--shift", "0,,1"], "empty entry"),
     (["--n", "5", "--shift", "1e400"], "finite"),
@@ -58,7 +64,8 @@ def test_every_chart_and_the_table(run_cli, chart, extra, words):
     (["--chart", "p", "--n", "50", "--p0", "1.5"], "p0"),
     (["--chart", "xbar"], "--n"),
     (["--chart", "individuals", "--n", "5"], "single readings"),
-    (["--chart", "c", "--c0", "4", "--shift", "-1"], "rate"),
+    (["--chart", "c", "--c0", "4", "--rates", "-1"], "rate"),
+    (["--n", "5", "--rates", "0.1"], "--rates: for p, np, c and u only"),
 ])
 def test_bad_parameters(run_cli, args, words):
     result = run_cli("runlength", *args)
@@ -92,12 +99,12 @@ def test_broken_pipe_is_quiet():
 
 
 def test_options_are_read_as_the_settings_of_that_name(run_cli):
-    # --interval as evaluate reads it: "30 min" is half an hour (settings converter); --lam is --lambda
+    # --interval as evaluate reads it: "30 min" is half an hour (settings converter)
     base = ["runlength", "--chart", "ewma", "--hours-per-month", "320", "--shift", "0,1", "--json"]
-    halves = run_cli(*base, "--interval", "30 min", "--lam", "0.1").json
-    plain = run_cli(*base, "--interval", "0.5", "--lambda", "0.1").json
+    halves = run_cli(*base, "--interval", "30 min", "--weight", "0.1").json
+    plain = run_cli(*base, "--interval", "0.5", "--weight", "0.1").json
     assert halves == plain and halves["scheme"]["interval_hours"] == 0.5 and halves["scheme"]["lambda"] == 0.1
     # ATS = ARL x interval (definition, common practice)
     assert halves["results"][1]["ats_hours"] == pytest.approx(0.5 * halves["results"][1]["arl"])
-    bad = run_cli("runlength", "--chart", "cusum", "--k", "-1")
-    assert bad.code == 2 and "option --k" in bad.err and "k must be zero or more" in bad.err
+    bad = run_cli("runlength", "--chart", "cusum", "--reference", "-1")
+    assert bad.code == 2 and "option --reference" in bad.err and "k must be zero or more" in bad.err

@@ -98,3 +98,10 @@ def test_zone_chain_signals_where_the_data_rule_first_does(points, text):
             break
     found = find_hits(np.array(points), rules)
     assert first == (found[0].point if found else None)
+
+
+def test_the_single_point_preset_and_its_earlier_name():
+    # 1/1>3: one point beyond a 3-sigma limit (Shewhart 1931; common practice)
+    assert parse_rules("beyond-limits") == parse_rules("1/1>3") == parse_rules("limits")
+    with pytest.raises(ValueError, match="beyond-limits, zones, all"):
+        parse_rules("nonsense")

@@ -27,7 +27,7 @@ def test_p_chart_limits_against_binomial(n, p0, p1):
     se = np.sqrt(n * p0 * (1 - p0))
     upper, lower = n * p0 + 3 * se, n * p0 - 3 * se
     q = stats.binom.sf(np.floor(upper), n, p1) + (stats.binom.cdf(np.ceil(lower) - 1, n, p1) if lower > 0 else 0)
-    chain = attribute_chain(CountModel("binomial", n, p0), parse_rules("limits"))
+    chain = attribute_chain(CountModel("binomial", n, p0), parse_rules("beyond-limits"))
     assert chain.arl(p1) == pytest.approx(1 / q, rel=1e-9)
 
 
@@ -36,7 +36,7 @@ def test_c_chart_limits_against_poisson(c0, c1):
     # ARL = 1 / P(count beyond c0 +/- 3 sqrt(c0)), directly with scipy.stats.poisson.
     upper, lower = c0 + 3 * np.sqrt(c0), c0 - 3 * np.sqrt(c0)
     q = stats.poisson.sf(np.floor(upper), c1) + (stats.poisson.cdf(np.ceil(lower) - 1, c1) if lower > 0 else 0)
-    chain = attribute_chain(CountModel("poisson", 1.0, c0), parse_rules("limits"))
+    chain = attribute_chain(CountModel("poisson", 1.0, c0), parse_rules("beyond-limits"))
     assert chain.arl(c1) == pytest.approx(1 / q, rel=1e-9)
 
 
@@ -107,7 +107,7 @@ def _fit(chart: str, **parameters: float) -> ChartFit:
 ])
 def test_performance_of_every_chart_kind(chart, parameters):
     options = EvaluationOptions(interval_hours=2.0, hours_per_month=400.0)
-    perf = performance_of(_fit(chart, **parameters), parse_rules("limits"), options)
+    perf = performance_of(_fit(chart, **parameters), parse_rules("beyond-limits"), options)
     assert [s.shift for s in perf.shifts] == list(options.shifts)
     assert perf.arl_in_control == pytest.approx(perf.shifts[0].arl)
     # false alarms per month = hours per month / (interval * in-control ARL) (definition, common practice)
@@ -120,13 +120,13 @@ def test_performance_of_every_chart_kind(chart, parameters):
 
 
 def test_attribute_shift_is_in_standard_errors():
-    perf = performance_of(_fit("p", n=100, p0=0.05), parse_rules("limits"), EvaluationOptions())
+    perf = performance_of(_fit("p", n=100, p0=0.05), parse_rules("beyond-limits"), EvaluationOptions())
     se = np.sqrt(0.05 * 0.95 / 100)
     assert [s.rate for s in perf.shifts] == pytest.approx([0.05 + d * se for d in EvaluationOptions().shifts])
 
 
 def test_xbar_limits_performance_matches_the_geometric_case():
-    perf = performance_of(_fit("xbar-r", n=5), parse_rules("limits"), EvaluationOptions())
+    perf = performance_of(_fit("xbar-r", n=5), parse_rules("beyond-limits"), EvaluationOptions())
     p_mean = 2 * stats.norm.sf(3)  # common practice: 0.0027 per point
     p_range = companion_probability("range", 5)(0.0, 1.0)
     assert perf.arl_in_control == pytest.approx(1 / (1 - (1 - p_mean) * (1 - p_range)), rel=1e-9)
@@ -135,9 +135,9 @@ def test_xbar_limits_performance_matches_the_geometric_case():
 
 def test_missing_parameters_are_named():
     with pytest.raises(ValueError, match="p0"):
-        performance_of(_fit("p", n=100), parse_rules("limits"), EvaluationOptions())
+        performance_of(_fit("p", n=100), parse_rules("beyond-limits"), EvaluationOptions())
     with pytest.raises(ValueError, match="no run-length method"):
-        performance_of(_fit("mystery"), parse_rules("limits"), EvaluationOptions())
+        performance_of(_fit("mystery"), parse_rules("beyond-limits"), EvaluationOptions())
 
 
 def test_trend_rules_use_monte_carlo_and_say_so():
@@ -150,7 +150,7 @@ def test_trend_rules_use_monte_carlo_and_say_so():
 
 @pytest.mark.parametrize(("family", "n", "rate0"), [("binomial", 50, 0.05), ("binomial", 7, 0.3),
                                                     ("poisson", 1.0, 4.0), ("poisson", 2.5, 0.7)])
-@pytest.mark.parametrize("rules", ["limits", "zones"])
+@pytest.mark.parametrize("rules", ["beyond-limits", "zones"])
 def test_attribute_cells_match_the_whole_support(family, n, rate0, rules):
     # Independent computation: every count of the support from scipy.stats, cell by cell, against the few counts
     # next to the thresholds that the chain keeps (the rest lumped by the cdf); to 1e-12.
@@ -170,5 +170,5 @@ def test_a_huge_number_inspected_is_the_normal_chart(family):
     # 370.4 and the four zone rules 91.75 (tests/reference/published-values.md: common practice; Champ and Woodall
     # 1987, Table 2), within 0.1%; before, the chain enumerated 4e10 counts and ran out of memory.
     model = CountModel(family, 1e12, 0.004)
-    assert attribute_chain(model, parse_rules("limits")).arl(model.rate0, 1.0) == pytest.approx(370.4, rel=1e-3)
+    assert attribute_chain(model, parse_rules("beyond-limits")).arl(model.rate0, 1.0) == pytest.approx(370.4, rel=1e-3)
     assert attribute_chain(model, parse_rules("zones")).arl(model.rate0, 1.0) == pytest.approx(91.75, rel=1e-3)

@@ -13,7 +13,7 @@ from sheettool.core.runlength.zones import ZoneChain
 
 def test_champ_woodall_limits_alone():
     # Champ and Woodall (1987), Technometrics 29(4), in-control ARL 370.40 (recalled from memory).
-    assert ZoneChain(parse_rules("limits")).arl(0.0) == pytest.approx(370.40, abs=0.005)
+    assert ZoneChain(parse_rules("beyond-limits")).arl(0.0) == pytest.approx(370.40, abs=0.005)
 
 
 def test_champ_woodall_zone_rules():

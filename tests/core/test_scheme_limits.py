@@ -18,7 +18,7 @@ D2, D3 = 2.3259, 0.8641  # n = 5 (Harter 1960 tables; recalled from memory)
 def test_the_grid_reproduces_the_three_sigma_closed_form():
     # X-bar alone with 3-sigma limits: the grid used for whole schemes against the closed form of
     # core/estimated_limits (checked there against Jensen et al. 2006): mean, 10th and 50th percentiles
-    grid = scheme_limits._grid(tuple(parse_rules("limits")), None, 5, SigmaMethod.RANGE, 29, 3.0)
+    grid = scheme_limits._grid(tuple(parse_rules("beyond-limits")), None, 5, SigmaMethod.RANGE, 29, 3.0)
     exact = carl_distribution(29, 5, "range")
     assert grid.moment(1) == pytest.approx(exact.mean, rel=1e-4)
     assert grid.quantile(0.1) == pytest.approx(exact.p10, rel=1e-3)
@@ -29,7 +29,7 @@ def test_known_parameters_give_the_schemes_own_arl():
     # X-bar and R, n = 5, 3-sigma: a point signals when the mean is beyond 3 sigma or the range beyond (d2 + 3 d3)
     # sigma, independently (common practice): known ARL = 1 / (1 - (1 - p_mean)(1 - p_range)), about 137; the R
     # chart's tail by simulation of 2 million ranges (seeded), an independent computation.
-    report = scheme_estimated_limits(Scheme("xbar-r", rules=tuple(parse_rules("limits")), n=5), 29, "range",
+    report = scheme_estimated_limits(Scheme("xbar-r", rules=tuple(parse_rules("beyond-limits")), n=5), 29, "range",
                                      target=133.3, tolerance=0.1)
     ranges = np.ptp(np.random.default_rng(1).standard_normal((2_000_000, 5)), axis=1)
     p_range = np.mean(ranges > D2 + 3 * D3)

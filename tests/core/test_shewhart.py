@@ -14,7 +14,7 @@ def _arl(scheme: Scheme, shift: float = 0.0) -> float:
 
 def test_three_sigma_false_alarm_and_arl():
     # 3-sigma limits: false-alarm probability 0.0027 per point, in-control ARL 370.4 (common practice).
-    arl = _arl(Scheme("individuals", parse_rules("limits")))
+    arl = _arl(Scheme("individuals", parse_rules("beyond-limits")))
     assert 1 / arl == pytest.approx(0.0027, abs=1e-4)
     assert arl == pytest.approx(370.4, abs=0.05)
 
@@ -23,7 +23,7 @@ def test_shifted_mean_of_five():
     # A 1-sigma shift of the process seen through means of 5: standardized shift sqrt(5); ARL = 1/p
     # with p from the normal distribution (scipy.stats as reference).
     p = stats.norm.sf(3 - 5**0.5) + stats.norm.cdf(-3 - 5**0.5)
-    assert _arl(Scheme("xbar", parse_rules("limits"), n=5), 1.0) == pytest.approx(1 / p, rel=1e-12)
+    assert _arl(Scheme("xbar", parse_rules("beyond-limits"), n=5), 1.0) == pytest.approx(1 / p, rel=1e-12)
 
 
 def test_range_chart_false_alarm_by_simulation():
@@ -44,5 +44,5 @@ def test_either_chart_signals_as_independent_charts():
     # 1 / ARL = 1 - (1 - p_mean)(1 - p_range) (common practice; p_mean from scipy.stats).
     p_mean = 2 * stats.norm.sf(3)
     p_range = companion_probability("range", 5)(0.0, 1.0)
-    arl = _arl(Scheme("xbar-r", parse_rules("limits"), n=5))
+    arl = _arl(Scheme("xbar-r", parse_rules("beyond-limits"), n=5))
     assert arl == pytest.approx(1 / (1 - (1 - p_mean) * (1 - p_range)), rel=1e-9)

@@ -71,16 +71,16 @@ def test_shewhart_limits_candidate_is_geometric():
     # signals when the mean is beyond 3 sigma or the range beyond D4 R-bar = (d2 + 3 d3) sigma (d2 = 2.3259,
     # d3 = 0.8641 for n = 5, Harter 1960 tables, recalled from memory; D3 = 0), independently for normal data:
     # ARL = 1 / (1 - (1 - p_mean)(1 - p_range)), about 137 (the figure quoted in issue 13).
-    grid = SearchGrid(presets=("limits",), lambdas=(), ks=())
+    grid = SearchGrid(presets=("beyond-limits",), lambdas=(), ks=())
     (one,) = design(Requirements(shift=1.0), Sampling(sizes=(1,)), grid).candidates
     assert one.arl_in_control == pytest.approx(1.0 / (2.0 * stats.norm.sf(3.0)), rel=1e-6)
-    assert one.label == "individuals and moving range with the 'limits' rules"
+    assert one.label == "individuals and moving range with the 'beyond-limits' rules"
     result = design(Requirements(shift=1.0, arl_in_control=130.0), Sampling(sizes=(5,)), grid)
     (c,) = result.candidates
     p_range = _range_beyond(5, 2.3259 + 3.0 * 0.8641)
     p_mean = 2.0 * stats.norm.sf(3.0)
     assert c.arl_in_control == pytest.approx(1.0 / (1.0 - (1.0 - p_mean) * (1.0 - p_range)), rel=1e-3)
-    assert c.arl_in_control == pytest.approx(137.2, abs=0.1) and c.label == "X-bar and R with the 'limits' rules"
+    assert c.arl_in_control == pytest.approx(137.2, abs=0.1) and c.label == "X-bar and R with the 'beyond-limits' rules"
     p = stats.norm.cdf(-3.0 + 5 ** 0.5) + stats.norm.cdf(-3.0 - 5 ** 0.5)
     assert c.arl_at_shift == pytest.approx(1.0 / (1.0 - (1.0 - p) * (1.0 - p_range)), rel=1e-3)
     assert c.meets and result.feasible
@@ -91,7 +91,7 @@ def test_small_shift_favours_a_tuned_ewma_over_limits_alone():
     # 3-sigma limits alone at the same in-control ARL (common practice; Lucas and Saccucci 1990).
     result = design(Requirements(arl_in_control=370.4, shift=0.5), Sampling(sizes=(1,), intervals=(1.0,)))
     ewma = min((c for c in result.candidates if c.family == "ewma"), key=lambda c: c.ats_hours)
-    limits = _find(result, "shewhart", 1, preset="limits")
+    limits = _find(result, "shewhart", 1, preset="beyond-limits")
     assert ewma.arl_in_control == pytest.approx(370.4, rel=1e-3)
     assert ewma.ats_hours < limits.ats_hours / 3
     assert result.candidates[0].family in ("ewma", "cusum")
@@ -102,7 +102,7 @@ def test_small_shift_favours_a_tuned_ewma_over_limits_alone():
 def test_false_alarms_per_month_set_the_target_per_interval():
     # 400 h a month, at most 1 false alarm, sampled every 0.5 h -> in-control ARL 800 (common practice)
     result = design(Requirements(false_alarms_per_month=1.0, hours_per_month=400.0, shift=1.0),
-                    Sampling(sizes=(4,), intervals=(0.5, 8.0)), SearchGrid(presets=("limits",), lambdas=(0.1,),
+                    Sampling(sizes=(4,), intervals=(0.5, 8.0)), SearchGrid(presets=("beyond-limits",), lambdas=(0.1,),
                                                                            ks=(0.5,)))
     ewma = _find(result, "ewma", 4, interval_hours=0.5)
     assert ewma.arl_in_control == pytest.approx(800.0, rel=1e-3)
@@ -158,7 +158,7 @@ def test_check_requirements_words_and_missing_interval():
 def test_cli_json_shape_and_workbook_chart(run_cli, tmp_path):
     out = tmp_path / "design.xlsx"
     run = run_cli("design", "--shift", "1", "--sizes", "1,5", "--intervals", "1,2", "--ats-hours", "10",
-                  "--lambdas", "0.1,0.2", "--ks", "0.5", "--json", "-o", out)
+                  "--weights", "0.1,0.2", "--references", "0.5", "--json", "-o", out)
     assert run.code == 0, run.err
     doc = run.json
     assert set(doc) >= {"requirements", "sampling", "feasible", "messages", "trade_off", "method", "candidates"}
@@ -180,7 +180,8 @@ def test_cli_bad_options_exit_2(run_cli, args):
 
 
 def test_cli_table_when_nothing_meets(run_cli):
-    run = run_cli("design", "--shift", "0.5", "--arl-at-shift", "1", "--sizes", "1", "--lambdas", "0.1", "--ks", "0.5")
+    run = run_cli("design", "--shift", "0.5", "--arl-at-shift", "1", "--sizes", "1", "--weights", "0.1",
+                  "--references", "0.5")
     assert run.code == 0
     assert "No scheme searched meets every requirement" in run.out and "nearest" in run.out
 
@@ -293,7 +294,7 @@ def test_both_in_control_targets_give_the_stricter_in_evaluate_and_design(arl, p
 
 def test_cli_reads_hours_as_the_settings_do(run_cli):
     # "90 min" is 1.5 h, "30 min" is 0.5 h, as in a workbook's settings (settings converter)
-    base = ["design", "--sizes", "1", "--presets", "limits", "--lambdas", "0.2", "--ks", "0.5", "--json"]
+    base = ["design", "--sizes", "1", "--presets", "beyond-limits", "--weights", "0.2", "--references", "0.5", "--json"]
     words = run_cli(*base, "--intervals", "30 min,1", "--ats-hours", "90 min").json
     hours = run_cli(*base, "--intervals", "0.5,1", "--ats-hours", "1.5").json
     assert words == hours and words["sampling"]["intervals"] == [0.5, 1.0]

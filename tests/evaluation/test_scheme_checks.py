@@ -28,7 +28,7 @@ def test_pattern_rules_apply_to_the_location_chart_only():
 
 
 @pytest.mark.parametrize(("n", "rules", "chart"), [(5, "zones", "xbar-r"), (1, "zones", "individuals"),
-                                                   (12, "limits", "xbar-s")])
+                                                   (12, "beyond-limits", "xbar-s")])
 def test_design_and_evaluate_give_the_same_in_control_figures(n, rules, chart):
     # The same scheme (chart with its spread chart, rules, subgroup size, every hour, 400 h a month) must give the
     # same in-control ARL and false alarms per month in both commands (issue 13: 3.84 against 5.39 before).

@@ -160,7 +160,7 @@ def test_settings_sheet_sections_and_priority(tmp_path, run_cli):
     assert s["usl"] == {"value": 25.06, "origin": "settings sheet row 2"}
     assert s["target"] == {"value": 25.0, "origin": "settings sheet row 5"}
     assert s["lsl"] == {"value": 24.94, "origin": "option --lsl"}
-    assert s["rules"] == {"value": "limits", "origin": "default"}
+    assert s["rules"] == {"value": "beyond-limits", "origin": "default"}
     assert any("colour" in p["message"] and "row 6" in p["where"] for p in result.json["problems"])
 
 

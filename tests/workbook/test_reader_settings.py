@@ -54,7 +54,7 @@ def test_priority_settings_sheet_then_section_then_cells_then_options():
     assert (options.usl, used["usl"].origin) == (12.08, "settings sheet row 6")
     assert (options.lsl, used["lsl"].origin) == (11.95, "'Bore'!B3")
     assert (options.target, used["target"].origin) == (12.001, "option --target")
-    assert used["rules"] == Setting("rules", "limits", "default")
+    assert used["rules"] == Setting("rules", "beyond-limits", "default")
 
 
 def test_lsl_above_usl_names_both_cells():

@@ -23,6 +23,11 @@ def test_template_command_refuses_to_overwrite(run_cli, tmp_path):
     assert again.code == 2 and "already exists" in again.err
 
 
+def test_template_refuses_a_name_that_is_not_xlsx(run_cli, tmp_path):
+    result = run_cli("template", "counts", "-o", tmp_path / "x.ods")
+    assert result.code == 2 and "x.xlsx" in result.err and not (tmp_path / "x.ods").exists()
+
+
 def test_template_bad_size(run_cli, tmp_path):
     result = run_cli("template", "subgroups", "--n", "1", "-o", tmp_path / "x.xlsx")
     assert result.code == 2 and "--n" in result.err

@@ -60,7 +60,7 @@ class Sampling:
 class SearchGrid:
     """The schemes searched: Shewhart rule presets, EWMA weights and CUSUM reference values."""
 
-    presets: tuple[str, ...] = ("limits", "zones", "all")
+    presets: tuple[str, ...] = ("beyond-limits", "zones", "all")
     lambdas: tuple[float, ...] = LAMBDAS
     ks: tuple[float, ...] = KS
 

@@ -54,7 +54,7 @@ class Scheme:
     cusum and head_start for the CUSUM only)."""
 
     chart: str
-    rules: tuple[Rule, ...] = field(default_factory=lambda: tuple(parse_rules("limits")))
+    rules: tuple[Rule, ...] = field(default_factory=lambda: tuple(parse_rules("beyond-limits")))
     n: float = 1.0
     p0: float | None = None
     c0: float | None = None  # c chart: defects per subgroup; u chart: defects per unit
