@@ -17,6 +17,8 @@ from sheettool.core.data import Characteristic
 _FIRST = re.compile(r"^first\s+(\d+)(?:\s+subgroups?)?$")
 
 
+BASE_WORDS = "base period: "  # how limits_source begins when this workbook's base period set the limits
+
 def _day(text: str, end: bool) -> dt.datetime:
     try:
         when = dt.datetime.fromisoformat(text.strip())
@@ -113,7 +115,7 @@ def fit_limits(kind: ChartKind, characteristic: Characteristic, base_period_spec
                                                 "lies beyond the limits"))
     fit.removed = removed
     if uses_base:
-        fit.limits_source = f"base period: {words} (points {_positions(fit.base)})"
+        fit.limits_source = f"{BASE_WORDS}{words} (points {_positions(fit.base)})"
         if given_words:
             fit.limits_source += f"; {given_words}"
     else:

@@ -117,7 +117,10 @@ def test_method_and_audit(built):
     rows = {r[0]: r[1] for r in ws.iter_rows(values_only=True) if r[0]}
     assert rows["SHA-256"] and len(rows["SHA-256"]) == 64
     assert rows["Document date"].startswith("2026-12-01 08:00:00 (given with --timestamp)")
-    assert rows["Sleeve length: lsl"] == "24.95 (from cell 'Sleeve'!B1)"
+    # settings in words, each with its origin; the rules preset spelled out once
+    said = [r[1] for r in ws.iter_rows(values_only=True) if r[0] == "Sleeve length"]
+    assert "Lower specification limit: 24.95 (cell 'Sleeve'!B1)" in said
+    assert sum(text.startswith("Pattern rules") for text in said) == 1
     assert "never replace" in rows["Caution"]
     assert "Lucas" not in rows.get("Chart kind xbar-s", "")
     assert rows["Chart kind p"].startswith("p: proportion defective")

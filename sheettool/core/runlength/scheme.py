@@ -129,7 +129,8 @@ def _method_note(scheme: Scheme, base: str) -> str:
     elif scheme.companion == "sd":
         notes.append("the S chart's limits add an independent per-subgroup signal probability (chi distribution)")
     elif scheme.chart == "individuals":
-        notes.append("individuals chart only: moving ranges overlap, so the MR chart is not included")
+        notes.append("the individuals chart alone: successive moving ranges share a reading, so the moving-range "
+                     "chart's own signals are not in the figure")
     if scheme.chart in ATTRIBUTES:
         family = "binomial" if scheme.chart in ("p", "np") else "Poisson"
         notes.append(f"exact {family} cell probabilities")
@@ -159,8 +160,9 @@ def scheme_run_lengths(scheme: Scheme, conditions: list[tuple[float, float]], fu
         else:
             convert = (lambda s: s) if scheme.chart in ATTRIBUTES else (lambda s: _standard_errors(scheme, s))
             count = chain.chart.states if isinstance(chain, WithCompanion) else chain.states
-            states = f"{count} state{'s' if count != 1 else ''}"
-            return _from_chain(chain, conditions, full, convert, _method_note(scheme, f"{ZoneChain.method}, {states}"))
+            base = (f"{ZoneChain.method}, exact, {count} states of the rule windows" if count > 1 else
+                    "exact: each point signals on its own with the same chance, so the run length is geometric")
+            return _from_chain(chain, conditions, full, convert, _method_note(scheme, base))
     return _monte_carlo(scheme, rules, conditions, runs, seed, why)
 
 

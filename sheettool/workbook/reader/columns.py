@@ -142,7 +142,7 @@ def columns_meaning(names: list[str], roles: list[str], layout: str) -> dict[str
     """Column letter -> meaning in words with the header, for the report ("C": "measurement (Part 1)")."""
     words = {"measurement": "measurement", "note": "note", "key": "subgroup key", "date": "date",
              "time": "time of day", "defectives": "defectives counted", "defects": "defects counted",
-             "inspected": "units inspected", "operator": "operator, shown as read", "text": "text, not used"}
+             "inspected": "units inspected", "operator": "operator (not used in the figures)", "text": "text, not used"}
     if layout == "readings down":
         words["measurement"] = "reading"
     return {get_column_letter(c + 1): f"{words[r]} ({names[c] or 'no header'})"

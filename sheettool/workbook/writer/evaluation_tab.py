@@ -10,6 +10,7 @@ import numpy as np
 
 from sheettool.core.capability import AttributeRate, Capability
 from sheettool.core.data import Measurements
+from sheettool.core.limits import BASE_WORDS
 from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells, charts, formulas
@@ -74,7 +75,7 @@ def _counts(result: CharacteristicResult) -> str:
     parts = [f"{m} subgroups"]
     if isinstance(ch.data, Measurements):
         parts.append(f"{int(ch.data.sizes.sum())} readings")
-    parts.append(f"{int(np.sum(ch.excluded))} kept out of the limits by the input")
+    parts.append(f"{int(np.sum(ch.excluded))} excluded from the limits by a note or their size")
     parts.append(f"{len(result.signals)} signal(s)")
     return ", ".join(parts)
 
@@ -108,10 +109,14 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     tab.fact("Sheet read", result.sheet)
     tab.fact("Unit", ch.unit or "not given")
     tab.fact("Specification limits", _spec_words(result))
-    tab.fact("Chart", f"{about.words}; subgroups of {fit.subgroup_size}")
-    tab.fact("Base period", fit.limits_source)
+    counted = not isinstance(ch.data, Measurements)
+    size = f"typical units inspected {fit.subgroup_size:g}" if counted else f"subgroups of {fit.subgroup_size:g}"
+    tab.fact("Chart", f"{about.words}; {size}")
+    source, base_set = fit.limits_source, fit.limits_source.startswith(BASE_WORDS)
+    tab.fact("Base period" if base_set else "Limits set by", source.removeprefix(BASE_WORDS) if base_set else source)
     tab.fact("Points that set the limits", _spans(np.asarray(fit.base, dtype=bool)), wrap=True)
-    tab.fact("Sigma within", f"{fit.sigma_within:.6g} ({fit.sigma_words})")
+    if not counted:  # a p, np, c or u chart's limits come from its rate alone
+        tab.fact("Sigma within, base period", f"{fit.sigma_within:.6g} ({fit.sigma_words})")
     tab.fact("Rules in use", "; ".join(f"{r.text}: {r.words}" for r in result.rules), wrap=True)
     tab.fact("Period covered", _period(result))
     tab.fact("Counts", _counts(result))
@@ -268,8 +273,8 @@ def _capability(tab: Tab, result: CharacteristicResult) -> None:
             cells.number(ws, tab.row, 3, cap.ci[key].high, fmt["ratio"])
         ws.write_string(tab.row, 4, note, fmt["note"])
         tab.row += 1
-    facts = [("Mean", f"{cap.mean:.6g}"), ("Sigma within", f"{cap.sigma_within:.6g}"),
-             ("Sigma overall", f"{cap.sigma_overall:.6g}")]
+    facts = [("Mean", f"{cap.mean:.6g}"), ("Sigma within, all subgroups", f"{cap.sigma_within:.6g} (every "
+             "subgroup not excluded; the limits use the base period's)"), ("Sigma overall", f"{cap.sigma_overall:.6g}")]
     if cap.ppm_out is not None:
         facts.append(("Out of specification", f"{cap.ppm_out:,.1f} parts per million (normal model)"))
     if cap.normality_p is not None:

@@ -12,6 +12,7 @@ from sheettool.core.constants import constants
 from sheettool.core.data import Measurements
 from sheettool.core.design import MET_TOLERANCE
 from sheettool.evaluation.results import CharacteristicResult
+from sheettool.settings import KNOWN_SETTINGS, Setting
 from sheettool.workbook.reader import SheetRead
 from sheettool.workbook.report import EvaluationReport
 from sheettool.workbook.writer import cells
@@ -95,9 +96,11 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
     for result in results:
         if not result.settings:
             line(result.characteristic.name, "built-in defaults (no settings recorded)")
+        rules = ", ".join(r.text for r in result.rules)
         for setting in result.settings.values():
-            line(f"{result.characteristic.name}: {setting.name}", f"{setting.value} (from {setting.origin})")
-        line(f"{result.characteristic.name}: rules", ", ".join(r.text for r in result.rules))
+            line(result.characteristic.name, setting_words(setting, rules if setting.name == "rules" else ""))
+        if "rules" not in result.settings:
+            line(result.characteristic.name, f"Pattern rules in use: {rules}")
     section("Formulas and constants")
     for chart in dict.fromkeys(r.fit.chart for r in results):
         about = method(chart)
@@ -162,3 +165,24 @@ def stamp_for(reports: list[EvaluationReport], given: dt.datetime | None) -> Sta
     return Stamp(when, "the input file's modification time, UTC" if len(reports) == 1 else
                  "the latest input file's modification time, UTC")
 
+
+
+def setting_words(setting: Setting, rules: str = "") -> str:
+    """A setting in words for the audit: what it is, its value and where it came from ("Upper specification limit:
+    12.05 (cell 'Bore'!B6)"); `rules` spells out the rules a preset holds."""
+    value = setting.value
+    if value is None:
+        shown = "chosen from the data" if setting.name == "chart" else "not given"
+    elif isinstance(value, bool):
+        shown = "yes" if value else "no"
+    elif isinstance(value, float):
+        shown = f"{value:g}"
+    else:
+        shown = str(value)
+    if rules and rules != shown:
+        shown += f" = {rules}"
+    origin = setting.origin
+    where = "built-in default" if origin == "default" else origin if origin.startswith("cell") or "!" not in origin \
+        else f"cell {origin}"
+    what = KNOWN_SETTINGS.get(setting.name, setting.name.replace("_", " "))
+    return f"{what[:1].upper()}{what[1:]}: {shown} ({where})"

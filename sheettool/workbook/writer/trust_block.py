@@ -126,9 +126,9 @@ def _shape(tab: Tab, rep: DataShapeReport) -> None:
     tab.row += 1
     _line(tab, "In-control ARL, this shape", ((shape.arl_shape, "arl"), (shape.arl_normal, "arl")),
           f"{_capital(shape.scheme)}, fitted shape against normal (ratio {_ratio(shape.ratio)})")
-    _line(tab, "Lag-1 autocorrelation", ((dep.r1, "ratio"), (dep.bound, "ratio")),
-          f"beside it the bound 2/sqrt(N) for {dep.points} points; r1 is "
-          + ("beyond it" if dep.significant else "within it"))
+    _line(tab, "Lag-1 autocorrelation", ((dep.r1, "ratio"), (0.0, "ratio")),
+          f"independent points have 0; the rough bound for {dep.points} points is 2/sqrt(N) = {dep.bound:.2f}, "
+          "and r1 is " + ("beyond it" if dep.significant else "within it"))
     if dep.significant:
         _line(tab, "In-control ARL, AR(1)", ((dep.arl_ar1, "arl"), (dep.arl_independent, "arl")),
               ("at least this (some simulated runs had not signalled); " if dep.censored else "")
