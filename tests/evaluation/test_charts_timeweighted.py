@@ -78,3 +78,15 @@ def test_time_weighted_settings_are_checked():
         _run(np.ones((5, 1)) + np.arange(5)[:, None], chart="ewma", ewma=EwmaParameters(lam=1.5))
     with pytest.raises(ValueError, match="h > 0"):
         _run(np.ones((5, 1)) + np.arange(5)[:, None], chart="cusum", cusum=CusumParameters(h=0.0))
+
+
+def test_time_weighted_charts_say_when_they_signal_in_their_own_terms():
+    from sheettool.core.charts import chart_kind
+
+    ch = Characteristic("x", Measurements(np.random.default_rng(4).normal(10, 1, (30, 1))))
+    cusum = fit_characteristic(ch, "x", EvaluationOptions(chart="cusum", cusum=CusumParameters(k=0.5, h=4))).fit
+    words = chart_kind("cusum").signal_words(cusum)
+    assert "decision interval h = 4" in words and "k = 0.5" in words and "center line" not in words
+    ewma = fit_characteristic(ch, "x", EvaluationOptions(chart="ewma", ewma=EwmaParameters(lam=0.1, L=2.7))).fit
+    said = chart_kind("ewma").signal_words(ewma)
+    assert "L = 2.7" in said and "lambda = 0.1" in said

@@ -101,7 +101,7 @@ def test_charts_are_native_scatter_with_stepped_limits(built):
 
 def test_performance_tab_uses_curve(built):
     rows = list(openpyxl.load_workbook(built)["Scheme performance"].iter_rows(values_only=True))
-    top = next(i for i, r in enumerate(rows) if r[0] == "Mean shift (sigma)")
+    top = next(i for i, r in enumerate(rows) if r[0] == "Mean shift (process standard deviations)")
 
     def column(c: int) -> list[float]:
         return [r[c] for r in rows[top + 1:] if len(r) > c and r[c] is not None]
@@ -109,7 +109,7 @@ def test_performance_tab_uses_curve(built):
     assert column(0) == pytest.approx(list(np.arange(0, 3.01, 0.25)))
     assert column(2)[1] == pytest.approx(2.0 * column(1)[1])  # ATS = ARL x 2 hours between subgroups
     # the attribute scheme has no curve: its shifts are listed instead
-    assert rows[top][4] == "Mean shift (sigma)" and column(4) == [0.0, 1.0]
+    assert rows[top][4] == "Mean shift (process standard deviations)" and column(4) == [0.0, 1.0]
 
 
 def test_method_and_audit(built):

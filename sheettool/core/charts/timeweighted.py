@@ -36,6 +36,10 @@ class _TimeWeighted(ChartKind):
         """The rule, in the rule grammar, that is the limit crossing of this chart."""
         raise NotImplementedError
 
+    def signal_words(self, fit: ChartFit) -> str:
+        """When this chart signals, in its own terms (the tab says this instead of a rule)."""
+        raise NotImplementedError
+
     def _fit(self, characteristic: Characteristic, params: dict[str, float], method: SigmaMethod,
              stats: list[PlottedStatistic], n: int, parameters: dict[str, float], note: str) -> ChartFit:
         return ChartFit(chart=self.name, statistics=stats, subgroup_size=n, process_mean=params["mean"],
@@ -76,6 +80,12 @@ class Ewma(_TimeWeighted):
         """A point beyond the EWMA limits, L standard errors from the center, signals."""
         return f"1/1>{fit.parameters['L']:g}"
 
+    def signal_words(self, fit: ChartFit) -> str:
+        """The EWMA's limits in its own terms."""
+        par = EwmaParameters.from_mapping(fit.parameters)
+        return (f"the EWMA crosses a limit: L = {par.L:g} standard errors of the EWMA from the center line, "
+                f"each point weighted lambda = {par.lam:g}")
+
 
 class Cusum(_TimeWeighted):
     """Two-sided tabular CUSUM of standardized points, reference value k and decision interval h in sigmas.
@@ -108,14 +118,20 @@ class Cusum(_TimeWeighted):
         stats = [_side("cusum_upper", "CUSUM upper", upper * unit, unit, h),
                  _side("cusum_lower", "CUSUM lower", lower * unit, unit, h)]
         around = "the target" if "reference" in params and reference != mu else "the center line"
-        note = (f"two-sided CUSUM of {what}, reference {reference:.6g} ({around}), k = {k:g} and h = {h:g} sigmas "
-                "of the plotted point; both sides are plotted upwards")
+        note = (f"two-sided CUSUM of {what}, reference {reference:.6g} ({around}), k = {k:g} and h = {h:g} standard "
+                "errors of the plotted point; both sides are plotted upwards")
         return self._fit(characteristic, params, sigma_method, stats, n,
                          {**design.as_mapping(), "reference": reference}, note)
 
     def signal_rule(self, fit: ChartFit) -> str:
         """A sum beyond the decision interval h signals."""
         return f"1/1>{fit.parameters['h']:g}"
+
+    def signal_words(self, fit: ChartFit) -> str:
+        """The CUSUM's decision interval in its own terms."""
+        par = CusumParameters.from_mapping(fit.parameters)
+        return (f"the upper or the lower sum exceeds the decision interval h = {par.h:g} standard errors of the "
+                f"plotted point; each point adds its distance beyond the reference value k = {par.k:g}")
 
 
 def _side(name: str, label: str, values: np.ndarray, unit: float, h: float) -> PlottedStatistic:

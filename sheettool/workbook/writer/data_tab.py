@@ -245,7 +245,7 @@ def _head(tab: Tab, layout: DataLayout, title: str, note: str) -> None:
     """Title, link back to the evaluation and the note above the table."""
     ws, fmt = tab.ws, tab.fmt
     ws.write_string(0, 0, title, fmt["title"])
-    ws.write_url(0, 4, cells.internal_link(layout.eval_tab), fmt["link"], string="Back to the evaluation")
+    ws.write_url(0, 4, cells.internal_link(layout.eval_tab), fmt["link"], string=layout.eval_tab)
     ws.write_string(1, 0, note)
 
 

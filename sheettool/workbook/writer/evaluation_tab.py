@@ -9,6 +9,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from sheettool.core.capability import AttributeRate, Capability
+from sheettool.core.charts import CHART_KINDS
 from sheettool.core.data import Measurements
 from sheettool.core.limits import BASE_WORDS
 from sheettool.evaluation.results import CharacteristicResult
@@ -99,7 +100,7 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     written = EvaluationWritten()
     ws.write_string(0, 0, f"{ch.name}: {about.words}", fmt["title"])
     links = out.links
-    for c, (text, target) in enumerate((("Data and statistics", layout.tab), ("Scheme performance", links.performance),
+    for c, (text, target) in enumerate(((layout.tab, layout.tab), ("Scheme performance", links.performance),
                                         ("Method and audit", links.notes)), start=1):
         ws.write_url(1, c, cells.internal_link(target), fmt["link"], string=text)
     ws.write_string(1, 0, "Go to:", fmt["label"])
@@ -117,7 +118,11 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     tab.fact("Points that set the limits", _spans(np.asarray(fit.base, dtype=bool)), wrap=True)
     if not counted:  # a p, np, c or u chart's limits come from its rate alone
         tab.fact("Sigma within, base period", f"{fit.sigma_within:.6g} ({fit.sigma_words})")
-    tab.fact("Rules in use", "; ".join(f"{r.text}: {r.words}" for r in result.rules), wrap=True)
+    kind = CHART_KINDS[fit.chart]()
+    if kind.time_weighted:
+        tab.fact("Signals when", kind.signal_words(fit), wrap=True)
+    else:
+        tab.fact("Rules in use", "; ".join(f"{r.text}: {r.words}" for r in result.rules), wrap=True)
     tab.fact("Period covered", _period(result))
     tab.fact("Counts", _counts(result))
     _limits_table(out, tab, result, layout, written)
@@ -151,8 +156,10 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
 def _limits_table(out: BookWriter, tab: Tab, result: CharacteristicResult, layout: DataLayout,
                   written: EvaluationWritten) -> None:
     ws, fmt, live = tab.ws, tab.fmt, out.live
-    tab.section("Control limits")
-    tab.head(["Statistic", "Center line", "LCL", "UCL", "Note"], (1, 2, 3))
+    sums = result.fit.chart == "cusum"  # the sums start at 0 and signal above h: no lower limit
+    tab.section("Decision interval" if sums else "Control limits")
+    tab.head(["Statistic", "Starts at", "", "Decision interval", "Note"] if sums else
+             ["Statistic", "Center line", "LCL", "UCL", "Note"], (1, 2, 3))
     first = tab.row
     stats = list(layout.stats.values())
     place = {sc.stat.name: first + i for i, sc in enumerate(stats)}
@@ -175,6 +182,8 @@ def _limits_table(out: BookWriter, tab: Tab, result: CharacteristicResult, layou
         ws.write_string(tab.row, 0, stat.label, fmt["text"])
         notes = []
         for c, (key, word) in enumerate(LIMIT_KEYS, start=1):
+            if sums and key == "lcl":
+                continue
             arr = getattr(stat, key)
             finite = arr[np.isfinite(arr)]
             if finite.size == arr.size and np.ptp(arr) == 0:

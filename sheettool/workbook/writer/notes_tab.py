@@ -31,7 +31,13 @@ GENERAL_METHODS = (
     ("Pattern rules", "each rule is applied to the plotted points in standard errors from the center line; "
                       "while fewer points exist than a rule's window, the window is what there is. They apply to "
                       "the location chart (means, individuals) only: ranges and standard deviations are not normal "
-                      "and successive moving ranges share a reading, so a spread chart signals beyond its limits"),
+                      "and successive moving ranges share a reading, so a spread chart signals beyond its limits. "
+                      "The rules are published ones under presets named here: a point beyond 3-sigma limits "
+                      "(Shewhart 1931), the zone, run, trend and alternation tests as collected by Nelson (1984); "
+                      "their run lengths by Champ and Woodall (1987)"),
+    ("Standard errors", "the spread of the plotted point (sigma / sqrt(n) for a mean of n, the rate's own for "
+                        "p, np, c and u): rules and rate shifts are in standard errors; mean shifts are in process "
+                        "standard deviations, the spread of single readings"),
     ("Zone-rule run lengths", "Markov chain of the rule windows (Champ and Woodall 1987)"),
     ("Shewhart run lengths", "points signal independently; the run length is geometric, ARL = 1 / p"),
     ("Capability intervals", "Cp: chi-square interval; Cpk: Bissell (1990) normal approximation"),
@@ -70,7 +76,7 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
 
     line("Caution", CAUTION, "caution")
     for result, eval_tab in zip(results, eval_tabs, strict=True):
-        tab.text(0, "Evaluation", "label")
+        tab.text(0, "Chart tab", "label")
         ws.write_url(tab.row, 1, cells.internal_link(eval_tab), fmt["link"], string=result.characteristic.name)
         tab.row += 1
     for report in reports:
@@ -88,7 +94,8 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
                            "no: every number is a value (run with --formulas to get formulas)"))
     if live and as_values:
         line("Written as values", "no checked formula for: " + "; ".join(as_values))
-    line("Printing", f"evaluation tabs print landscape, one page wide; data tabs print their first {PRINT_ROWS} "
+    line("Printing", "chart tabs (NAME chart) print landscape, one page wide; data tabs (NAME data) print their "
+                     f"first {PRINT_ROWS} "
                      "subgroups only (select rows and print the selection for more)")
     line("Hidden tabs", "limits-block (the machine-readable limits next month's run reads back) and chart-lines "
                         "(the line geometry of the charts)")

@@ -16,9 +16,10 @@ from sheettool.workbook.writer.tab import Tab
 
 BLOCK_WIDTHS = (13, 13, 13, 3)  # one characteristic's columns: shift, ARL, ATS, and a narrow gap
 METHOD_CHARS = 34  # characters per line of a method cell, a little below what fits so that no line is cut
-INTRO = ("ARL: average number of points plotted until the scheme signals. ATS: the same in hours, where the "
-         "sampling interval is known. A shift is measured in process standard deviations; at shift 0 every signal "
-         "is a false alarm.")
+INTRO = ("ARL: average number of points plotted until the scheme signals. ATS: the same in hours, the hours to "
+         "signal, where the sampling interval is known. A mean shift is in process standard deviations (the spread "
+         "of single readings); a rate shift, like the pattern rules, is in standard errors (the spread of the "
+         "plotted point: sigma / sqrt(n) for a mean of n). At shift 0 every signal is a false alarm.")
 
 
 def write_performance_tab(out: BookWriter, tab: Tab, results: list[CharacteristicResult],
@@ -93,5 +94,5 @@ def _split_words(count: int, charts: int, per_band: int) -> str:
 def shift_heading(perf: Performance) -> str:
     """The shift column's heading in the unit the scheme's shifts are measured in."""
     if perf.shift_unit == "process standard deviations":
-        return "Mean shift (sigma)"
+        return "Mean shift (process standard deviations)"
     return "Rate shift (standard errors)"

@@ -36,7 +36,7 @@ def _write_summary(tab: Tab, rows: list[PackRow], period: Period | None, eval_ta
     ws.write_string(0, 0, "Review summary", fmt["title"])
     words = f"points dated {period.label}" if period else "all points of each workbook"
     ws.write_string(1, 0, f"Period: {words}. Limits: each characteristic's base period, or the limits carried "
-                          "from the previous pack where given (see each evaluation tab).", fmt["text"])
+                          "from the previous pack where given (see each chart tab).", fmt["text"])
     counts = {word: sum(1 for r in rows if word in r.status.split("; ")) for word in STATUS_WORDS.values()}
     ws.write_string(2, 0, "; ".join(f"{n} {word}" for word, n in counts.items() if n) or "nothing evaluated",
                     fmt["label"])
