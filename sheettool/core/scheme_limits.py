@@ -233,7 +233,8 @@ def _known_arl(carl: _SchemeCarl, n: int) -> float:
 
 
 def _adjusted(key: tuple, m: int, floor: float, exceed: float) -> float:
-    """The factor L with P(CARL >= floor) = exceed (it rises with L), by Brent's method on a bracket around 3."""
+    """The factor L with P(CARL >= floor) = exceed (it rises with L), by Brent's method on a bracket around 3;
+    NaN when no factor up to 8 reaches it (rules counting points on one side of the center do not widen)."""
     def gap(L: float) -> float:
         return (1.0 - _grid(*key, m, round(L, 6)).below(floor)) - exceed
 
@@ -242,8 +243,7 @@ def _adjusted(key: tuple, m: int, floor: float, exceed: float) -> float:
         lo -= 0.5
     while gap(hi) < 0:
         if hi > 8.0:
-            raise ValueError(f"exceed: no limit factor up to 8 gives P(in-control ARL >= {floor:.4g}) = {exceed:g} "
-                             f"with {m} subgroups; lower exceed or base the limits on more subgroups")
+            return math.nan
         hi += 1.0
     return float(optimize.brentq(gap, lo, hi, xtol=2e-4))
 
