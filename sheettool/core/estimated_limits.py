@@ -149,7 +149,7 @@ def carl_distribution(m: int, n: int, sigma_method: SigmaMethod | str, L: float 
         mean=mean, sd=sd, p10=_quantile(0.1, est, a, L), p50=_quantile(0.5, est, a, L),
         method=(f"conditional in-control ARL of limits center +/- {L:g} sigma_hat/sqrt(n) with mean and sigma "
                 f"({est.method.model_words}) estimated from {_base_words(m, n)}; sigma_hat distribution "
-                f"{which}; Gauss-Hermite and Gauss-Legendre integration (Jensen et al. 2006)"),
+                f"{which}{est.method.model_error}; Gauss-Hermite and Gauss-Legendre integration (Jensen et al. 2006)"),
         notes=notes,
     )
 

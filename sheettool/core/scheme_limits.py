@@ -199,7 +199,7 @@ def scheme_estimated_limits(scheme: Scheme, m: int, sigma_method: SigmaMethod | 
         method=(f"conditional in-control ARL of the {words} with mean and sigma ({method.model_words}) estimated "
                 f"from {m} {'points' if n == 1 else f'subgroups of {n}'}: exact zone chain at the shift and sigma "
                 f"ratio the estimates give (Champ and Woodall 1987){left}; Gauss-Hermite in the mean, a W grid for "
-                "sigma_hat (Jensen et al. 2006)"),
+                f"sigma_hat (Jensen et al. 2006){method.model_error}"),
         notes=[] if math.isfinite(mean) else ["the average in-control ARL is unbounded: rare base periods overstate "
                                               "sigma so much that the scheme practically never signals; read the "
                                               "percentiles instead"])
