@@ -13,8 +13,8 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 from sheettool.base.errors import UsageError
-from sheettool.core.presets import presets_help
-from sheettool.settings import Setting, setting_name
+from sheettool.core.presets import DEFAULT_RULES, presets_help
+from sheettool.settings import KNOWN_SETTINGS, Setting, setting_name
 
 if TYPE_CHECKING:
     from sheettool.workbook.writer import WriterOptions
@@ -27,13 +27,13 @@ SETTING_OPTIONS = {"lsl": "lsl", "usl": "usl", "target": "target", "chart": "cha
 def add_evaluation_options(p: argparse.ArgumentParser) -> None:
     """The settings, limits, output and process options of evaluate and pack."""
     p.add_argument("--rules", help="a preset or rules like 1/1>3,2/3>2 (docs/command-line.md, Pattern rules). "
-                   f"Presets: {presets_help()}")
+                   f"Presets (default {DEFAULT_RULES}): {presets_help()}")
     p.add_argument("--limits-from", type=Path, metavar="PREVIOUS.xlsx", dest="limits_file",
                    help="apply the limits an earlier sheettool output carries")
     p.add_argument("--lsl", help="lower specification limit")
     p.add_argument("--usl", help="upper specification limit")
     p.add_argument("--target", help="target (nominal) value")
-    p.add_argument("--chart", help="chart kind (default: chosen from the data)")
+    p.add_argument("--chart", help=f"{KNOWN_SETTINGS['chart']}; default: chosen from the data")
     p.add_argument("--interval", help="hours between subgroups, e.g. 1 or '30 min'")
     p.add_argument("--hours-per-month", help="production hours per month")
     p.add_argument("--base-period", help="the subgroups that set the limits: all (default), 'first N' or a date range "

@@ -34,7 +34,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    "point)")
     p.add_argument("--n", help="readings per subgroup (variables) or units inspected per subgroup (p, np, u)")
     p.add_argument("--rules", default=DEFAULT_RULES, help="Shewhart and attribute charts: a preset or rules like "
-                   f"1/1>3,2/3>2 (docs/command-line.md, Pattern rules). Presets: {presets_help()}")
+                   "1/1>3,2/3>2 (docs/command-line.md, Pattern rules). "
+                   f"Presets (default {DEFAULT_RULES}): {presets_help()}")
     ewma, cusum = EwmaParameters(), CusumParameters()
     p.add_argument("--weight", help=f"EWMA: the weight of the newest point, lambda, above 0 and at most 1 "
                    f"(default {ewma.lam:g})")

@@ -13,7 +13,7 @@ PRESETS: dict[str, str] = {
 
 # What each preset holds, in words (for --rules help, the templates and the docs).
 PRESET_WORDS: dict[str, str] = {
-    "beyond-limits": "a single point beyond a control limit (the default)",
+    "beyond-limits": "a single point beyond a control limit",
     "zones": "beyond a limit, 2 of 3 beyond 2 standard errors, 4 of 5 beyond 1, 8 in a row on one side",
     "all": "the zones rules, 6 rising or falling, 14 alternating, 15 within 1 standard error, 8 beyond 1 either side",
 }
