@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from sheettool import TOOL_NAME
-from sheettool.core.presets import presets_help
+from sheettool.core.presets import PRESETS
 from sheettool.workbook import style
 from sheettool.workbook.writer.book_writer import BookWriter
 
@@ -89,7 +89,7 @@ def write_template(spec: TemplateSpec, path: Path) -> None:
         *[f"{i}. {text}" for i, text in enumerate(spec.instructions, start=2)],
         f"{len(spec.instructions) + 2}. To keep a row out of the limits, write 'exclude' in its note.",
         f"{len(spec.instructions) + 3}. The first row is a worked example: overwrite it or leave it (it is excluded).",
-        f"Rules: {presets_help()}; or rules like 1/1>3,2/3>2.",
+        f"Rules: {', '.join(PRESETS)} (sheettool evaluate --help says what each holds) or rules like 1/1>3,2/3>2.",
         "Base period, the rows that set the limits: all, first N (e.g. first 25) or dates 2026-11-01..2026-11-15.",
         f"Evaluate with:  {TOOL_NAME} evaluate THIS-FILE.xlsx",
     ]
