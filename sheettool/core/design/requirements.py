@@ -147,11 +147,12 @@ def check_requirements(req: Requirements, arl_in_control: float, arl_at_shift: f
                              got, f"at most {req.false_alarms_per_month:g}"))
     if req.arl_at_shift is not None:
         items.append(_judged("arl_at_shift", req.arl_at_shift, arl_at_shift, False,
-                             f"ARL {arl_at_shift:.1f} points at a shift of {shift:.3g} sigma",
+                             f"ARL {arl_at_shift:.1f} points at a shift of {shift:.3g} process standard deviations",
                              f"at most {req.arl_at_shift:g}"))
     if req.ats_hours is not None:
         ats = ats_hours(arl_at_shift, interval_hours)
         got = f"ATS {ats:.2f} hours" if ats is not None else "ATS unknown without the interval"
         items.append(_judged("ats_hours", req.ats_hours, ats, False,
-                             f"a shift of {shift:.3g} sigma {got}", f"within {req.ats_hours:g} h"))
+                             f"{got} at a shift of {shift:.3g} process standard deviations",
+                             f"at most {req.ats_hours:g} hours"))
     return RequirementsCheck(tuple(items), float(shift))

@@ -160,4 +160,4 @@ def _requirements(tab: Tab, check: RequirementsCheck) -> None:
         tab.row += 1
     overall = {True: "every requirement is met", False: "not every requirement is met",
                None: "some requirements cannot be judged from what was given"}[check.met]
-    tab.fact("Requirements", f"{overall} (shift judged: {check.shift:.3g} sigma)")
+    tab.fact("Requirements", f"{overall} (shift judged: {check.shift:.3g} process standard deviations)")
