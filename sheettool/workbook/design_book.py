@@ -133,7 +133,7 @@ def _curves(out: BookWriter, tab: Tab, leading: list[Candidate]) -> None:
     ws, fmt = tab.ws, tab.fmt
     _print_wide(ws)
     ws.set_column(0, len(leading), 18)
-    ws.write_string(0, 0, "Shift (sigma)", fmt["head"])
+    ws.write_string(0, 0, "Mean shift (process standard deviations)", fmt["head"])
     for r, s in enumerate(CURVE_SHIFTS, start=1):
         ws.write_number(r, 0, s)
     chart = out.scatter_chart("straight")

@@ -58,7 +58,7 @@ METHODS: dict[str, Method] = {
     "cusum": Method(
         "CUSUM: cumulative sums above and below the target",
         "C+_i = max(0, x_i - (mu0 + k sigma) + C+_(i-1)), C-_i = max(0, (mu0 - k sigma) - x_i + C-_(i-1)); "
-        "signal when either passes h sigma",
+        "signal when either passes h sigma (sigma of the plotted point: a standard error)",
         "Page (1954); run lengths: Brook and Evans (1972), Siegmund (1985)"),
 }
 
