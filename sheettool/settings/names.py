@@ -88,7 +88,6 @@ SYNONYMS: dict[str, str] = {
     "falsealarmspermonth": "false_alarms_per_month", "maxfalsealarmspermonth": "false_alarms_per_month",
     "shifttodetect": "shift", "shiftthatmatters": "shift", "shifttodetectsigma": "shift",
     "shifttodetectsd": "shift", "shiftinsigma": "shift",
-    "shiftunits": "shift_unit",
     "shifttodetectunits": "shift_unit", "shiftthatmattersunits": "shift_unit", "shiftinunits": "shift_unit",
     "requiredarlatshift": "arl_at_shift", "detectwithinpoints": "arl_at_shift", "arlatshiftatmost": "arl_at_shift",
     "arlatshift": "arl_at_shift",
@@ -100,7 +99,10 @@ SYNONYMS: dict[str, str] = {
     "timetodetectminutes": "ats_minutes",
 }
 # Labels of earlier versions (as label_key) -> (setting, the label to write now): still read, with a note.
-EARLIER_LABELS: dict[str, tuple[str, str]] = {"limitsfrom": ("base_period", "Base period")}
+EARLIER_LABELS: dict[str, tuple[str, str]] = {
+    "limitsfrom": ("base_period", "Base period"), "shiftunits": ("shift_unit", "shift_unit"),
+    "detecthours": ("ats_hours", "ats_hours"), "detectarl": ("arl_at_shift", "arl_at_shift"),
+}
 SYNONYMS.update({key: name for key, (name, _) in EARLIER_LABELS.items()})
 # Label forms with a value in minutes, converted to the hours setting by the reader of the setting.
 MINUTE_FORMS: dict[str, str] = {"interval_minutes": "interval_hours", "ats_minutes": "ats_hours"}

@@ -92,3 +92,11 @@ def test_the_earlier_label_of_the_base_period_still_reads_with_a_note():
     sheet, problems = read_settings_sheet([["Limits from", "first 25"], ["Base period", "all"]], "settings")
     assert sheet.common["base_period"].value == "all"
     assert [(p.severity, p.cell) for p in problems] == [("note", "row 1")]
+
+
+@pytest.mark.parametrize(("earlier", "now"), [("detect_hours", "ats_hours"), ("detect_arl", "arl_at_shift"),
+                                              ("shift_units", "shift_unit"), ("limits_from", "base_period")])
+def test_earlier_setting_names_still_read(earlier, now):
+    from sheettool.settings import earlier_label_note
+
+    assert setting_name(earlier) == now and "earlier name" in earlier_label_note(earlier)
