@@ -122,7 +122,7 @@ def test_a_detection_target_no_scheme_meets_says_which_and_the_nearest():
     result = design(Requirements(shift=0.5, ats_hours=0.5), Sampling(sizes=(1, 2), intervals=(1.0,)))
     assert not result.feasible
     text = " ".join(result.messages)
-    assert "ats_hours = 0.5" in text and "cannot be met" in text and "nearest" in text
+    assert "average hours to signal it, 0.5, cannot be met" in text and "nearest" in text
     best = min((c for c in result.candidates if c.check.items[0].met), key=lambda c: c.ats_hours)
     assert f"{best.ats_hours:.4g}" in text
 

@@ -45,7 +45,7 @@ def shortfall(found: list[Candidate]) -> list[str]:
             pool, key=lambda c: item[c].achieved if item[c].achieved is not None else math.inf)
         alongside = " while meeting the other requirements" if others else ""
         got = item[best]
-        messages.append(f"{name} = {got.required:g} ({REQUIREMENT_KEYS[name]}) cannot be met{alongside}; "
+        messages.append(f"the requirement {REQUIREMENT_KEYS[name]}, {got.required:g}, cannot be met{alongside}; "
                         f"the nearest scheme, {best.label} with {best.sampling_words}, achieves {got.achieved:.4g}")
     nearest = min(found, key=lambda c: (len(c.check.missed), c.ats_hours))
     messages.append(f"nearest overall: {nearest.label} with {nearest.sampling_words}: "
