@@ -10,6 +10,7 @@ from sheettool import tool_json
 from sheettool.app.json_form import run_length_json
 from sheettool.base.errors import UsageError
 from sheettool.cli.common import number, number_list, print_json, setting_value, write_stdout
+from sheettool.core.charts import CHART_KINDS
 from sheettool.core.parameters import CusumParameters, EwmaParameters
 from sheettool.core.presets import DEFAULT_RULES, presets_help
 from sheettool.core.rules import parse_rules
@@ -156,10 +157,21 @@ def _fmt(value: float | None, digits: int = 4) -> str:
     return "-" if value is None else f"{value:.{digits}g}"
 
 
+def _scheme_words(scheme: dict[str, Any]) -> str:
+    """The scheme in words for the terminal: "X-bar and R, n 5, rules 1/1>3; every 1 h, 400 h per month"."""
+    chart = scheme["chart"]
+    parts = ["X-bar chart alone" if chart == "xbar" else CHART_KINDS[chart].title, f"n {scheme['n']:g}"]
+    parts += [f"{key} {scheme[key]:g}" for key in ("lambda", "L", "k", "h", "p0", "c0") if scheme.get(key) is not None]
+    if scheme.get("rules"):
+        parts.append(f"rules {','.join(scheme['rules'])}")
+    timing = [f"every {scheme['interval_hours']:g} h" if scheme.get("interval_hours") else "",
+              f"{scheme['hours_per_month']:g} production hours per month" if scheme.get("hours_per_month") else ""]
+    return ", ".join(parts) + "".join(f"; {t}" for t in timing if t)
+
+
 def _table(doc: dict[str, Any]) -> str:
     scheme = doc["scheme"]
-    shown = ", ".join(f"{k}={v if not isinstance(v, list) else ','.join(v)}" for k, v in scheme.items()
-                      if v is not None)
+    shown = _scheme_words(scheme)
     attribute = scheme["chart"] in ATTRIBUTES
     lines = [f"Scheme: {shown}", f"Method: {doc['method']}", f"In-control ARL: {_fmt(doc['arl_in_control'])}"]
     if doc["false_alarms_per_month"] is not None:
