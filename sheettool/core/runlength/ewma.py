@@ -16,6 +16,7 @@ from dataclasses import replace
 
 import numpy as np
 
+from sheettool.core.distributions import normal_pdf
 from sheettool.core.parameters import EwmaParameters
 from sheettool.core.runlength.markov import MarkovChart, arl_only
 from sheettool.core.runlength.results import Performance, ShiftArl
@@ -69,12 +70,10 @@ class EwmaChart(MarkovChart):
 
     def transient(self, shift: float, sigma_ratio: float) -> tuple[np.ndarray, np.ndarray]:
         """Q and start of the integral equation discretized at the quadrature nodes, after a shift."""
-        from scipy import stats
-
         lam, x, w = self.lam, self.x, self.w
         scale = lam * sigma_ratio
         src = np.concatenate([[0.0], x])  # state 0 is the start, Z_0 = 0
-        dens = stats.norm.pdf((x[None, :] - (1.0 - lam) * src[:, None] - lam * shift) / scale) / scale
+        dens = normal_pdf((x[None, :] - (1.0 - lam) * src[:, None] - lam * shift) / scale) / scale
         q = np.zeros((len(src), len(src)))
         q[:, 1:] = dens * w[None, :]
         start = np.zeros(len(src))
