@@ -61,7 +61,8 @@ class Counts:
         if self.binomial:
             value = _boost._binom_pmf(k, self.n, self.p)
         else:
-            value = np.exp(special.xlogy(k, self.mu) - special.gammaln(k + 1) - self.mu)
+            with np.errstate(invalid="ignore"):
+                value = np.exp(special.xlogy(k, self.mu) - special.gammaln(k + 1) - self.mu)
         return np.where(inside, np.clip(value, 0, 1), 0.0)
 
     def cdf(self, k: np.ndarray) -> np.ndarray:
