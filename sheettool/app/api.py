@@ -5,18 +5,19 @@ from __future__ import annotations
 import hashlib
 from dataclasses import replace
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from sheettool.base.errors import InputError
 from sheettool.base.problems import Problem
-from sheettool.core.design import DesignResult, Requirements, Sampling, SearchGrid, design
 from sheettool.evaluation.evaluate import evaluate
 from sheettool.evaluation.options import options_for
 from sheettool.settings import Setting
-from sheettool.workbook.design_book import write_design_workbook
 from sheettool.workbook.reader import read_workbook
 from sheettool.workbook.report import EvaluationReport, SheetEvaluation
 from sheettool.workbook.writer import WriterOptions, write_evaluated_workbook
+
+if TYPE_CHECKING:
+    from sheettool.core.design import DesignResult, Requirements, Sampling, SearchGrid
 
 
 def default_output(input_path: Path) -> Path:
@@ -83,6 +84,9 @@ def evaluate_file(input_path: Path, output: Path | None = None,
 def design_schemes(requirements: Requirements, sampling: Sampling, grid: SearchGrid,
                    output: Path | None = None) -> DesignResult:
     """Search and rank monitoring schemes against the requirements; write the design workbook when asked."""
+    from sheettool.core.design import design  # here: an evaluation never loads the search and its calibration
+    from sheettool.workbook.design_book import write_design_workbook
+
     result = design(requirements, sampling, grid)
     if output is not None:
         write_design_workbook(result, Path(output))
