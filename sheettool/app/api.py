@@ -18,6 +18,7 @@ from sheettool.workbook.writer import WriterOptions, write_evaluated_workbook
 
 if TYPE_CHECKING:
     from sheettool.core.design import DesignResult, Requirements, Sampling, SearchGrid
+    from sheettool.core.design.candidates import Progress
 
 
 def default_output(input_path: Path) -> Path:
@@ -82,12 +83,13 @@ def evaluate_file(input_path: Path, output: Path | None = None,
 
 
 def design_schemes(requirements: Requirements, sampling: Sampling, grid: SearchGrid,
-                   output: Path | None = None) -> DesignResult:
-    """Search and rank monitoring schemes against the requirements; write the design workbook when asked."""
+                   output: Path | None = None, progress: Progress | None = None) -> DesignResult:
+    """Search and rank monitoring schemes against the requirements (telling `progress` how far the search is);
+    write the design workbook when asked."""
     from sheettool.core.design import design  # here: an evaluation never loads the search and its calibration
     from sheettool.workbook.design_book import write_design_workbook
 
-    result = design(requirements, sampling, grid)
+    result = design(requirements, sampling, grid, progress)
     if output is not None:
         write_design_workbook(result, Path(output))
     return result
