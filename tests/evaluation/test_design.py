@@ -1,6 +1,7 @@
 """Scheme design: calibration against published design pairs, ranking, bad requirements, the command and
 the extras evaluate reports (estimated limits, data shape, requirements)."""
 
+import itertools
 import zipfile
 
 import numpy as np
@@ -309,4 +310,4 @@ def test_the_search_tells_its_progress_scheme_by_scheme():
     found = design(Requirements(shift=1.0), Sampling(sizes=(1, 2), intervals=(1.0,)), grid,
                    progress=lambda done, total: told.append((done, total))).candidates
     assert told[0] == (0, 4) and told[-1] == (4, 4) == (len(found), 4)
-    assert all(a[0] <= b[0] for a, b in zip(told, told[1:], strict=False))
+    assert all(a[0] <= b[0] for a, b in itertools.pairwise(told))
