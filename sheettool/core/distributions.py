@@ -8,8 +8,13 @@ scipy.stats costs more than a small workbook's whole evaluation.
 from __future__ import annotations
 
 import numpy as np
-import scipy.special._ufuncs as _boost  # scipy's own binomial functions (Boost), those scipy.stats.binom calls
 from scipy import special
+
+try:  # the Boost functions scipy.stats.binom and beta call, kept with scipy.special's ufuncs by recent scipy
+    from scipy.special._ufuncs import _beta_ppf, _binom_cdf, _binom_pmf, _binom_sf
+except ImportError:  # a scipy from before they moved keeps them (as "pdf") with scipy.stats
+    from scipy.stats._boost import _beta_ppf, _binom_cdf, _binom_sf  # type: ignore[no-redef]
+    from scipy.stats._boost import _binom_pdf as _binom_pmf  # type: ignore[no-redef]
 
 _ROOT_TWO_PI = np.sqrt(2 * np.pi)
 
@@ -42,7 +47,7 @@ def beta_ppf(q: float, a: float, b: float) -> float:
         return 0.0
     if q == 1:
         return 1.0
-    return float(_boost._beta_ppf(q, a, b) * 1.0 + 0.0)
+    return float(_beta_ppf(q, a, b) * 1.0 + 0.0)
 
 
 class Counts:
@@ -59,7 +64,7 @@ class Counts:
         k = np.asarray(k, dtype=float)
         inside = (k >= 0) & (k <= self.top) & (k == np.floor(k))
         if self.binomial:
-            value = _boost._binom_pmf(k, self.n, self.p)
+            value = _binom_pmf(k, self.n, self.p)
         else:
             with np.errstate(invalid="ignore"):
                 value = np.exp(special.xlogy(k, self.mu) - special.gammaln(k + 1) - self.mu)
@@ -68,11 +73,11 @@ class Counts:
     def cdf(self, k: np.ndarray) -> np.ndarray:
         """P(K <= k)."""
         k = np.floor(np.asarray(k, dtype=float))
-        value = _boost._binom_cdf(k, self.n, self.p) if self.binomial else special.pdtr(k, self.mu)
+        value = _binom_cdf(k, self.n, self.p) if self.binomial else special.pdtr(k, self.mu)
         return np.where(k >= self.top, 1.0, np.where(k >= 0, np.clip(value, 0, 1), 0.0))
 
     def sf(self, k: np.ndarray) -> np.ndarray:
         """P(K > k)."""
         k = np.floor(np.asarray(k, dtype=float))
-        value = _boost._binom_sf(k, self.n, self.p) if self.binomial else special.pdtrc(k, self.mu)
+        value = _binom_sf(k, self.n, self.p) if self.binomial else special.pdtrc(k, self.mu)
         return np.where(k < 0, 1.0, np.where(k < self.top, np.clip(value, 0, 1), 0.0))
