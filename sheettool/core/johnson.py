@@ -1,6 +1,6 @@
 """The normal and Johnson (1949) SU and SB families, fitted by maximum likelihood without loading scipy.stats.
 
-The data-shape check needs three fits a characteristic and a few properties of the family kept. scipy.stats does the
+The data-shape check needs three fits per characteristic and a few properties of the family kept. scipy.stats does the
 same computation through its generic machinery, which costs most of a small workbook's evaluation (its import alone
 takes longer than the fits). Here the same maximum likelihood is done directly: the same penalized negative
 log-likelihood, the same start values (the family's SB(1, 1) or SU(1, 1) moments matched to the readings' mean and
@@ -20,7 +20,7 @@ from scipy import special
 _LOG_ROOT_TWO_PI = float(np.log(np.sqrt(2 * np.pi)))
 _LOG_LARGEST = np.log(np.finfo(float).max)  # times 100: what each unsupported reading adds to -log L
 # Mean and variance of SB(1, 1) and SU(1, 1), the start of the search: scipy.stats's own values (SB by numerical
-# integration, SU in closed form), held equal to them in tests/core/test_johnson.py.
+# integration, SU in closed form), held equal to them in tests/core/test_distributions.py.
 _START_MOMENTS = {"Johnson SB": (0.30326532985439253, 0.03335208940222002),
                   "Johnson SU": (-1.9375792053127157, 9.645324331425803)}
 

@@ -24,6 +24,7 @@ SAMPLES = {
 
 
 def test_normal_chi2_and_beta_agree_with_scipy_stats_bit_for_bit():
+    # reference: scipy.stats.norm, chi2 and beta themselves (an independent code path through their machinery)
     x = np.concatenate([RNG.normal(0.0, 4.0, 500), [0.0, 40.0, -40.0, np.inf]])
     assert np.array_equal(normal_pdf(x), stats.norm.pdf(x))
     t = np.concatenate([RNG.uniform(0.0, 200.0, 500), [0.0, -1.0]])
@@ -38,6 +39,7 @@ def test_normal_chi2_and_beta_agree_with_scipy_stats_bit_for_bit():
 @pytest.mark.parametrize(("family", "n", "p"), [("binomial", 50, 0.04), ("binomial", 1e6, 2e-4),
                                                 ("poisson", 1.0, 3.2), ("poisson", 1e8, 1e-6)])
 def test_counts_agree_with_scipy_stats_bit_for_bit(family, n, p):
+    # reference: scipy.stats.binom and poisson, including counts off the support, fractional and infinite counts
     ref = stats.binom(n, p) if family == "binomial" else stats.poisson(n * p)
     mine = Counts(family, n, p)
     k = np.concatenate([np.arange(-2.0, 40.0), [120.0, 199.5, 1e9, np.inf]])
@@ -66,11 +68,13 @@ def test_johnson_fits_are_those_of_scipy_stats(sample, name, family):
 
 
 def test_start_moments_are_scipy_stats_own():
+    # reference: scipy.stats's moments of SB(1, 1) (numerical integration) and SU(1, 1) (closed form)
     for name, family in (("Johnson SB", stats.johnsonsb), ("Johnson SU", stats.johnsonsu)):
         assert johnson._START_MOMENTS[name] == tuple(float(v) for v in family.stats(1.0, 1.0, moments="mv"))
 
 
 def test_normal_family_logpdf_is_scipy_stats_own():
+    # reference: scipy.stats.norm.logpdf at the maximum likelihood mean and standard deviation
     x = SAMPLES["normal"]
     fit = johnson.fit("normal", x)
     assert np.array_equal(fit.logpdf(x), stats.norm.logpdf(x, np.mean(x), np.std(x)))
