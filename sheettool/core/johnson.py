@@ -17,7 +17,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import special
 
-_LOG_ROOT_TWO_PI = float(np.log(np.sqrt(2 * np.pi)))
+_ROOT_TWO_PI = np.sqrt(2 * np.pi)
+_LOG_ROOT_TWO_PI = float(np.log(_ROOT_TWO_PI))
 _LOG_LARGEST = np.log(np.finfo(float).max)  # times 100: what each unsupported reading adds to -log L
 # Mean and variance of SB(1, 1) and SU(1, 1), the start of the search: scipy.stats's own values (SB by numerical
 # integration, SU in closed form), held equal to them in tests/core/test_distributions.py.
@@ -32,7 +33,7 @@ def _z(name: str, u: np.ndarray, a: float, b: float) -> np.ndarray:
 
 def _standard_pdf(name: str, u: np.ndarray, a: float, b: float) -> np.ndarray:
     """Density of the family in standard form (loc 0, scale 1), written as scipy.stats writes it."""
-    trm = np.exp(-_z(name, u, a, b) ** 2 / 2.0) / np.sqrt(2 * np.pi)
+    trm = np.exp(-_z(name, u, a, b) ** 2 / 2.0) / _ROOT_TWO_PI
     jacobian = np.sqrt(u * u + 1.0) if name == "Johnson SU" else u * (1 - u)
     return b * 1.0 / jacobian * trm
 
@@ -46,20 +47,26 @@ def _inside(name: str, u: np.ndarray) -> np.ndarray:
 
 
 def _penalized_nll(theta: np.ndarray, name: str, x: np.ndarray) -> float:
-    """-log L of (a, b, loc, scale), with scipy.stats's penalty for readings outside the support."""
+    """-log L of (a, b, loc, scale), with scipy.stats's penalty for readings outside the support and terms that are
+    not finite. Called some 600 times a fit, so it does only what changes the sum (see `fit` for the floating-point
+    state): SU's support is the whole line, where a reading that is not a number is a term that is not finite."""
     a, b, loc, scale = theta
     if not (b > 0 and a == a) or scale <= 0:
         return math.inf
     u = (x - loc) / scale
-    keep = _inside(name, u)
-    bad = u.size - int(np.count_nonzero(keep))
-    if bad:
-        u = u[keep]
-    with np.errstate(divide="ignore"):
-        terms = np.log(_standard_pdf(name, u, a, b))
+    bad = 0
+    if name == "Johnson SB":
+        keep = _inside(name, u)
+        bad = u.size - int(np.count_nonzero(keep))
+        if bad:
+            u = u[keep]
+    terms = np.log(_standard_pdf(name, u, a, b))
     finite = np.isfinite(terms)
-    bad += finite.size - int(np.count_nonzero(finite))
-    return -np.sum(terms[finite]) + bad * _LOG_LARGEST * 100 + len(x) * np.log(scale)
+    count = int(np.count_nonzero(finite))
+    if count < terms.size:
+        bad += terms.size - count
+        terms = terms[finite]
+    return -terms.sum() + bad * _LOG_LARGEST * 100 + len(x) * np.log(scale)
 
 
 def _start(name: str, x: np.ndarray) -> tuple[float, float, float, float]:
@@ -152,7 +159,8 @@ def fit(name: str, x: np.ndarray) -> Family:
         return Family(name, (float(np.mean(x)), float(np.std(x))))
     from scipy import optimize
 
-    found = optimize.fmin(_penalized_nll, _start(name, x), args=(name, x), disp=0)
+    with np.errstate(all="ignore"):  # a trial far from the readings underflows or divides by zero: a worse fit
+        found = optimize.fmin(_penalized_nll, _start(name, x), args=(name, x), disp=0)
     a, b, loc, scale = (float(v) for v in found)
     if not (b > 0 and a == a and scale > 0):
         raise ValueError(f"{name}: the likelihood search ended outside the family's parameters")
