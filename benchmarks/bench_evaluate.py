@@ -7,7 +7,11 @@ writes an autofilter instead), computing nothing. Inputs: 1k, 10k and 100k subgr
 Every measurement is its own child process; its CPU time (user + system) and peak resident memory come from the
 child's resource usage (os.wait4). Tool and floor run twice, alternating, and each one's best CPU time counts; the
 ratio tool / floor is of CPU time, which a busy machine disturbs less than wall time (both are shown).
-Also: start-up (`sheettool --version`), the demo workbook's wall time, and a scheme design's time.
+`evaluate --formulas` (live statistics and limits) is timed at the largest size too, against the same floor.
+Also: start-up (`sheettool --version`), the demo workbook's wall time, and a scheme design's time. Children run
+with Python's compiled bytecode written and reused (PYTHONDONTWRITEBYTECODE removed, one warm-up run), as an
+installed sheettool runs; the load average is printed before and after, since other work on the machine slows
+every figure.
 
     PYTHONPATH=. python benchmarks/bench_evaluate.py [--large] [SUBGROUPS ...]
 """
@@ -46,11 +50,17 @@ def make_input(path: Path, subgroups: int) -> None:
     book.close()
 
 
-def evaluate(source: Path, out: Path) -> None:
-    """The real thing: read, evaluate, write (values, no formulas)."""
+def evaluate(source: Path, out: Path, formulas: bool = False) -> None:
+    """The real thing: read, evaluate, write (values, or live formulas)."""
     from sheettool.app.api import evaluate_file
+    from sheettool.workbook.writer import WriterOptions
 
-    evaluate_file(source, out)
+    evaluate_file(source, out, writer=WriterOptions(formulas=formulas))
+
+
+def evaluate_formulas(source: Path, out: Path) -> None:
+    """`evaluate --formulas`: statistics and limits written as live formulas."""
+    evaluate(source, out, formulas=True)
 
 
 def reader_name() -> str:
@@ -113,8 +123,9 @@ def floor(source: Path, out: Path) -> None:
 
 def child(argv: list[str]) -> tuple[float, float, float]:
     """Run one child process; return (wall seconds, CPU seconds, peak resident MiB) from its resource usage."""
+    env = {k: v for k, v in os.environ.items() if k != "PYTHONDONTWRITEBYTECODE"}
     start = time.perf_counter()
-    proc = subprocess.Popen(argv, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    proc = subprocess.Popen(argv, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, env=env)
     _, status, usage = os.wait4(proc.pid, 0)
     wall = time.perf_counter() - start
     if status != 0:
@@ -132,23 +143,26 @@ def sheettool(*argv: str) -> tuple[float, float, float]:
     return min(child([sys.executable, "-m", "sheettool", *argv]) for _ in range(2))
 
 
-def by_size(folder: Path, subgroups: int) -> str:
+def by_size(folder: Path, subgroups: int, tool: str = "evaluate") -> str:
     """One row of the size table: tool and floor CPU and wall time, peak memory and the ratio."""
     source = folder / f"in-{subgroups}.xlsx"
-    make_input(source, subgroups)
-    runs: dict[str, list[tuple[float, float, float]]] = {"evaluate": [], "floor": []}
+    if not source.exists():
+        make_input(source, subgroups)
+    runs: dict[str, list[tuple[float, float, float]]] = {tool: [], "floor": []}
     for _ in range(2):
         for name, times in runs.items():
             times.append(phase(name, source, folder / f"{name}.xlsx"))
-    tool, base = (min(times, key=lambda run: run[1]) for times in runs.values())
-    return (f"| {subgroups:,} | {tool[1]:.2f} s ({tool[0]:.2f} s wall), {tool[2]:.0f} MiB "
-            f"| {base[1]:.2f} s ({base[0]:.2f} s wall), {base[2]:.0f} MiB | {tool[1] / base[1]:.1f} |")
+    best, base = (min(times, key=lambda run: run[1]) for times in runs.values())
+    label = f"{subgroups:,}" + (", --formulas" if tool == "evaluate_formulas" else "")
+    return (f"| {label} | {best[1]:.2f} s ({best[0]:.2f} s wall), {best[2]:.0f} MiB "
+            f"| {base[1]:.2f} s ({base[0]:.2f} s wall), {base[2]:.0f} MiB | {best[1] / base[1]:.1f} |")
 
 
 def main() -> None:
     """Print the machine, then the size table and the start-up, demo and design figures."""
     if len(sys.argv) > 1 and sys.argv[1] == "--phase":
-        {"evaluate": evaluate, "floor": floor}[sys.argv[2]](Path(sys.argv[3]), Path(sys.argv[4]))
+        {"evaluate": evaluate, "evaluate_formulas": evaluate_formulas, "floor": floor}[sys.argv[2]](
+            Path(sys.argv[3]), Path(sys.argv[4]))
         return
     args = sys.argv[1:]
     sizes = [int(a) for a in args if a.isdigit()] or [*SIZES, *([LARGE] if "--large" in args else [])]
@@ -159,12 +173,15 @@ def main() -> None:
         print("| subgroups of 5 | sheettool evaluate, CPU | floor, CPU | ratio |\n|---|---|---|---|")
         for subgroups in sizes:
             print(by_size(folder, subgroups), flush=True)
+        print(by_size(folder, max(sizes), "evaluate_formulas"), flush=True)
+        sheettool("--version")  # the warm-up: compiled bytecode written
         wall, cpu, peak = sheettool("--version")
         print(f"start-up, sheettool --version: {wall:.2f} s wall, {cpu:.2f} s CPU")
         wall, cpu, peak = sheettool("evaluate", str(DEMO), "-o", str(folder / "demo.xlsx"), "--quiet")
         print(f"demo workbook (3 sheets), sheettool evaluate: {wall:.2f} s wall, {cpu:.2f} s CPU, {peak:.0f} MiB")
         wall, cpu, peak = sheettool(*DESIGN)
         print(f"sheettool {' '.join(DESIGN)}: {wall:.2f} s wall, {cpu:.2f} s CPU, {peak:.0f} MiB")
+    print(f"load average at the end: {os.getloadavg()[0]:.1f}")
 
 
 if __name__ == "__main__":

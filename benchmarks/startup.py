@@ -4,13 +4,15 @@ Times, each in a fresh process (best of REPEAT wall times; the machine may be bu
 `sheettool --version`, `sheettool evaluate --help` and a plain evaluation of the demo workbook, each with the time
 its imports took (`python -X importtime`, every import of the run, the heaviest packages named) and the heavy
 libraries it loaded, so that a change making `--version` import numpy or scipy shows here.
-Targets: `--version` and `evaluate --help` under 0.3 s.
+Targets: `--version` and `evaluate --help` under 0.3 s. Children write and reuse compiled bytecode
+(PYTHONDONTWRITEBYTECODE removed), as an installed sheettool does.
 
     PYTHONPATH=. python benchmarks/startup.py
 """
 
 from __future__ import annotations
 
+import os
 import re
 import subprocess
 import sys
@@ -19,6 +21,7 @@ import time
 from pathlib import Path
 
 REPEAT = 5
+ENV = {k: v for k, v in os.environ.items() if k != "PYTHONDONTWRITEBYTECODE"}
 DEMO = Path(__file__).resolve().parents[1] / "sheettool" / "demo" / "demo-measurements.xlsx"
 HEAVY = ("numpy", "scipy.special", "scipy.optimize", "scipy.stats", "scipy.signal", "openpyxl", "xlsxwriter")
 _LINE = re.compile(r"import time:\s+(\d+) \|\s+(\d+) \|( *)(\S+)")
@@ -29,7 +32,7 @@ def _best(argv: list[str]) -> float:
     times = []
     for _ in range(REPEAT):
         start = time.perf_counter()
-        subprocess.run([sys.executable, "-m", "sheettool", *argv], capture_output=True, check=True)
+        subprocess.run([sys.executable, "-m", "sheettool", *argv], capture_output=True, check=True, env=ENV)
         times.append(time.perf_counter() - start)
     return min(times)
 
@@ -37,7 +40,7 @@ def _best(argv: list[str]) -> float:
 def _imports(argv: list[str]) -> tuple[float, list[tuple[str, float]]]:
     """Total import time of one run under -X importtime, and the top-level packages by their own total."""
     done = subprocess.run([sys.executable, "-X", "importtime", "-m", "sheettool", *argv], capture_output=True,
-                          text=True, check=True)
+                          text=True, check=True, env=ENV)
     total, tops = 0.0, {}
     for line in done.stderr.splitlines():
         match = _LINE.match(line)
@@ -55,7 +58,7 @@ def _heavy(argv: list[str]) -> list[str]:
             "with contextlib.redirect_stdout(io.StringIO()), contextlib.redirect_stderr(io.StringIO()):\n"
             "    try:\n        main(sys.argv[1:])\n    except SystemExit:\n        pass\n"
             f"print(' '.join(m for m in {HEAVY!r} if m in sys.modules))")
-    done = subprocess.run([sys.executable, "-c", code, *argv], capture_output=True, text=True, check=True)
+    done = subprocess.run([sys.executable, "-c", code, *argv], capture_output=True, text=True, check=True, env=ENV)
     return done.stdout.split()
 
 

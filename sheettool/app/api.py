@@ -5,18 +5,17 @@ from __future__ import annotations
 import hashlib
 from dataclasses import replace
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from sheettool.base.errors import InputError
 from sheettool.base.problems import Problem
-from sheettool.core.design import DesignResult, Requirements, Sampling, SearchGrid, design
-from sheettool.evaluation.evaluate import evaluate
-from sheettool.evaluation.options import options_for
-from sheettool.settings import Setting
-from sheettool.workbook.design_book import write_design_workbook
-from sheettool.workbook.reader import read_workbook
-from sheettool.workbook.report import EvaluationReport, SheetEvaluation
-from sheettool.workbook.writer import WriterOptions, write_evaluated_workbook
+
+if TYPE_CHECKING:
+    from sheettool.core.design import DesignResult, Requirements, Sampling, SearchGrid
+    from sheettool.core.design.candidates import Progress
+    from sheettool.settings import Setting
+    from sheettool.workbook.report import EvaluationReport
+    from sheettool.workbook.writer import WriterOptions
 
 
 def default_output(input_path: Path) -> Path:
@@ -48,6 +47,13 @@ def evaluate_file(input_path: Path, output: Path | None = None,
     base period and a warning saying so. `writer` chooses live formulas and the fixed document date
     of the output (see WriterOptions).
     """
+    # imported here, as the design search is in design_schemes: each command loads only its own half
+    from sheettool.evaluation.evaluate import evaluate
+    from sheettool.evaluation.options import options_for
+    from sheettool.workbook.reader import read_workbook
+    from sheettool.workbook.report import EvaluationReport, SheetEvaluation
+    from sheettool.workbook.writer import write_evaluated_workbook
+
     input_path = Path(input_path)
     settings = settings or {}
     read = read_workbook(input_path, settings)
@@ -81,9 +87,13 @@ def evaluate_file(input_path: Path, output: Path | None = None,
 
 
 def design_schemes(requirements: Requirements, sampling: Sampling, grid: SearchGrid,
-                   output: Path | None = None) -> DesignResult:
-    """Search and rank monitoring schemes against the requirements; write the design workbook when asked."""
-    result = design(requirements, sampling, grid)
+                   output: Path | None = None, progress: Progress | None = None) -> DesignResult:
+    """Search and rank monitoring schemes against the requirements (telling `progress` how far the search is);
+    write the design workbook when asked."""
+    from sheettool.core.design import design
+    from sheettool.workbook.design_book import write_design_workbook
+
+    result = design(requirements, sampling, grid, progress)
     if output is not None:
         write_design_workbook(result, Path(output))
     return result

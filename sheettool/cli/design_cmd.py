@@ -5,11 +5,13 @@ from __future__ import annotations
 import argparse
 import math
 import sys
+from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
 from sheettool import tool_json
 from sheettool.app.api import design_schemes
+from sheettool.app.batch import Progress
 from sheettool.base.errors import UsageError
 from sheettool.cli.common import number, number_list, print_json, setting_list, setting_value, write_stdout
 from sheettool.core.design import REQUIREMENT_KEYS, Candidate, DesignResult, Requirements, Sampling, SearchGrid
@@ -86,7 +88,7 @@ def run(args: argparse.Namespace) -> int:
     """Design and report; 0 whenever the design was made, whether or not a scheme meets every requirement."""
     req, sampling, grid = _inputs(args)
     try:
-        result = design_schemes(req, sampling, grid, args.output)
+        result = design_schemes(req, sampling, grid, args.output, _progress_bar())
     except ValueError as exc:
         raise UsageError(str(exc)) from None
     if args.json:
@@ -96,6 +98,19 @@ def run(args: argparse.Namespace) -> int:
     if args.output is not None:
         sys.stderr.write(f"written: {args.output}\n")
     return 0
+
+
+def _progress_bar() -> Callable[[int, int], None]:
+    """The terminal's progress bar for the search (silent when stderr is not a terminal)."""
+    bar = Progress(0)
+
+    def progress(done: int, total: int) -> None:
+        if total != bar.total:
+            bar.expect(total)
+        while bar.done < done:
+            bar.step()
+
+    return progress
 
 
 def _finite(value: float | None) -> float | None:

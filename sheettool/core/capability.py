@@ -14,6 +14,7 @@ import numpy as np
 from scipy import special
 
 from sheettool.core.constants import c4
+from sheettool.core.distributions import beta_ppf, chi2_ppf
 from sheettool.core.sigma import SigmaEstimator, SigmaMethod, sigma_estimator
 
 
@@ -233,19 +234,17 @@ def attribute_rate(count: float, units: float, kind: str, confidence: float = 0.
 
     Clopper and Pearson (1934): beta quantiles; Garwood (1936): chi2(alpha/2, 2x)/2 to chi2(1 - alpha/2, 2x + 2)/2.
     """
-    from scipy import stats
-
     confidence = _check_confidence(confidence)
     alpha = 1 - confidence
     if units <= 0:
         raise ValueError("no units inspected: the rate is undefined")
     if kind == "proportion":
-        low = float(stats.beta.ppf(alpha / 2, count, units - count + 1)) if count > 0 else 0.0
-        high = float(stats.beta.ppf(1 - alpha / 2, count + 1, units - count)) if count < units else 1.0
+        low = beta_ppf(alpha / 2, count, units - count + 1) if count > 0 else 0.0
+        high = beta_ppf(1 - alpha / 2, count + 1, units - count) if count < units else 1.0
         method = "Clopper-Pearson exact binomial interval"
     elif kind == "rate":
-        low = float(stats.chi2.ppf(alpha / 2, 2 * count)) / (2 * units) if count > 0 else 0.0
-        high = float(stats.chi2.ppf(1 - alpha / 2, 2 * count + 2)) / (2 * units)
+        low = chi2_ppf(alpha / 2, 2 * count) / (2 * units) if count > 0 else 0.0
+        high = chi2_ppf(1 - alpha / 2, 2 * count + 2) / (2 * units)
         method = "exact Poisson interval (Garwood)"
     else:
         raise ValueError(f"kind must be 'proportion' or 'rate', got {kind!r}")

@@ -13,6 +13,8 @@ from functools import cache
 import numpy as np
 from scipy import special
 
+from sheettool.core.distributions import normal_pdf
+
 MAX_SUBGROUP_SIZE = 100
 
 
@@ -38,11 +40,9 @@ def _check_n(n: int, low: int = 2) -> None:
 
 def range_cdf(w: np.ndarray | float, n: int) -> np.ndarray:
     """P(W <= w) for the range W of n independent standard normal values."""
-    from scipy import stats
-
     _check_n(n)
     w = np.atleast_1d(np.asarray(w, dtype=float))
-    phi = stats.norm.pdf(_X)
+    phi = normal_pdf(_X)
     big_phi = special.ndtr(_X)
     inner = special.ndtr(_X[None, :] + np.clip(w, 0.0, None)[:, None]) - big_phi[None, :]
     out = n * (inner ** (n - 1)) @ (phi * _XW)

@@ -3,12 +3,13 @@
 Run-length figures assume normal, independent points. Two checks on a characteristic's base-period data:
 
 - Shape. The readings are fitted by the normal and by the two unbounded/bounded Johnson (1949) families SU and SB
-  (maximum likelihood, scipy.stats), and the family with the lowest BIC (Schwarz 1978) is kept; the lognormal with a
-  shift (Johnson SL) is the boundary between SU and SB and is covered by both. A fitted family is chosen over the
-  empirical distribution of the base period because 3-sigma limits sit where a base period of a hundred readings has
-  almost no points: resampling them (bootstrap) can say nothing beyond the largest reading. Limits are put at the
-  fitted distribution's own mean +/- k standard deviations of the plotted point, so the difference from the normal
-  figure is due to the shape alone (the cost of estimating the limits is in `estimated_limits`).
+  (maximum likelihood, core/johnson.py: scipy.stats's fits without its machinery), and the family with the lowest BIC
+  (Schwarz 1978) is kept; the lognormal with a shift (Johnson SL) is the boundary between SU and SB and is covered
+  by both. A fitted family is chosen over the empirical distribution of the base period because 3-sigma limits sit
+  where a base period of a hundred readings has almost no points: resampling them (bootstrap) can say nothing
+  beyond the largest reading. Limits are put at the fitted distribution's own mean +/- k standard deviations of the
+  plotted point, so the difference from the normal figure is due to the shape alone (the cost of estimating the
+  limits is in `estimated_limits`).
 - Dependence. The lag-1 autocorrelation r1 of the plotted points, judged against the rough bound 2 / sqrt(N) for
   independent points (Box and Jenkins 1976, standard error 1 / sqrt(N) after Bartlett 1946), and the in-control ARL
   under the AR(1) model with phi = r1 (Yule-Walker) by seeded simulation.
@@ -17,25 +18,22 @@ Run-length figures assume normal, independent points. Two checks on a characteri
 from __future__ import annotations
 
 import math
-import warnings
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING
 
 import numpy as np
 from scipy.special import ndtr
 
+from sheettool.core.johnson import Family, fit
 from sheettool.core.shape_scheme import (
     DEFAULT_SEED,
     ShapeScheme,
+    ar1_block,
     ar1_scheme_arl,
     family_moments,
     johnson_draws,
     scheme_normal_arl,
     scheme_shape_arl,
 )
-
-if TYPE_CHECKING:
-    from scipy import stats
 
 DIFFERENCE_WARNED = 0.30  # relative difference of the ARL from the normal figure that earns a warning
 MIN_READINGS = 20
@@ -50,7 +48,7 @@ class ShapeCheck:
     """The in-control ARL of k-sigma limits under the fitted shape of the readings, beside the normal figure."""
 
     family: str  # "normal", "Johnson SU" or "Johnson SB"
-    parameters: tuple[float, ...]  # scipy.stats parameters of the family kept
+    parameters: tuple[float, ...]  # parameters of the family kept, in scipy.stats order
     bic: dict[str, float]  # BIC of every family that could be fitted
     skewness: float | None  # of the fitted distribution itself (None where it is not finite)
     subgroup_size: int
@@ -67,30 +65,24 @@ class ShapeCheck:
 FIT_READINGS = 20_000  # largest sample the families are fitted to; more readings add time, not information
 
 
-def _fits(x: np.ndarray) -> dict[str, tuple[stats.rv_continuous, tuple[float, ...], float]]:
+def _fits(x: np.ndarray) -> dict[str, tuple[Family, float]]:
     """Maximum likelihood fits of the candidate families with their BIC; families that fail to fit are left out.
 
     A base period of more than FIT_READINGS readings is thinned to that many, evenly spaced in the sorted readings
     (deterministic, keeping both tails), so that a 100,000-subgroup sheet fits in the time of a month's data.
     """
-    from scipy import stats
-
     if x.size > FIT_READINGS:
         x = np.sort(x)[np.linspace(0, x.size - 1, FIT_READINGS).round().astype(int)]
-    out = {"normal": (stats.norm, (float(np.mean(x)), float(np.std(x))), 0.0)}
-    for name, family in (("Johnson SU", stats.johnsonsu), ("Johnson SB", stats.johnsonsb)):
+    scored = {}
+    for name in ("normal", "Johnson SU", "Johnson SB"):
         try:
-            with warnings.catch_warnings(), np.errstate(all="ignore"):
-                warnings.simplefilter("ignore")
-                out[name] = (family, tuple(float(v) for v in family.fit(x)), 0.0)
+            with np.errstate(all="ignore"):
+                family = fit(name, x)
+                loglik = float(np.sum(family.logpdf(x)))
         except (ValueError, RuntimeError, FloatingPointError):
             continue
-    scored = {}
-    for name, (family, params, _) in out.items():
-        with np.errstate(all="ignore"):
-            loglik = float(np.sum(family.logpdf(x, *params)))
         if math.isfinite(loglik):
-            scored[name] = (family, params, -2.0 * loglik + len(params) * math.log(x.size))
+            scored[name] = (family, -2.0 * loglik + len(family.parameters) * math.log(x.size))
     return scored
 
 
@@ -111,10 +103,10 @@ def shape_check(values: np.ndarray, subgroup_size: int = 1, k: float = 3.0, simu
     if np.ptp(x) == 0:
         raise ValueError("values: every reading is the same, so there is no shape to fit")
     fits = _fits(x)
-    name = min(fits, key=lambda f: fits[f][2])
-    family, params, _ = fits[name]
-    dist = family(*params)
-    mean, sd = float(dist.mean()), float(dist.std())
+    name = min(fits, key=lambda f: fits[f][1])
+    dist = fits[name][0]
+    params = dist.parameters
+    mean, sd = dist.mean_sd()
     n = int(subgroup_size)
     arl_normal = _normal_arl(k)
     se = 0.0
@@ -155,7 +147,7 @@ def shape_check(values: np.ndarray, subgroup_size: int = 1, k: float = 3.0, simu
     if x.size < 100 and name != "normal":
         notes.append(f"the shape is judged from only {x.size} readings: the tail beyond the limits is a rough guess")
     return ShapeCheck(
-        family=name, parameters=params, bic={f: v[2] for f, v in fits.items()},
+        family=name, parameters=params, bic={f: v[1] for f, v in fits.items()},
         skewness=skewness, subgroup_size=n, arl_normal=arl_normal, arl_shape=arl,
         arl_shape_se=se, ratio=ratio,
         method=(f"shape of {x.size} readings: normal, Johnson SU and Johnson SB fitted by maximum likelihood, the "
@@ -205,11 +197,9 @@ def ar1_arl(phi: float, half_width: float, paths: int = 5_000, max_steps: int = 
             block: int = 256) -> tuple[float, float, bool]:
     """Mean run length of |X_t| > half_width for a stationary AR(1) with unit marginal variance, by simulation.
 
-    X_t = phi X_t-1 + sqrt(1 - phi^2) e_t with X_0 from the stationary law; all paths advance together in blocks
-    (scipy.signal.lfilter). Returns (ARL, standard error, censored); a censored ARL is a lower bound.
+    X_t = phi X_t-1 + sqrt(1 - phi^2) e_t with X_0 from the stationary law; all paths advance together in blocks.
+    Returns (ARL, standard error, censored); a censored ARL is a lower bound.
     """
-    from scipy import signal
-
     if not -1 < phi < 1:
         raise ValueError(f"phi must lie strictly between -1 and 1, got {phi}")
     rng = np.random.default_rng(seed)
@@ -220,7 +210,7 @@ def ar1_arl(phi: float, half_width: float, paths: int = 5_000, max_steps: int = 
     innov = math.sqrt(1.0 - phi * phi)
     while alive.size and steps < max_steps:
         e = innov * rng.standard_normal((alive.size, block))
-        x, _ = signal.lfilter([1.0], [1.0, -phi], e, axis=1, zi=(phi * state[alive])[:, None])
+        x = ar1_block(e, phi, state[alive])
         out = np.abs(x) > half_width
         hit = out.any(axis=1)
         first = np.argmax(out, axis=1)

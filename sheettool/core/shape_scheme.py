@@ -6,19 +6,16 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import TYPE_CHECKING
 
 import numpy as np
 from scipy.special import expit
 
 from sheettool.core.constants import constants
+from sheettool.core.johnson import Family
 from sheettool.core.rules import Rule, parse_rules
 from sheettool.core.runlength.montecarlo import _block_hits
 from sheettool.core.runlength.shewhart import range_beyond_probability, sd_beyond_probability
 from sheettool.core.runlength.zones import ZoneChain, normal_cell_probabilities
-
-if TYPE_CHECKING:
-    from scipy import stats
 
 DEFAULT_SEED = 20_261_202
 
@@ -77,6 +74,19 @@ class ShapeScheme:
         return self.companion is None and [r.text for r in self.rules] == ["1/1>3"]
 
 
+def ar1_block(e: np.ndarray, phi: float, start: np.ndarray) -> np.ndarray:
+    """The next block of each path of X_t = phi X_t-1 + e_t: e is (paths, steps), start the last X of each path.
+
+    A step at a time over all paths at once: the same additions as a first-order recursive filter
+    (scipy.signal.lfilter), whose module would load scipy.stats, a second of start-up.
+    """
+    out = np.empty((e.shape[1], e.shape[0]))
+    last = start
+    for t, row in enumerate(e.T):
+        last = np.add(row, phi * last, out=out[t])
+    return out.T
+
+
 def _fixed_chain_arl(rules: list[Rule], cells: np.ndarray) -> float:
     """In-control ARL of the exact zone chain (Champ and Woodall 1987) whose points fall in each cell with the given
     probabilities; the missing mass (a spread-chart signal) ends the run too."""
@@ -105,7 +115,7 @@ def scheme_normal_arl(scheme: ShapeScheme) -> float:
     return _fixed_chain_arl(zone, normal_cell_probabilities(ZoneChain(zone).cuts, 0.0, 1.0) * (1.0 - spread))
 
 
-def scheme_shape_arl(name: str, params: tuple[float, ...], dist: stats.rv_continuous, n: int,
+def scheme_shape_arl(name: str, params: tuple[float, ...], dist: Family, n: int,
                       scheme: ShapeScheme, simulations: int, seed: int) -> tuple[float, float, float, str]:
     """In-control ARL of the scheme under the normal model and under the fitted shape, its standard error and how.
 
@@ -119,7 +129,7 @@ def scheme_shape_arl(name: str, params: tuple[float, ...], dist: stats.rv_contin
     arl_normal = scheme_normal_arl(scheme)
     if name == "normal":
         return arl_normal, arl_normal, 0.0, "the normal distribution fits best, so the normal figure stands"
-    mean, sd = float(dist.mean()), float(dist.std())
+    mean, sd = dist.mean_sd()
     if n == 1:
         inner = np.diff(np.concatenate([[0.0], dist.cdf(mean + cuts * sd), [1.0]]))
         cells = np.zeros(2 * len(cuts) + 1)
@@ -152,8 +162,6 @@ def ar1_scheme_arl(phi: float, half_width: float, k: float, scheme: ShapeScheme,
     rules are the engine's own predicates on each block; the spread chart, whose readings the AR(1) of the plotted
     points leaves alone, signals independently with its normal probability. Returns (ARL, standard error, censored).
     """
-    from scipy import signal  # imported here: the start-up of commands that never simulate stays short
-
     if not -1 < phi < 1:
         raise ValueError(f"phi must lie strictly between -1 and 1, got {phi}")
     rules = list(scheme.rules)
@@ -171,7 +179,7 @@ def ar1_scheme_arl(phi: float, half_width: float, k: float, scheme: ShapeScheme,
         extra = (range_beyond_probability if scheme.companion == "range" else sd_beyond_probability)(int(scheme.n))
     while alive.size and steps < max_steps:
         e = innov * rng.standard_normal((alive.size, block))
-        x, _ = signal.lfilter([1.0], [1.0, -phi], e, axis=1, zi=(phi * state[alive])[:, None])
+        x = ar1_block(e, phi, state[alive])
         full = np.concatenate([last[alive], scale * x], axis=1)
         out = _block_hits(full, rules, context)
         if extra > 0.0:

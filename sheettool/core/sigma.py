@@ -24,6 +24,7 @@ import numpy as np
 from scipy import special
 
 from sheettool.core.constants import c4, d2, d3
+from sheettool.core.distributions import chi2_logpdf, chi2_ppf
 
 
 class SigmaMethod(Enum):
@@ -116,17 +117,13 @@ class SigmaEstimator:
 
     def logpdf(self, w: np.ndarray) -> np.ndarray:
         """log density of W at w > 0."""
-        from scipy import stats
-
         w = np.asarray(w, dtype=float)
         t = self.nu * (w / self.scale) ** 2
-        return stats.chi2.logpdf(t, self.nu) + np.log(2.0 * self.nu * w / self.scale**2)
+        return chi2_logpdf(t, self.nu) + np.log(2.0 * self.nu * w / self.scale**2)
 
     def ppf(self, q: float) -> float:
         """The q-quantile of W."""
-        from scipy import stats
-
-        return float(self.scale * math.sqrt(stats.chi2.ppf(q, self.nu) / self.nu))
+        return float(self.scale * math.sqrt(chi2_ppf(q, self.nu) / self.nu))
 
 
 def _chi_shortfall(nu: float) -> float:

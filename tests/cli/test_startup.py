@@ -44,3 +44,17 @@ def test_special_functions_give_the_values_of_scipy_stats():
     for dof in (1, 4, 24, 3.5, 1000):
         assert np.array_equal(special.chdtr(dof, t), stats.chi2.cdf(t, dof))
         assert np.array_equal(special.chdtrc(dof, t), stats.chi2.sf(t, dof))
+
+
+def test_an_evaluation_loads_neither_scipy_stats_nor_scipy_signal(tmp_path):
+    # Their import costs more than a small workbook's whole evaluation; the distributions come from
+    # core/distributions.py and core/johnson.py (held to scipy.stats in tests/core/test_distributions.py).
+    from sheettool.demo.scenario import BUNDLED
+
+    argv = ["evaluate", str(BUNDLED), "-o", str(tmp_path / "out.xlsx"), "--quiet"]
+    code = _LOADED.replace('print(" ".join(sorted({name.split(".")[0] for name in sys.modules})))',
+                           'print(" ".join(sorted(sys.modules)))')
+    done = subprocess.run([sys.executable, "-c", code, *argv], capture_output=True, text=True, check=True)
+    loaded = set(done.stdout.split())
+    assert "sheettool.core.data_shape" in loaded and (tmp_path / "out.xlsx").exists()
+    assert not loaded & {"scipy.stats", "scipy.signal"}

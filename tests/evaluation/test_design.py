@@ -1,6 +1,7 @@
 """Scheme design: calibration against published design pairs, ranking, bad requirements, the command and
 the extras evaluate reports (estimated limits, data shape, requirements)."""
 
+import itertools
 import zipfile
 
 import numpy as np
@@ -301,3 +302,13 @@ def test_cli_reads_hours_as_the_settings_do(run_cli):
     assert words["requirements"]["ats_hours"] == 1.5
     bad = run_cli("design", "--ats-hours", "2 days")
     assert bad.code == 2 and "option --ats-hours" in bad.err and "hours (h) or minutes (min)" in bad.err
+
+
+def test_the_search_tells_its_progress_scheme_by_scheme():
+    # the terminal's progress bar is fed (schemes judged, schemes in all): from none to every scheme, never back
+    told: list[tuple[int, int]] = []
+    grid = SearchGrid(presets=("beyond-limits",), lambdas=(), ks=(0.5,))
+    found = design(Requirements(shift=1.0), Sampling(sizes=(1, 2), intervals=(1.0,)), grid,
+                   progress=lambda done, total: told.append((done, total))).candidates
+    assert told[0] == (0, 4) and told[-1] == (4, 4) == (len(found), 4)
+    assert all(a[0] <= b[0] for a, b in itertools.pairwise(told))

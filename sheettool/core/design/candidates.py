@@ -13,6 +13,7 @@ ARLs at the shift once per (setting, n).
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 
 from sheettool.core.charts import CHART_KINDS
@@ -132,12 +133,20 @@ def _candidate(family: str, scheme: Scheme, preset: str | None, n: int, interval
                      check=check_requirements(req, arl0, rl.arl, interval, delta))
 
 
-def candidates(req: Requirements, sampling: Sampling, grid: SearchGrid) -> list[Candidate]:
+Progress = Callable[[int, int], None]  # told (schemes judged, schemes in all) as the search goes
+
+
+def candidates(req: Requirements, sampling: Sampling, grid: SearchGrid,
+               progress: Progress | None = None) -> list[Candidate]:
     """Every scheme of the grid at every allowed (n, interval), calibrated to that interval's in-control target;
     schemes meeting every requirement first, each group by ATS at the shift."""
     delta = req.delta()
-    out = []
-    for n, interval in sampling.pairs():
+    out: list[Candidate] = []
+    pairs = sampling.pairs()
+    total = len(pairs) * (len(grid.presets) + len(grid.lambdas) + len(grid.ks))
+    for n, interval in pairs:
+        if progress is not None:
+            progress(len(out), total)
         target = req.target_arl(interval)
         for preset in grid.presets:
             scheme = Scheme(shewhart_chart(n), rules=tuple(parse_rules(preset)), n=n)
@@ -151,5 +160,7 @@ def candidates(req: Requirements, sampling: Sampling, grid: SearchGrid) -> list[
             plan = CusumParameters(k, cusum_decision_interval(k, target))
             arl0 = run_length(Scheme("cusum", cusum=plan), 0.0).arl
             out.append(_candidate("cusum", Scheme("cusum", n=n, cusum=plan), None, n, interval, arl0, req, delta))
+    if progress is not None:
+        progress(len(out), total)
     out.sort(key=lambda c: (not c.meets, c.ats_hours, c.measurements_per_hour, -c.arl_in_control))
     return out

@@ -11,7 +11,7 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from sheettool.core.design.calibration import check_target
-from sheettool.core.design.candidates import Candidate, Sampling, SearchGrid, candidates
+from sheettool.core.design.candidates import Candidate, Progress, Sampling, SearchGrid, candidates
 from sheettool.core.design.requirements import Requirements
 from sheettool.core.design.words import METHOD, no_sampling, shortfall, trade_off
 from sheettool.core.runlength.scheme import CURVE_RUNS, scheme_run_lengths
@@ -34,8 +34,10 @@ class DesignResult:
     method: str = ""
 
 
-def design(req: Requirements, sampling: Sampling | None = None, grid: SearchGrid | None = None) -> DesignResult:
-    """Search, rank and explain; ValueError for malformed requirements, a result flag when none can be met."""
+def design(req: Requirements, sampling: Sampling | None = None, grid: SearchGrid | None = None,
+           progress: Progress | None = None) -> DesignResult:
+    """Search, rank and explain; ValueError for malformed requirements, a result flag when none can be met.
+    `progress`, when given, is told (schemes judged, schemes in all) as the search goes."""
     sampling = sampling or Sampling()
     grid = grid or SearchGrid()
     delta = req.delta()
@@ -51,7 +53,7 @@ def design(req: Requirements, sampling: Sampling | None = None, grid: SearchGrid
         check_target(req.target_arl(interval))
     if not pairs:
         return DesignResult(req, sampling, grid, delta, [], False, [no_sampling(sampling)], [], notes, METHOD)
-    found = candidates(req, sampling, grid)
+    found = candidates(req, sampling, grid, progress)
     feasible = bool(found) and found[0].meets
     messages = [] if feasible else shortfall(found)
     return DesignResult(req, sampling, grid, delta, found, feasible, messages, trade_off(found, delta),

@@ -20,6 +20,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from sheettool.core.distributions import Counts
 from sheettool.core.rules import Rule
 from sheettool.core.runlength.zones import ZoneChain, discrete_cell_probabilities
 
@@ -80,11 +81,9 @@ class CountModel:
         above, the survival function). The work is thus a few points per cut, however many units are inspected
         (1e12 units inspected once needed an array of 4e10 counts).
         """
-        from scipy import stats
-
         self.check_rate(rate)
         rate = rate or RATE_FLOOR
-        dist = stats.binom(float(self.n), rate) if self.family == "binomial" else stats.poisson(self.n * rate)
+        dist = Counts(self.family, self.n, rate)
         top = float(self.n) if self.family == "binomial" else None
         thresholds = self.mean0 + np.asarray(cuts, dtype=float) * self.se0
         near = np.unique(np.floor(thresholds)[:, None] + np.arange(-2, 4)[None, :])

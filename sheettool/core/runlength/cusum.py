@@ -21,7 +21,6 @@ from __future__ import annotations
 
 import numpy as np
 from scipy import sparse, special
-from scipy.sparse.csgraph import breadth_first_order
 
 from sheettool.core.runlength.markov import MarkovChart, arl_only
 
@@ -131,6 +130,8 @@ class TwoSidedCusum(MarkovChart):
             for b, wb in ((i, 1.0 - f), (i + 1, f)):
                 if wa * wb > 0 and a < m and b < m:
                     weights[a * m + b] = wa * wb
+        from scipy.sparse.csgraph import breadth_first_order  # here: evaluations without a CUSUM never load it
+
         graph = sparse.csr_matrix((np.ones(len(rows)), (rows, dest)), shape=(m * m, m * m))
         reach = np.unique(np.concatenate([breadth_first_order(graph, s, return_predecessors=False)
                                           for s in weights]))

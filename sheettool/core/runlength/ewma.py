@@ -16,6 +16,7 @@ from dataclasses import replace
 
 import numpy as np
 
+from sheettool.core.distributions import normal_pdf
 from sheettool.core.parameters import EwmaParameters
 from sheettool.core.runlength.markov import MarkovChart, arl_only
 from sheettool.core.runlength.results import Performance, ShiftArl
@@ -69,12 +70,10 @@ class EwmaChart(MarkovChart):
 
     def transient(self, shift: float, sigma_ratio: float) -> tuple[np.ndarray, np.ndarray]:
         """Q and start of the integral equation discretized at the quadrature nodes, after a shift."""
-        from scipy import stats
-
         lam, x, w = self.lam, self.x, self.w
         scale = lam * sigma_ratio
         src = np.concatenate([[0.0], x])  # state 0 is the start, Z_0 = 0
-        dens = stats.norm.pdf((x[None, :] - (1.0 - lam) * src[:, None] - lam * shift) / scale) / scale
+        dens = normal_pdf((x[None, :] - (1.0 - lam) * src[:, None] - lam * shift) / scale) / scale
         q = np.zeros((len(src), len(src)))
         q[:, 1:] = dens * w[None, :]
         start = np.zeros(len(src))
@@ -91,10 +90,17 @@ def drawn_limits_arl(chart: EwmaChart, shift: float, sigma_ratio: float = 1.0, t
     P(N = t + 1 | N > t) has settled to the asymptotic chain's; the rest of the sum is then geometric.
     """
     lam, scale = chart.lam, chart.lam * sigma_ratio
+    spread, height = -0.5 / (scale * scale), 1.0 / (scale * np.sqrt(2.0 * np.pi))
+    unit_x, unit_w = _nodes(-1.0, 1.0, chart.panels)  # the nodes on [-h_t, h_t] are these times h_t
 
-    def kernel(to: np.ndarray, frm: np.ndarray) -> np.ndarray:  # f(to | frm), rows frm: the normal density
-        u = (to[None, :] - (1.0 - lam) * frm[:, None] - lam * shift) / scale
-        return np.exp(-0.5 * u * u) / (scale * np.sqrt(2.0 * np.pi))
+    def step_of(to: np.ndarray, weights: np.ndarray, frm: np.ndarray) -> np.ndarray:
+        """w_j f(to_j | frm_i), rows frm: the normal density, computed in place (the hot loop of a design)."""
+        u = np.subtract.outer((1.0 - lam) * frm + lam * shift, to)
+        u *= u
+        u *= spread
+        np.exp(u, out=u)
+        u *= weights * height
+        return u
 
     widening = int(np.ceil(np.log(tail) / (2.0 * np.log1p(-lam)))) if lam < 1.0 else 0
     arl, x, g, hazard = 1.0, np.zeros(1), np.ones(1), np.nan  # P(N > 0) = 1; Z_0 = 0 with mass 1
@@ -102,12 +108,12 @@ def drawn_limits_arl(chart: EwmaChart, shift: float, sigma_ratio: float = 1.0, t
     for t in range(1, _MAX_POINTS):
         if t <= widening:
             h_t = chart.L * np.sqrt(lam / (2.0 - lam) * -np.expm1(2.0 * t * np.log1p(-lam)))
-            nodes, weights = _nodes(-h_t, h_t, chart.panels)
-            step = kernel(nodes, x) * weights[None, :]
+            nodes = h_t * unit_x
+            step = step_of(nodes, h_t * unit_w, x)
         else:  # the asymptotic chain's step (the first one from the last widening nodes)
             if settled is None and t > widening + 1:
-                settled = kernel(chart.x, chart.x) * chart.w[None, :]
-            step = kernel(chart.x, x) * chart.w[None, :] if settled is None else settled
+                settled = step_of(chart.x, chart.w, chart.x)
+            step = step_of(chart.x, chart.w, x) if settled is None else settled
             nodes = chart.x
         before, g, x = float(g.sum()), g @ step, nodes
         survival = float(g.sum())

@@ -27,9 +27,14 @@ def normal_sampler(shift: float, sigma_ratio: float) -> Sampler:
     return lambda rng, shape: shift + sigma_ratio * rng.standard_normal(shape)
 
 
+def _positions(width: int) -> type[np.signedinteger]:
+    """The narrowest integer type for positions and counts within a block: 16 bits halve the memory traffic."""
+    return np.int16 if width < np.iinfo(np.int16).max else np.int64
+
+
 def _streak(flag: np.ndarray) -> np.ndarray:
     """Length of the run of True ending at each position, along axis 1."""
-    idx = np.arange(flag.shape[1])
+    idx = np.arange(flag.shape[1], dtype=_positions(flag.shape[1]))
     last_break = np.maximum.accumulate(np.where(flag, -1, idx), axis=1)
     return idx - last_break
 
@@ -49,7 +54,7 @@ def _block_hits(full: np.ndarray, rules: list[Rule], context: int) -> np.ndarray
                 if rule.k == 1:
                     hit |= flag[:, context:]
                     continue
-                csum = np.cumsum(flag, axis=1, dtype=np.int32)
+                csum = np.cumsum(flag, axis=1, dtype=_positions(full.shape[1]))
                 width = full.shape[1]
                 # flagged points among the last m ending at each block position: csum[t] - csum[t - m]
                 count = csum[:, context:] - csum[:, context - rule.m:width - rule.m]
