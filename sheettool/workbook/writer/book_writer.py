@@ -15,6 +15,7 @@ from dataclasses import dataclass
 from typing import cast
 
 import xlsxwriter
+from xlsxwriter.chart_line import ChartLine
 from xlsxwriter.chart_scatter import ChartScatter
 
 from sheettool.base.problems import Problem
@@ -116,6 +117,16 @@ class BookWriter:
     def scatter_chart(self, subtype: str) -> ChartScatter:
         """A new native scatter chart ("straight" or "straight_with_markers"), inserted into a tab by its writer."""
         return cast(ChartScatter, self.book.add_chart({"type": "scatter", "subtype": subtype}))
+
+    def line_chart(self) -> ChartLine:
+        """A new native line chart (points in sequence on a category axis), inserted into a tab by its writer."""
+        return cast(ChartLine, self.book.add_chart({"type": "line"}))
+
+    def protect(self, password: str) -> None:
+        """Lock every sheet (cells in an unlocked format stay open for typing); an empty password locks without one."""
+        for ws in self._sheets:
+            ws.protect(password, {"format_columns": False, "select_locked_cells": True,
+                                  "select_unlocked_cells": True})
 
     def close(self) -> None:
         """Write the workbook's file."""

@@ -8,7 +8,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from sheettool.core.capability import AttributeRate, Capability
+from sheettool.core.capability import AttributeRate
 from sheettool.core.data import Measurements
 from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook import style
@@ -17,9 +17,10 @@ from sheettool.workbook.writer.book_writer import BookWriter
 from sheettool.workbook.writer.data_tab import DataLayout
 from sheettool.workbook.writer.methods import method
 from sheettool.workbook.writer.notes_tab import CAUTION
+from sheettool.workbook.writer.one_page import period_words, spec_of
 from sheettool.workbook.writer.performance_tab import shift_heading
 from sheettool.workbook.writer.tab import Tab
-from sheettool.workbook.writer.trust_block import has_checks, write_trust_block
+from sheettool.workbook.writer.trust_block import write_trust_block
 
 LIMIT_KEYS = (("center", "Center line"), ("lcl", "LCL"), ("ucl", "UCL"))
 
@@ -48,24 +49,8 @@ def _spans(mask: np.ndarray) -> str:
 
 
 def _spec_words(result: CharacteristicResult) -> str:
-    cap = result.capability
-    values = {"LSL": None, "USL": None, "target": None}
-    if isinstance(cap, Capability):
-        values = {"LSL": cap.lsl, "USL": cap.usl, "target": cap.target}
-    else:
-        for key, name in (("lsl", "LSL"), ("usl", "USL"), ("target", "target")):
-            if key in result.settings:
-                values[name] = result.settings[key].value  # type: ignore[assignment]
-    given = [f"{k} {v:g}" if isinstance(v, int | float) else f"{k} {v}" for k, v in values.items() if v is not None]
-    return ", ".join(given) if given else "none given"
-
-
-def _period(result: CharacteristicResult) -> str:
-    ch = result.characteristic
-    dates = [d for d in ch.dates if d is not None]
-    if dates:
-        return f"{min(dates):%Y-%m-%d %H:%M} to {max(dates):%Y-%m-%d %H:%M}"
-    return f"{ch.labels[0]} to {ch.labels[-1]}" if ch.labels else "unknown"
+    given = spec_of(result).lines()
+    return ", ".join(f"{k} {v:g}" for k, v in given) if given else "none given"
 
 
 def _counts(result: CharacteristicResult) -> str:
@@ -79,13 +64,8 @@ def _counts(result: CharacteristicResult) -> str:
     return ", ".join(parts)
 
 
-def zones_in_use(result: CharacteristicResult) -> bool:
-    """Zone lines are drawn when a rule other than the plain 3-sigma limit looks at zones."""
-    return any(r.is_zone and not (r.k == 1 and r.m == 1 and r.z >= 3) for r in result.rules)
-
-
 def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult, layout: DataLayout,
-                         table: str) -> EvaluationWritten:
+                         table: str, heading: cells.PageHeading) -> EvaluationWritten:
     """Write the evaluation tab; return the names of its constant limits (for the data tab's formulas).
 
     `table` names the tab's signal table (unique in the workbook).
@@ -113,33 +93,34 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     tab.fact("Points that set the limits", _spans(np.asarray(fit.base, dtype=bool)), wrap=True)
     tab.fact("Sigma within", f"{fit.sigma_within:.6g} ({fit.sigma_words})")
     tab.fact("Rules in use", "; ".join(f"{r.text}: {r.words}" for r in result.rules), wrap=True)
-    tab.fact("Period covered", _period(result))
+    tab.fact("Period covered", period_words(result))
     tab.fact("Counts", _counts(result))
     _limits_table(out, tab, result, layout, written)
+    _capability(tab, result)  # the first page: what was charted, its limits and its capability
     tab.row += 1
-    breaks = [tab.row]  # the charts start a printed page, two to a page, right after the limits
-    zones = zones_in_use(result)
+    breaks = [tab.row]  # the charts start a printed page, two to a page
+    zones = charts.zones_in_use(result.rules)
     unit = ch.unit if isinstance(ch.data, Measurements) else ""
+    spec = spec_of(result)
     for i, sc in enumerate(layout.stats.values()):
         if i and i % 2 == 0:
             breaks.append(tab.row)
         chart = charts.control_chart(out, layout, sc, zones, f"{sc.stat.label}: {ch.name}", unit,
-                                     [s for s in result.signals if s.statistic == sc.stat.name])
+                                     [s for s in result.signals if s.statistic == sc.stat.name], ch.excluded,
+                                     spec if sc.stat.name == "individual" else None)
         ws.insert_chart(tab.row, 0, chart, {"x_offset": 4, "y_offset": 4})
         tab.row += style.CHART_ROWS
-    if has_checks(result):
-        breaks.append(tab.row)  # then the trust block and capability on a page of their own
+    breaks.append(tab.row)  # then how far to trust the limits and how the scheme behaves on a page of their own
     write_trust_block(tab, result)
-    _capability(tab, result)
-    tab.row += 1
-    breaks.append(tab.row)
-    ws.set_h_pagebreaks(breaks)
-    _signals(tab, result, table)
     _performance(tab, result, links.performance)
     tab.row += 1
     tab.across(0, 4, CAUTION, "caution")
     tab.fit(CAUTION, sum(style.EVAL_COLUMNS), least=3)  # room around the caution, whatever its length
-    cells.print_setup(ws, ch.name)
+    tab.row += 1
+    breaks.append(tab.row)  # the signals last, on pages of their own, their table head on every page
+    ws.set_h_pagebreaks(breaks)
+    _signals(tab, result, table)
+    cells.print_setup(ws, heading)
     return written
 
 
@@ -221,6 +202,7 @@ def _signals(tab: Tab, result: CharacteristicResult, table: str) -> None:
         ws.write_string(top + i, 2, labels.get(s.statistic, s.statistic))
         ws.write_string(top + i, 3, s.rule)
         ws.write_string(top + i, 4, s.words)
+    tab.ws.repeat_rows(top)
     ws.add_table(top, 0, top + len(result.signals), 4, {
         "name": table,
         "style": "Table Style Light 1",

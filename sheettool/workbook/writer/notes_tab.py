@@ -46,7 +46,7 @@ class Stamp:
 
 
 def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], stamp: Stamp,
-                    as_values: list[str], eval_tabs: list[str]) -> None:
+                    as_values: list[str], eval_tabs: list[str], heading: cells.PageHeading) -> None:
     """Write the method and audit notes as label / text rows, for one input or a pack of them."""
     ws, fmt, live = tab.ws, tab.fmt, out.live
     results = [result for report in reports for result in report.characteristics]
@@ -118,7 +118,7 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
         line("None", "no problems were found while reading and evaluating")
     for p in problems:
         line(p.severity, f"{p.where}: {p.message}")
-    cells.print_setup(ws, "method and audit of " + (reports[0].input.name if len(reports) == 1 else "the pack"))
+    cells.print_setup(ws, heading)
 
 
 def _check_methods(result: CharacteristicResult) -> list[tuple[str, str]]:
@@ -152,13 +152,11 @@ def _constants_words(n: int) -> str:
             f"B3 {k.B3:.6f}, B4 {k.B4:.6f}, D3 {k.D3:.6f}, D4 {k.D4:.6f}")
 
 
-def stamp_for(reports: list[EvaluationReport], given: dt.datetime | None) -> Stamp:
-    """The fixed document date: --timestamp when given, else the latest input's modification time (UTC)."""
+def stamp_for(given: dt.datetime | None, now: dt.datetime | None = None) -> Stamp:
+    """The document date: --timestamp when given (a re-run then gives the same file), else the evaluation
+    time (UTC, whole seconds)."""
     if given is not None:
         return Stamp(given.replace(tzinfo=None) if given.tzinfo is None else
                      given.astimezone(dt.UTC).replace(tzinfo=None), "given with --timestamp")
-    latest = max(r.input.stat().st_mtime for r in reports)
-    when = dt.datetime.fromtimestamp(latest, tz=dt.UTC).replace(tzinfo=None, microsecond=0)
-    return Stamp(when, "the input file's modification time, UTC" if len(reports) == 1 else
-                 "the latest input file's modification time, UTC")
-
+    when = (now or dt.datetime.now(dt.UTC)).astimezone(dt.UTC).replace(tzinfo=None, microsecond=0)
+    return Stamp(when, "the evaluation time, UTC")

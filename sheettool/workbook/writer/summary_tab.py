@@ -27,11 +27,13 @@ def write_pack_workbook(rows: list[PackRow], period: Period | None, evaluated: l
     """
     reports = [report for _, report in evaluated]
     keys = [pack_key(source, r.sheet) for source, report in evaluated for r in report.characteristics]
-    write_workbook(reports, path, options, Summary(SUMMARY_TAB, lambda tab, eval_tabs:
-                                                   _write_summary(tab, rows, period, eval_tabs)), block_keys=keys)
+    summary = Summary(SUMMARY_TAB, lambda tab, eval_tabs, heading: _write_summary(tab, rows, period, eval_tabs,
+                                                                                   heading))
+    write_workbook(reports, path, options, summary, block_keys=keys)
 
 
-def _write_summary(tab: Tab, rows: list[PackRow], period: Period | None, eval_tabs: list[str]) -> None:
+def _write_summary(tab: Tab, rows: list[PackRow], period: Period | None, eval_tabs: list[str],
+                   heading: cells.PageHeading) -> None:
     ws, fmt = tab.ws, tab.fmt
     ws.write_string(0, 0, "Review summary", fmt["title"])
     words = f"points dated {period.label}" if period else "all points of each workbook"
@@ -70,4 +72,4 @@ def _write_summary(tab: Tab, rows: list[PackRow], period: Period | None, eval_ta
     for col, width in enumerate(WIDTHS):
         ws.set_column(col, col, width)
     ws.freeze_panes(top + 1, 3)
-    cells.print_setup(ws, "review summary")
+    cells.print_setup(ws, heading)
