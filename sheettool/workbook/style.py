@@ -40,6 +40,7 @@ EVAL_COLUMNS = (24, 18, 18, 14, 66)
 PERFORMANCE_COLORS = (SLATE, AUBERGINE, STEEL, "#7D5BA6", "#B0761C", "#3F7FA8")
 PERFORMANCE_MARKERS = ("square", "diamond", "triangle", "circle", "x", "star")
 PERFORMANCE_DASHES = ("solid", "long_dash", "dash_dot", "round_dot", "dash", "long_dash_dot")
+PERCENT_STATISTICS = ("proportion",)  # statistics that are rates: shown as percentages
 FONT_SIZE = 11  # points: the workbook's body text
 LINE_HEIGHT = 15  # points: one line of body text, the default row height
 HEAD_HEIGHT = 2 * LINE_HEIGHT  # points: a table head whose words wrap to two lines
@@ -93,7 +94,7 @@ def series_look(role: str, points: int, varies: bool = False) -> dict[str, Any]:
         line = lines[role]
         if varies:
             return {"line": {"none": True},
-                    "marker": {"type": "short_dash", "size": max(3, min(12, 600 // max(points, 1))),
+                    "marker": {"type": "long_dash", "size": max(3, min(12, 600 // max(points, 1))),
                                "border": {"color": line["color"], "width": line["width"]},
                                "fill": {"color": line["color"]}}}
         return {"line": line, "marker": {"type": "none"}}
@@ -117,6 +118,12 @@ def performance_look(i: int) -> dict[str, Any]:
                        "border": {"color": color}, "fill": {"color": "#FFFFFF"}}}
 
 
+def limit_role(statistic: str, decimals: int) -> str:
+    """The cell format of a statistic's center line and limits: a percentage for rates, else two decimals more
+    than the readings have."""
+    return "percent2" if statistic in PERCENT_STATISTICS else f"dec{min(10, decimals + 2)}"
+
+
 def number_format(decimals: int) -> str:
     """A fixed-decimals number format, e.g. 3 -> 0.000."""
     return "0" if decimals <= 0 else "0." + "0" * decimals
@@ -138,6 +145,7 @@ def formats(book: Workbook, decimals: int = 4) -> Formats:
         "head_note": book.add_format({"bold": True, "bg_color": MIST, "bottom": 1, "border_color": HAIRLINE,
                                       "text_wrap": True, "valign": "top", "align": "left", "indent": 2}),
         "text": book.add_format({"valign": "top"}),
+        "copied_text": book.add_format({"indent": 1}),
         "text_right": book.add_format({"valign": "top", "align": "right"}),
         "note": book.add_format({"valign": "top", "align": "left", "indent": 2, "text_wrap": True}),
         "wrap": book.add_format({"text_wrap": True, "valign": "top"}),

@@ -32,10 +32,11 @@ def test_demo_end_to_end(run_cli, demo_copy, tmp_path):
     for label, stat in (("Subgroup mean", "mean"), ("Subgroup range", "range")):
         lim = char["limits"][stat]
         assert rows[label] == pytest.approx((lim["center"], lim["lcl"], lim["ucl"]), rel=1e-12)
-    # Native chart objects: one per plotted statistic (2 + 1 + 2) and the ARL-against-shift chart.
+    # Native chart objects: one per plotted statistic (2 + 1 + 2) on the chart tabs and again on the one-page
+    # summaries, a histogram for each of the two measured characteristics, and the ARL-against-shift chart.
     with zipfile.ZipFile(out) as z:
         charts = [n for n in z.namelist() if n.startswith("xl/charts/chart")]
-    assert len(charts) == 6
+    assert len(charts) == 2 * 5 + 2 + 1
 
 
 def test_demo_leak_test_and_crimp_force_sheets(run_cli, demo_copy, tmp_path):

@@ -153,10 +153,11 @@ def control_chart(out: BookWriter, layout: DataLayout, sc: StatColumns, zones: b
     if win.first:
         stat = _last(stat, win.first)
         title += f" ({win.rule})"
-        out.problems.append(Problem("note", f"the {sc.stat.label} chart draws the {win.rule}: a chart's points "
-                                    "take one row each of the hidden chart-lines tab, within the format's "
-                                    f"{format_limits.ROWS:,} rows; every subgroup is on the data tab",
-                                    file=layout.file, sheet=layout.sheet))
+        note = Problem("note", f"the {sc.stat.label} chart draws the {win.rule}: a chart's points take one row "
+                       f"each of the hidden chart-lines tab, within the format's {format_limits.ROWS:,} rows; every "
+                       "subgroup is on the data tab", file=layout.file, sheet=layout.sheet)
+        if note not in out.problems:  # once, though the summary and the chart tab both draw it
+            out.problems.append(note)
     m = stat.values.size
     chart = out.line_chart()
     legend_off: list[int] = []
@@ -210,7 +211,8 @@ def control_chart(out: BookWriter, layout: DataLayout, sc: StatColumns, zones: b
                       "line": {"color": style.HAIRLINE}})
     y_name = chart_text(f"{stat.label}{f' ({unit})' if unit else ''}")
     chart.set_y_axis({**y_axis, "name": y_name, "name_font": {"size": 9}, "crossing": "min",
-                      "num_font": {"size": 8}, "num_format": style.number_format(_axis_decimals(y_axis["major_unit"])),
+                      "num_font": {"size": 8},
+                      "num_format": axis_format(y_axis["major_unit"], stat.name in style.PERCENT_STATISTICS),
                       "major_gridlines": {"visible": True, "line": {"color": style.MIST, "width": 0.5}},
                       "line": {"color": style.HAIRLINE}})
     chart.set_legend({"position": "bottom", "font": {"size": 8}, "delete_series": legend_off})
@@ -230,6 +232,12 @@ def _last(stat: PlottedStatistic, first: int) -> PlottedStatistic:
 def _zone(stat: PlottedStatistic, z: float) -> np.ndarray:
     """A zone line z standard errors from the center, kept between the limits (a floored LCL stays the floor)."""
     return np.clip(stat.center + z * stat.sigma, stat.lcl, stat.ucl)
+
+
+def axis_format(step: float, percent: bool = False) -> str:
+    """The number format of an axis with this major unit: every label distinct, as a percentage for rates."""
+    decimals = _axis_decimals(step)
+    return (style.number_format(max(0, decimals - 2)) + "%") if percent else style.number_format(decimals)
 
 
 def _axis_decimals(step: float) -> int:

@@ -285,7 +285,7 @@ def _rows(tab: Tab, layout: DataLayout, sheet: SheetEvaluation,
                 else:
                     write_formula(r, col, "=" + build(r), cell_fmt, v)
         if i in flags:
-            ws.write_string(r, flags_col, flags[i])
+            ws.write_string(r, flags_col, flags[i], fmt["copied_text"])
     for name, sc in layout.stats.items():
         values = sc.stat.values
         for i in sorted({s.subgroup - 1 for s in result.signals if s.statistic == name}):
@@ -315,11 +315,12 @@ def _constant(text: str) -> Callable[[int], str]:
 
 
 def _copy(ws: Worksheet, row: int, col: int, value: object, fmt: style.Formats) -> None:
-    """The slow path of copying: dates with a date format, everything else through cells.put."""
+    """The slow path of copying: dates with a date format, text indented off the number beside it, everything
+    else through cells.put."""
     if isinstance(value, dt.datetime | dt.date):
         ws.write_datetime(row, col, value, fmt["date"])
     else:
-        cells.put(ws, row, col, value)
+        cells.put(ws, row, col, value, fmt["copied_text"] if isinstance(value, str) else None)
 
 
 def _signal_flags(result: CharacteristicResult) -> dict[int, str]:
@@ -343,7 +344,7 @@ def _widths(tab: Tab, layout: DataLayout, read: SheetRead) -> None:
         elif layout.x_is_date and col == layout.x_col:
             size = 17
         elif 0 <= c < max((len(r) for r in sample), default=0):
-            size = cells.width([_shown(r[c], layout.decimals) for r in sample if c < len(r)], least=9, most=30)
+            size = cells.width([_shown(r[c], layout.decimals) for r in sample if c < len(r)], least=9, most=30) + 1
         else:
             size = max(10, layout.decimals + 6)
         ws.set_column(col, col, size)

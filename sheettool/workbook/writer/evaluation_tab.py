@@ -20,7 +20,7 @@ from sheettool.workbook.writer.notes_tab import CAUTION
 from sheettool.workbook.writer.one_page import period_words, spec_of
 from sheettool.workbook.writer.performance_tab import shift_heading
 from sheettool.workbook.writer.tab import Tab
-from sheettool.workbook.writer.trust_block import write_trust_block
+from sheettool.workbook.writer.trust_block import has_checks, write_trust_block
 
 LIMIT_KEYS = (("center", "Center line"), ("lcl", "LCL"), ("ucl", "UCL"))
 
@@ -110,14 +110,16 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
                                      spec if sc.stat.name == "individual" else None)
         ws.insert_chart(tab.row, 0, chart, {"x_offset": 4, "y_offset": 4})
         tab.row += style.CHART_ROWS
-    breaks.append(tab.row)  # then how far to trust the limits and how the scheme behaves on a page of their own
-    write_trust_block(tab, result)
-    _performance(tab, result, links.performance)
+    breaks.append(tab.row)  # then how far to trust the limits on a page of its own
+    if has_checks(result):
+        write_trust_block(tab, result)
+        tab.row += 1
+        breaks.append(tab.row)
+    _performance(tab, result, links.performance)  # how the scheme behaves, then the signals, their head repeated
     tab.row += 1
     tab.across(0, 4, CAUTION, "caution")
     tab.fit(CAUTION, sum(style.EVAL_COLUMNS), least=3)  # room around the caution, whatever its length
     tab.row += 1
-    breaks.append(tab.row)  # the signals last, on pages of their own, their table head on every page
     ws.set_h_pagebreaks(breaks)
     _signals(tab, result, table)
     cells.print_setup(ws, heading)
@@ -145,9 +147,9 @@ def _limits_table(out: BookWriter, tab: Tab, result: CharacteristicResult, layou
         return cells.cell(layout.eval_tab, place[leaf[1]], 1 + [k for k, _ in LIMIT_KEYS].index(leaf[2]))
 
     consts, live_cells = formulas.limit_cells(result, refs) if live else ({}, {})
-    limit_fmt = fmt[f"dec{min(10, layout.decimals + 2)}"]
     for sc in stats:
         stat = sc.stat
+        limit_fmt = fmt[style.limit_role(stat.name, layout.decimals)]
         ws.write_string(tab.row, 0, stat.label, fmt["text"])
         notes = []
         for c, (key, word) in enumerate(LIMIT_KEYS, start=1):
@@ -225,7 +227,7 @@ def _capability(tab: Tab, result: CharacteristicResult) -> None:
         tab.head(["Estimate", "Value", f"{cap.confidence:.0%} interval: low", "high", ""], (1, 2, 3))
         ws.write_string(tab.row, 0, f"Average {what}")
         for c, v in enumerate((cap.estimate, cap.ci.low, cap.ci.high), start=1):
-            cells.number(ws, tab.row, c, v, fmt["dec6"])
+            cells.number(ws, tab.row, c, v, fmt["percent2" if cap.kind == "proportion" else "dec6"])
         tab.row += 1
         return
     if not cap.stable:

@@ -138,7 +138,6 @@ def write_one_page(out: BookWriter, tab: Tab, result: CharacteristicResult, layo
     measured = isinstance(ch.data, Measurements)
     unit = ch.unit if measured else ""
     zones = charts.zones_in_use(result.rules)
-    wide = LEFT_PX + (0 if measured else RIGHT_PX)
     two = len(stats) > 1
     heights = (LOCATION_ROWS, SPREAD_ROWS) if two else (LOCATION_ROWS + SPREAD_ROWS, 0)
     row = CHART_TOP
@@ -146,29 +145,25 @@ def write_one_page(out: BookWriter, tab: Tab, result: CharacteristicResult, layo
         own_spec = spec if sc.stat.name == "individual" else None  # never on a chart of means (common practice)
         chart = charts.control_chart(out, layout, sc, zones, f"{sc.stat.label}: {ch.name}", unit,
                                      [s for s in result.signals if s.statistic == sc.stat.name], ch.excluded,
-                                     own_spec, (wide - 8, rows * ROW_PX - 6))
+                                     own_spec, (LEFT_PX - 8, rows * ROW_PX - 6))
         ws.insert_chart(row, 0, chart, {"x_offset": 2, "y_offset": 2, "object_position": 3})
         row += rows
-    key_row = CHART_TOP
-    if measured:
+    tab.row = CHART_TOP
+    if measured:  # the histogram beside the charts, the key figures under it
         readings = np.asarray(ch.data.values, dtype=float)
         readings = readings[np.isfinite(readings)]
         hist = charts.histogram_bins(readings, layout.decimals)
         chart = charts.histogram_chart(out, f"Readings of {ch.name}", hist, _curve(result, readings, hist), spec,
                                        unit, layout.decimals, (RIGHT_PX - 8, HISTOGRAM_ROWS * ROW_PX - 6))
         ws.insert_chart(CHART_TOP, CHARTS_LEFT, chart, {"x_offset": 2, "y_offset": 2, "object_position": 3})
-        key_row = CHART_TOP + HISTOGRAM_ROWS + 1
-        tab.row = key_row
-        _key_figures(tab, result, layout, CHARTS_LEFT)
-        bottom = max(row, tab.row)
-    else:
-        tab.row = row + 1
-        _key_figures(tab, result, layout, 0)
-        bottom = tab.row
+        tab.row = CHART_TOP + HISTOGRAM_ROWS + 1
+    _key_figures(tab, result, layout, CHARTS_LEFT)
+    bottom = max(row, tab.row)
     bottom += 1
-    ws.merge_range(bottom, 0, bottom + 1, len(WIDTHS) - 1, "", fmt["caution"])
+    ws.merge_range(bottom, 0, bottom, len(WIDTHS) - 1, "", fmt["caution"])
     ws.write_string(bottom, 0, CAUTION, fmt["caution"])
-    ws.print_area(0, 0, bottom + 1, len(WIDTHS) - 1)
+    tab.height(style.row_height(CAUTION, sum(WIDTHS) - 10), bottom)
+    ws.print_area(0, 0, bottom, len(WIDTHS) - 1)
     cells.print_setup(ws, heading, fit="page")
 
 
@@ -179,8 +174,8 @@ def _key_figures(tab: Tab, result: CharacteristicResult, layout: DataLayout, col
     for c, h in enumerate(heads):
         ws.write_string(tab.row, col + c, h, fmt["head" if not c else "head_number"])
     tab.row += 1
-    limit_fmt = fmt[f"dec{min(10, layout.decimals + 2)}"]
     for sc in layout.stats.values():
+        limit_fmt = fmt[style.limit_role(sc.stat.name, layout.decimals)]
         ws.write_string(tab.row, col, sc.stat.label, fmt["text"])
         for c, key in enumerate(("center", "lcl", "ucl"), start=1):
             arr = getattr(sc.stat, key)
