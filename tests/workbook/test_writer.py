@@ -328,3 +328,33 @@ def test_chart_names_from_the_input_stay_literal(tmp_path):
     xml = _xml(path, r"xl/charts/chart1\.xml")["xl/charts/chart1.xml"]
     assert "<c:v>=Sheet1! $A$1</c:v>" in xml and "<c:f>" not in xml.split("<c:xVal>")[0]
     assert chart_text("Bore") == "Bore" and chart_text("=Bore") == "=Bore"
+
+
+def _cells_of(book: openpyxl.Workbook, ref: str) -> list:
+    tab, where = ref.split("!")
+    return [c.value for row in book[tab.strip("'")][where.replace("$", "")] for c in row]
+
+
+def test_histogram_with_spec_lines_and_fitted_curve(built):
+    book = openpyxl.load_workbook(built)
+    hist = next(x for x in _xml(built, r"xl/charts/chart\d+\.xml").values() if "Readings of Sleeve length" in x)
+    series = {name: (xs, ys) for name, xs, ys in _series(hist)}
+    assert list(series)[:2] == ["readings per bin", "fitted normal (mean, overall sigma)"]
+    # LSL, USL and target are vertical lines at the specification of the case (24.95, 25.05, target 25.0)
+    for name, value in (("LSL", 24.95), ("USL", 25.05), ("target", 25.0)):
+        xs, ys = series[name]
+        assert _cells_of(book, xs) == [value, value] and _cells_of(book, ys)[0] == 0
+    # the bars hold every reading once: each bar is four outline points, its height the count in the bin
+    heights = _cells_of(book, series["readings per bin"][1])[1::4]
+    readings = int(np.isfinite(varying_sizes_case()[0].characteristic.data.values).sum())
+    assert sum(heights) == readings
+    # the curve is the normal density times readings x bin width: its area equals the readings (a check by sums)
+    xs, ys = (np.array(_cells_of(book, ref), dtype=float) for ref in series["fitted normal (mean, overall sigma)"])
+    edges = _cells_of(book, series["readings per bin"][0])
+    width = edges[2] - edges[0]
+    assert np.trapezoid(ys, xs) / width == pytest.approx(readings, rel=0.01)
+    # the summary tab is one landscape page and names the characteristic, source and period in its header
+    page = book["Sleeve length summary"]
+    assert page.sheet_properties.pageSetUpPr.fitToPage and page.page_setup.fitToHeight in (None, 1)  # 1: default
+    assert page.page_setup.orientation == "landscape"
+    assert "Sleeve length" in page.oddHeader.left.text and "sheet" in page.oddHeader.right.text
