@@ -358,3 +358,16 @@ def test_histogram_with_spec_lines_and_fitted_curve(built):
     assert page.sheet_properties.pageSetUpPr.fitToPage and page.page_setup.fitToHeight in (None, 1)  # 1: default
     assert page.page_setup.orientation == "landscape"
     assert "Sleeve length" in page.oddHeader.left.text and "sheet" in page.oddHeader.right.text
+
+
+def test_protect_locks_every_sheet_and_the_audit_names_the_input(run_cli, demo_copy, tmp_path):
+    out = tmp_path / "locked.xlsx"
+    assert run_cli("evaluate", demo_copy, "-o", out, "--protect", "s3cret").code == 0
+    book = openpyxl.load_workbook(out)
+    assert all(ws.protection.sheet and ws.protection.password for ws in book.worksheets)
+    audit = "\n".join(str(v) for row in book["Method and audit"].iter_rows(values_only=True) for v in row if v)
+    assert sha256(demo_copy) in audit and "locked against editing" in audit
+    bare = tmp_path / "bare.xlsx"
+    assert run_cli("evaluate", demo_copy, "-o", bare, "--protect").code == 0  # locked without a password
+    ws = openpyxl.load_workbook(bare)["Method and audit"]
+    assert ws.protection.sheet and not ws.protection.password

@@ -205,6 +205,7 @@ def write_workbook(reports: list[EvaluationReport], path: Path, options: WriterO
     def build(tmp: str) -> None:
         fixed = (NOTES_TAB, LIMITS_SHEET, PERFORMANCE_TAB, LINES_SHEET) + ((summary.name,) if summary else ())
         out = BookWriter(tmp, live=options.formulas, reserved=fixed, file=path.name)
+        out.locked = options.protect is not None
         with out.catching():
             _properties(out, reports, stamp)
             out.book.set_calc_mode("auto")

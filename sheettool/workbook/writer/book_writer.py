@@ -58,6 +58,7 @@ class BookWriter:
         self.live = live
         self.formulas = live  # --formulas was asked (live may be turned off for a while, see values_only)
         self.links = Links()
+        self.locked = False  # --protect: every sheet is locked when the tabs are written (see protect)
         self.lines = LineSheet()
         self._tab_names = {name.lower() for name in reserved}
         self._defined: set[str] = set()

@@ -87,8 +87,11 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
                            "no: every number is a value (run with --formulas to get formulas)"))
     if live and as_values:
         line("Written as values", "no checked formula for: " + "; ".join(as_values))
-    line("Printing", f"evaluation tabs print landscape, one page wide; data tabs print their first {PRINT_ROWS} "
-                     "subgroups only (select rows and print the selection for more)")
+    line("Printing", "each characteristic's summary prints as one landscape page; evaluation tabs print one page "
+                     f"wide; data tabs print their first {PRINT_ROWS} subgroups at 80%, the point and date repeated on "
+                     "the pages across (select rows and print the selection for more)")
+    line("Protection", "every sheet is locked against editing (--protect); the digest above names the input read"
+         if out.locked else "none: the sheets can be edited (run with --protect to lock them)")
     line("Hidden tabs", "limits-block (the machine-readable limits next month's run reads back) and chart-lines "
                         "(the line geometry of the charts)")
     section("Settings")
