@@ -159,6 +159,7 @@ def formats(book: Workbook, decimals: int = 4) -> Formats:
         "date": book.add_format({"num_format": "yyyy-mm-dd hh:mm"}),
         "percent": book.add_format({"num_format": "0.0%", "valign": "top"}),
         "percent2": book.add_format({"num_format": "0.00%", "valign": "top"}),
+        "chance": book.add_format({"num_format": '[<0.001]"under 0.1%";0.0%', "valign": "top"}),
         "key": book.add_format({"bold": True, "font_size": 12, "font_color": SLATE, "valign": "top"}),
         "fill_in": book.add_format({"locked": False, "valign": "top", "text_wrap": True, "bottom": 1,
                                     "border_color": HAIRLINE}),
@@ -169,6 +170,7 @@ def formats(book: Workbook, decimals: int = 4) -> Formats:
         "flag_warn": book.add_format({"bold": True, "font_color": WARN, "valign": "top", "align": "center"}),
         "lead": book.add_format({"bold": True, "font_color": SLATE, "text_wrap": True, "valign": "top"}),
         "link": book.add_format({"font_color": LINK, "underline": 1}),
+        "link_wrap": book.add_format({"font_color": LINK, "underline": 1, "text_wrap": True, "valign": "top"}),
     }
     for d in range(0, 11):
         fmt[f"dec{d}"] = book.add_format({"num_format": number_format(d), "valign": "top"})

@@ -11,6 +11,7 @@ import contextlib
 import datetime as dt
 import gc
 import os
+import re
 import shutil
 import socket
 import sys
@@ -173,12 +174,27 @@ def _alive(pid: int) -> bool:
     return True
 
 
+@dataclass(frozen=True)
+class Section:
+    """One characteristic's part of the workbook: its title (name, told apart from others of the same name), its
+    source, and its tabs: summary, chart tab, first data tab."""
+
+    title: str
+    source: str
+    tabs: tuple[str, str, str]
+
+    @property
+    def first_tab(self) -> str:
+        """The tab the section opens with: its one-page summary."""
+        return self.tabs[0]
+
+
 @dataclass
 class Summary:
-    """A tab written first, before the evaluation tabs (the pack's summary); it gets the evaluation tab names."""
+    """A tab written first, before the evaluation tabs (the pack's summary); it gets the sections."""
 
     name: str
-    write: Callable[[Tab, list[str], PageHeading], None]  # (its tab, the evaluation tab names, its page heading)
+    write: Callable[[Tab, list[Section], PageHeading], None]  # (its tab, the sections, its page heading)
 
 
 def write_evaluated_workbook(report: EvaluationReport, path: Path, options: WriterOptions | None = None) -> None:
@@ -236,12 +252,12 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
     """Add the tabs in their order, then write each: per characteristic its one-page summary and evaluation tab,
     then scheme performance, the data tabs, the audit and the hidden tabs."""
     sheets = [sheet for report in reports for sheet in report.sheets]
-    tells = [_tells(sheet, report) for report in reports for sheet in report.sheets]
     owners = [report for report in reports for _ in report.sheets]
+    tells = _told_apart(sheets, owners)
     date = f"{stamp.when:%Y-%m-%d}"
-    names = [(out.tab_name(s.result.characteristic.name, "summary", t),
-              out.tab_name(s.result.characteristic.name, "chart", t),
-              [out.tab_name(s.result.characteristic.name, "data" + (f" {k}" if k > 1 else ""), t)
+    names = [(out.tab_name(s.result.characteristic.name, "summary", t, bool(t)),
+              out.tab_name(s.result.characteristic.name, "chart", t, bool(t)),
+              [out.tab_name(s.result.characteristic.name, "data" + (f" {k}" if k > 1 else ""), t, bool(t))
                for k in range(1, data_tab_count(s.result.characteristic.data.subgroups) + 1)])
              for s, t in zip(sheets, tells, strict=True)]
     summary_tab = out.add_tab(summary.name) if summary is not None else None
@@ -259,7 +275,8 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
                                                                   strict=True), start=1):
         result, report = sheet.result, owners[i - 1]
         facts = page_facts(sheet, report)
-        heading = PageHeading("", result.characteristic.name, facts.part, facts.source, facts.period, date)
+        heading = PageHeading("", result.characteristic.name, facts.part, facts.source, facts.period, date,
+                              f"section {i}" if summary is not None else "")
         layout = plan_data_tab(result, sheet.read, data_tab[0].name, eval_tab.name, out.live,
                                tuple(t.name for t in data_tab[1:]))
         with out.values_only(layout.split):
@@ -274,7 +291,9 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
     results = [sheet.result for sheet in sheets]
     whole = PageHeading("", source=", ".join(r.input.name for r in reports), date=date)
     if summary is not None and summary_tab is not None:
-        summary.write(summary_tab, tab_names, replace(whole, what="review summary"))
+        sections = [Section(chart.removesuffix(" chart"), page_facts(sheet, report).source, (page, chart, datas[0]))
+                    for (page, chart, datas), sheet, report in zip(names, sheets, owners, strict=True)]
+        summary.write(summary_tab, sections, replace(whole, what="review summary"))
     write_performance_tab(out, performance_tab, results, tab_names, replace(whole, what="scheme performance"))
     _hand_back(reports[0].problems, out.found())
     write_notes_tab(out, notes_tab, reports, stamp, as_values, tab_names, replace(whole, what="method and audit"))
@@ -295,13 +314,31 @@ def _hand_back(problems: list[Problem], found: list[Problem]) -> None:
     problems += [p for p in found if p not in problems]
 
 
-def _tells(sheet: SheetEvaluation, report: EvaluationReport) -> tuple[str, ...]:
-    """What tells a characteristic's tabs apart from another of the same name: its part, its sheet, its input."""
-    part = page_facts(sheet, report).part
-    own = [part] if part else []
-    if sheet.read.sheet != sheet.result.characteristic.name:
-        own.append(sheet.read.sheet)
-    return (*own, report.input.stem)
+def _told_apart(sheets: list[SheetEvaluation], owners: list[EvaluationReport]) -> list[tuple[str, ...]]:
+    """For each characteristic whose name another shares, what tells them apart, the telling word first: its part,
+    its sheet, or its input's name (the words of it the others lack), whichever differs among them; () for a name
+    no other has."""
+    facts = [(page_facts(s, r).part, s.read.sheet, r.input.stem) for s, r in zip(sheets, owners, strict=True)]
+    names = [s.result.characteristic.name.lower() for s in sheets]
+    out: list[tuple[str, ...]] = []
+    for name, own in zip(names, facts, strict=True):
+        group = [f for n, f in zip(names, facts, strict=True) if n == name]
+        if len(group) == 1:
+            out.append(())
+            continue
+        differs = [k for k in range(3) if len({f[k] for f in group}) > 1 and own[k]]
+        order = differs + [k for k in range(3) if k not in differs and own[k]]
+        out.append(tuple(_own_words(own[k], [f[k] for f in group]) if k == 2 else own[k] for k in order))
+    return out
+
+
+def _own_words(text: str, group: list[str]) -> str:
+    """The words of `text` that not every text of its group shares ("line2-november" among "line3-november":
+    "line2"), so that a short tag in a tab name still tells them apart; the whole text when every word is shared."""
+    split = re.compile(r"[\s_\-.]+")
+    shared = set.intersection(*(set(split.split(t.lower())) for t in group))
+    own = [w for w in split.split(text) if w and w.lower() not in shared]
+    return " ".join(own) or text
 
 
 def _limits_block(tab: Tab, results: list[CharacteristicResult], keys: list[str]) -> None:

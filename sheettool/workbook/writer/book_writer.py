@@ -63,9 +63,9 @@ class BookWriter:
         self._tab_names = {name.lower() for name in reserved}
         self._defined: set[str] = set()
 
-    def tab_name(self, base: str, suffix: str, tells: tuple[str, ...] = ()) -> str:
+    def tab_name(self, base: str, suffix: str, tells: tuple[str, ...] = (), always: bool = False) -> str:
         """A tab name not taken yet, built from a characteristic's name and a suffix (see cells.tab_name)."""
-        return cells.tab_name(base, suffix, self._tab_names, tells)
+        return cells.tab_name(base, suffix, self._tab_names, tells, always)
 
     def add_tab(self, name: str) -> Tab:
         """Add a worksheet (tabs appear in the order they are added) with a cursor at its first row."""

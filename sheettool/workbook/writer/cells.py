@@ -79,17 +79,17 @@ def utf16_cut(text: str, units: int) -> str:
     return "".join(out)
 
 
-def tab_name(base: str, suffix: str, used: set[str], tells: tuple[str, ...] = ()) -> str:
+def tab_name(base: str, suffix: str, used: set[str], tells: tuple[str, ...] = (), always: bool = False) -> str:
     """A unique tab name of at most 31 UTF-16 units, free of the characters tab names refuse.
 
-    A name already taken is told apart by the first of `tells` (a part, an input's name) that makes it
-    unique; "~2", "~3"... is the last resort.
+    A name already taken (or any name, when `always`: a name that others share) is told apart by the first of
+    `tells` (a part, an input's name) that makes it unique; "~2", "~3"... is the last resort.
     """
     clean = _tab_clean(base) or "sheet"
     room = TAB_UNITS - utf16_len(suffix) - (1 if suffix else 0)
     name = f"{utf16_cut(clean, room).rstrip()} {suffix}".strip()
-    for tell in (t for t in (_tab_clean(t) for t in tells) if t):
-        if name.lower() not in used:
+    for k, tell in enumerate(t for t in (_tab_clean(t) for t in tells) if t):
+        if name.lower() not in used and not (always and k == 0):
             break
         tag = f" ({utf16_cut(tell, max(4, room // 2))})"
         name = f"{utf16_cut(clean, room - utf16_len(tag)).rstrip()}{tag} {suffix}".strip()
@@ -165,6 +165,7 @@ class PageHeading:
     source: str = ""
     period: str = ""
     date: str = ""
+    section: str = ""  # in a pack: "section 3", which the contents list
 
 
 def _header_text(text: str, most: int) -> str:
@@ -189,5 +190,6 @@ def print_setup(ws: Worksheet, heading: PageHeading, fit: str = "width") -> None
     who = " · ".join(t for t in (heading.part, heading.characteristic) if t) or heading.what
     right = "\n".join(_header_text(t, 60) for t in (heading.source, heading.period) if t)
     ws.set_header(f"&L&9&B{_header_text(who, 60)}&B&R&8{right}", {"margin": 0.25})
-    left = heading.what + (f"; evaluated {heading.date}" if heading.date else "")
+    left = "; ".join(t for t in (heading.what, heading.section, f"evaluated {heading.date}" if heading.date else "")
+                     if t)
     ws.set_footer(f"&L&8{_header_text('sheettool: ' + left, 110)}&R&8page &P of &N", {"margin": 0.3})

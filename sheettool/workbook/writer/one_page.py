@@ -16,6 +16,7 @@ from sheettool.core.capability import AttributeRate, Capability
 from sheettool.core.data import Measurements
 from sheettool.core.timing import SignalsAgainstChance, signals_against_chance
 from sheettool.evaluation.results import CharacteristicResult
+from sheettool.evaluation.summary import odds
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells, charts
 from sheettool.workbook.writer.book_writer import BookWriter
@@ -85,10 +86,9 @@ def chance_words(chance: SignalsAgainstChance) -> str:
     if chance.signalled == 0:
         return "no point signalled"
     p = chance.probability
-    odds = f"{p:.1%}" if p >= 0.001 else "under 0.1%"
     judged = ("more than false alarms explain: look for a cause" if p < 0.01 else
               "hard to explain by false alarms alone" if p < 0.05 else "within what false alarms give")
-    return f"chance of {chance.signalled} or more from false alarms alone: {odds} ({judged})"
+    return f"chance of {chance.signalled} or more from false alarms alone: {odds(p)} ({judged})"
 
 
 def _curve(result: CharacteristicResult, readings: np.ndarray, hist: charts.Histogram) -> tuple[str, np.ndarray,
