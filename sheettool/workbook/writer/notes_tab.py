@@ -99,7 +99,8 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
         if not result.settings:
             line(result.characteristic.name, "built-in defaults (no settings recorded)")
         for setting in result.settings.values():
-            line(f"{result.characteristic.name}: {setting.name}", f"{setting.value} (from {setting.origin})")
+            line(f"{result.characteristic.name}: {setting.name.replace('_', ' ')}",
+                 f"{_value_words(setting.value)} (from {setting.origin})")
         line(f"{result.characteristic.name}: rules", ", ".join(r.text for r in result.rules))
     section("Formulas and constants")
     for chart in dict.fromkeys(r.fit.chart for r in results):
@@ -122,6 +123,17 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
     for p in problems:
         line(p.severity, f"{p.where}: {p.message}")
     cells.print_setup(ws, heading)
+
+
+def _value_words(value: object) -> str:
+    """A setting's value as a technician writes it: yes or no, "not given", dates in ISO form."""
+    if value is None:
+        return "not given"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, dt.datetime):
+        return f"{value:%Y-%m-%d %H:%M}"
+    return str(value)
 
 
 def _check_methods(result: CharacteristicResult) -> list[tuple[str, str]]:
