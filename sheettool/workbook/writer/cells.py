@@ -91,7 +91,7 @@ def tab_name(base: str, suffix: str, used: set[str], tells: tuple[str, ...] = ()
     for k, tell in enumerate(t for t in (_tab_clean(t) for t in tells) if t):
         if name.lower() not in used and not (always and k == 0):
             break
-        tag = f" ({utf16_cut(tell, max(4, room // 2))})"
+        tag = f" ({utf16_cut(tell, max(min(6, room // 2), room - utf16_len(clean) - 3))})"  # the name first
         name = f"{utf16_cut(clean, room - utf16_len(tag)).rstrip()}{tag} {suffix}".strip()
     i = 2
     while name.lower() in used:

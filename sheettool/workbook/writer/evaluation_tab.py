@@ -167,8 +167,8 @@ def _limits_table(out: BookWriter, tab: Tab, result: CharacteristicResult, layou
                 ws.write_string(tab.row, c, "none", fmt["text_right"])
             else:
                 ws.write_string(tab.row, c, "varies", fmt["text_right"])
-                d = layout.decimals + 2
-                notes.append(f"{word} {float(finite.min()):.{d}f} to {float(finite.max()):.{d}f}")
+                shape = ".2%" if stat.name in style.PERCENT_STATISTICS else f".{layout.decimals + 2}f"
+                notes.append(f"{word} {float(finite.min()):{shape}} to {float(finite.max()):{shape}}")
         text = ("varies by point: see data tab; " + ", ".join(notes)) if notes else "the same at every point"
         if stat.lcl_floored:
             text += "; LCL below zero by formula, shown as 0"
