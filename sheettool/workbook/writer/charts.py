@@ -60,17 +60,19 @@ def value_axis(arrays: list[np.ndarray]) -> dict[str, float]:
     """y axis min, max and major unit from the data and the limits, never simply from zero."""
     joined = np.concatenate([a[np.isfinite(a)] for a in arrays] or [np.array([0.0])])
     lo, hi = (float(joined.min()), float(joined.max())) if joined.size else (0.0, 1.0)
+    never_negative = lo >= 0
     if hi == lo:
         pad = abs(hi) * 0.05 or 1.0
         lo, hi = lo - pad, hi + pad
     step = nice_step(hi - lo, 6)
     low = math.floor(lo / step - 0.25) * step
-    if lo >= 0 > low:  # ranges, deviations, counts: no axis below zero
+    if never_negative and low < 0:  # ranges, deviations, counts: no axis below zero
         low = 0.0
     return {"min": low, "max": math.ceil(hi / step + 0.25) * step, "major_unit": step}
 
 
 LABEL_PX = 115  # room for one x-axis label ("2026-11-02 06:00" at 8 points) on a control chart
+DENSE = 300  # more points than this: every point labelled, the spreadsheet application skips labels itself
 
 
 def category_axis(out: BookWriter, layout: DataLayout, win: Window, width: int) -> tuple[str, dict[str, Any]]:
@@ -80,7 +82,7 @@ def category_axis(out: BookWriter, layout: DataLayout, win: Window, width: int) 
     The labels are a column of text on the chart-lines tab, blank between labelled points (charts share it):
     the skip-labels setting of the format is not honoured by every spreadsheet application.
     """
-    every = max(1, math.ceil(win.x.size / max(3, width // (LABEL_PX if layout.x_is_date else 45))))
+    every = max(1, math.ceil(nice_step(win.x.size, max(3, width // (LABEL_PX if layout.x_is_date else 45)))))
     key = (layout.tab, win.first, every)
     if key not in out.lines.named:
         if layout.x_is_date:
@@ -89,7 +91,11 @@ def category_axis(out: BookWriter, layout: DataLayout, win: Window, width: int) 
                      for v in win.x]
         else:
             shown = [f"{v:g}" for v in win.x]
-        labels: list[float | str | None] = [t if i % every == 0 else None for i, t in enumerate(shown)]
+        # point numbers at round multiples, dates every few points from the first; past DENSE points every point
+        # is labelled and the application skips labels itself (one that finds blank labels at its own interval
+        # would show none)
+        at = win.x % every == 0 if not layout.x_is_date else np.arange(win.x.size) % every == 0
+        labels: list[float | str | None] = [t if at[i] or win.x.size > DENSE else None for i, t in enumerate(shown)]
         if labels and labels[-1] is None:
             labels[-1] = ""  # the column reaches the last point
         out.lines.named[key] = out.lines.add(f"{layout.tab}: labels every {every}", labels)
@@ -97,6 +103,7 @@ def category_axis(out: BookWriter, layout: DataLayout, win: Window, width: int) 
             "Date and time" if layout.x_is_date else "Point")
     return out.lines.ref(out.lines.named[key]), {
         "name": name, "text_axis": True, "num_font": {"size": 8}, "name_font": {"size": 9},
+        **({} if win.x.size > DENSE else {"interval_unit": 1}),
         "major_tick_mark": "none", "minor_tick_mark": "none"}
 
 
