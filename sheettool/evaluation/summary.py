@@ -85,6 +85,7 @@ class PackRow:
     reason: str = ""
     flags: list[str] = field(default_factory=list)
     chance: SignalsAgainstChance | None = None  # the period's points signalled against false alarms alone
+    center: float | None = None  # the location chart's center line (at its first point)
     tab: int | None = None  # position of the characteristic's evaluation tab in the pack
 
 
@@ -115,6 +116,7 @@ def summary_row(source: str, result: CharacteristicResult, period: Period | None
     perf = result.performance
     row.arl_in_control = perf.arl_in_control if np.isfinite(perf.arl_in_control) else None
     row.false_alarms_per_month = perf.false_alarms_per_month
+    row.center = float(result.fit.statistics[0].center[0]) if result.fit.statistics else None
     row.chance = signals_against_chance(row.points, len({s.subgroup for s in signals}), perf.arl_in_control)
     base = int(result.fit.base.sum())
     reasons = []

@@ -194,7 +194,7 @@ class Summary:
     """A tab written first, before the evaluation tabs (the pack's summary); it gets the sections."""
 
     name: str
-    write: Callable[[Tab, list[Section], PageHeading], None]  # (its tab, the sections, its page heading)
+    write: Callable[[BookWriter, Tab, list[Section], PageHeading], None]  # (its tab, the sections, its heading)
 
 
 def write_evaluated_workbook(report: EvaluationReport, path: Path, options: WriterOptions | None = None) -> None:
@@ -293,7 +293,7 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
     if summary is not None and summary_tab is not None:
         sections = [Section(chart.removesuffix(" chart"), page_facts(sheet, report).source, (page, chart, datas[0]))
                     for (page, chart, datas), sheet, report in zip(names, sheets, owners, strict=True)]
-        summary.write(summary_tab, sections, replace(whole, what="review summary"))
+        summary.write(out, summary_tab, sections, replace(whole, what="review summary"))
     write_performance_tab(out, performance_tab, results, tab_names, replace(whole, what="scheme performance"))
     _hand_back(reports[0].problems, out.found())
     write_notes_tab(out, notes_tab, reports, stamp, as_values, tab_names, replace(whole, what="method and audit"))

@@ -7,9 +7,11 @@ from pathlib import Path
 
 from sheettool.evaluation.summary import STATUS_WORDS, PackRow, Period, pack_key
 from sheettool.workbook import style
+from sheettool.workbook.earlier_packs import TrendPoint
 from sheettool.workbook.report import EvaluationReport
 from sheettool.workbook.writer import cells
 from sheettool.workbook.writer.book import Section, Summary, WriterOptions, write_workbook
+from sheettool.workbook.writer.book_writer import BookWriter
 from sheettool.workbook.writer.notes_tab import CAUTION
 from sheettool.workbook.writer.tab import Tab
 
@@ -22,20 +24,22 @@ WRAPPED = (0, 1, 2, 6, 12, 15)  # columns whose text wraps; the row is as tall a
 
 
 def write_pack_workbook(rows: list[PackRow], period: Period | None, evaluated: list[tuple[str, EvaluationReport]],
-                        path: Path, options: WriterOptions | None = None) -> None:
-    """Write the pack: summary and contents first, then every characteristic's tabs, then one audit for all.
+                        path: Path, options: WriterOptions | None = None,
+                        earlier: list[dict[str, TrendPoint]] | None = None) -> None:
+    """Write the pack: summary, contents and (with earlier packs) trends first, then every characteristic's tabs,
+    then one audit for all.
 
     evaluated: (source label, report) of every input that was evaluated, in the order of the summary rows.
     """
     reports = [report for _, report in evaluated]
     keys = [pack_key(source, r.sheet) for source, report in evaluated for r in report.characteristics]
-    summary = Summary(SUMMARY_TAB, lambda tab, sections, heading: _write_summary(tab, rows, period, sections,
-                                                                                  heading))
+    summary = Summary(SUMMARY_TAB, lambda out, tab, sections, heading: _write_summary(
+        out, tab, rows, period, sections, heading, earlier or []))
     write_workbook(reports, path, options, summary, block_keys=keys)
 
 
-def _write_summary(tab: Tab, rows: list[PackRow], period: Period | None, sections: list[Section],
-                   heading: cells.PageHeading) -> None:
+def _write_summary(out: BookWriter, tab: Tab, rows: list[PackRow], period: Period | None, sections: list[Section],
+                   heading: cells.PageHeading, earlier: list[dict[str, TrendPoint]]) -> None:
     ws, fmt = tab.ws, tab.fmt
     ws.write_string(0, 0, "Review summary", fmt["title"])
     words = f"points dated {period.label}" if period else "all points of each workbook"
@@ -86,6 +90,10 @@ def _write_summary(tab: Tab, rows: list[PackRow], period: Period | None, section
     tab.row = last + 2
     ws.set_h_pagebreaks([tab.row])  # the contents on a page of their own
     _contents(tab, sections, len(columns) - 1)
+    if earlier:
+        tab.row += 1
+        ws.set_h_pagebreaks([last + 2, tab.row])  # the trends start a page of their own too (_trends adds more)
+        _trends(out, tab, rows, sections, earlier, len(columns) - 1, heading.date or "this pack")
     cells.print_setup(ws, heading)
 
 
@@ -115,3 +123,57 @@ def _contents(tab: Tab, sections: list[Section], last: int) -> None:
                                             ("data", section.tabs[2])), start=10):
             ws.write_url(tab.row, c, cells.internal_link(target), fmt["link"], string=word)
         tab.row += 1
+
+
+TRENDS_PER_PAGE = 4
+TREND_HEADS = ("Pack of", "Center line", "Cpk", "Points", "Signals observed", "False alarms expected")
+
+
+def _trends(out: BookWriter, tab: Tab, rows: list[PackRow], sections: list[Section],
+            earlier: list[dict[str, TrendPoint]], last: int, today: str) -> None:
+    """Per characteristic, what each earlier pack and this one said: a table and a chart of the signals observed
+    against the false alarms the scheme expected."""
+    ws, fmt = tab.ws, tab.fmt
+    tab.across(0, last, "Trends across packs", "section")
+    tab.row += 1
+    ws.write_string(tab.row, 0, "Each characteristic as the earlier packs given with --earlier and this one saw it: "
+                    "signals observed against the false alarms its scheme expected over the period's points.",
+                    fmt["text"])
+    tab.row += 2
+    breaks = list(tab.ws.hbreaks)
+    for k, row in enumerate(r for r in rows if r.tab is not None):
+        if k and k % TRENDS_PER_PAGE == 0:
+            breaks.append(tab.row)  # whole blocks to a printed page: no chart cut by a page's edge
+        key = pack_key(row.source, row.sheet)
+        history = sorted((e[key] for e in earlier if key in e), key=lambda p: p.when)
+        now = TrendPoint(today, row.center, row.cpk, float(row.points), float(row.signals),
+                         row.chance.expected if row.chance is not None else None)
+        points = [*history, now]
+        section = sections[row.tab]
+        ws.write_url(tab.row, 0, cells.internal_link(section.first_tab), fmt["link"], string=section.title)
+        ws.write_string(tab.row, 2, section.source, fmt["text"])
+        tab.row += 1
+        top = tab.row
+        for c, head in enumerate(TREND_HEADS):
+            ws.write_string(top, c, head, fmt["head" if not c else "head_number"])
+        tab.height(3 * style.LINE_HEIGHT, top)
+        for i, p in enumerate(points, start=top + 1):
+            ws.write_string(i, 0, p.when, fmt["text"])
+            for c, (value, role) in enumerate(((p.center, "figure"), (p.cpk, "dec2"), (p.points, "count"),
+                                               (p.signals, "count"), (p.expected, "dec2")), start=1):
+                cells.number(ws, i, c, value, fmt[role])
+        end = top + len(points)
+        chart = out.line_chart()
+        for col, name, role in ((4, "signals observed", "values"), (5, "false alarms expected", "limit")):
+            chart.add_series({"name": name, "categories": cells.column_range(tab.name, 0, top + 1, end),
+                              "values": cells.column_range(tab.name, col, top + 1, end),
+                              **style.series_look(role, len(points))})
+        chart.set_title({"name": f"Signals against chance: {section.title}", "name_font": {"size": 10}})
+        chart.set_y_axis({"min": 0, "num_font": {"size": 8}, "major_gridlines": {"visible": True,
+                                                                                  "line": {"color": style.MIST}}})
+        chart.set_x_axis({"num_font": {"size": 8}, "text_axis": True})
+        chart.set_legend({"position": "bottom", "font": {"size": 8}})
+        chart.set_size({"width": 520, "height": 200})
+        ws.insert_chart(top, 7, chart, {"x_offset": 6, "object_position": 3})
+        tab.row = max(end + 2, top + 11)
+    ws.set_h_pagebreaks(breaks)
