@@ -161,8 +161,6 @@ def formats(book: Workbook, decimals: int = 4) -> Formats:
         "percent2": book.add_format({"num_format": "0.00%", "valign": "top"}),
         "chance": book.add_format({"num_format": '[<0.001]"under 0.1%";0.0%', "valign": "top"}),
         "key": book.add_format({"bold": True, "font_size": 12, "font_color": SLATE, "valign": "top"}),
-        "fill_in": book.add_format({"locked": False, "valign": "top", "text_wrap": True, "bottom": 1,
-                                    "border_color": HAIRLINE}),
         "caution": book.add_format({"italic": True, "text_wrap": True, "font_color": WARN, "valign": "top"}),
         "warn": book.add_format({"bold": True, "font_color": WARN}),
         "warn_wrap": book.add_format({"bold": True, "font_color": WARN, "text_wrap": True, "valign": "top"}),
