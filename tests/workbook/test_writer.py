@@ -360,14 +360,16 @@ def test_histogram_with_spec_lines_and_fitted_curve(built):
     assert "Sleeve length" in page.oddHeader.left.text and "sheet" in page.oddHeader.right.text
 
 
-def test_protect_locks_every_sheet_and_the_audit_names_the_input(run_cli, demo_copy, tmp_path):
+def test_protect_locks_every_sheet_and_the_audit_names_the_input(run_cli, tmp_path):
+    source = tmp_path / "bore.csv"
+    source.write_text("Point,Diameter\n" + "".join(f"{i + 1},{10 + 0.01 * ((i * 7) % 5):.2f}\n" for i in range(25)))
     out = tmp_path / "locked.xlsx"
-    assert run_cli("evaluate", demo_copy, "-o", out, "--protect", "s3cret").code == 0
+    assert run_cli("evaluate", source, "-o", out, "--protect", "s3cret").code == 0
     book = openpyxl.load_workbook(out)
     assert all(ws.protection.sheet and ws.protection.password for ws in book.worksheets)
     audit = "\n".join(str(v) for row in book["Method and audit"].iter_rows(values_only=True) for v in row if v)
-    assert sha256(demo_copy) in audit and "locked against editing" in audit
+    assert sha256(source) in audit and "locked against editing" in audit
     bare = tmp_path / "bare.xlsx"
-    assert run_cli("evaluate", demo_copy, "-o", bare, "--protect").code == 0  # locked without a password
+    assert run_cli("evaluate", source, "-o", bare, "--protect").code == 0  # locked without a password
     ws = openpyxl.load_workbook(bare)["Method and audit"]
     assert ws.protection.sheet and not ws.protection.password
