@@ -136,6 +136,17 @@ def summary_row(source: str, result: CharacteristicResult, period: Period | None
     return row
 
 
+def points_signalled(result: CharacteristicResult) -> int:
+    """Distinct plotted points with at least one signal (a point breaking two rules counts once)."""
+    return len({s.subgroup for s in result.signals})
+
+
+def chance_of(result: CharacteristicResult) -> SignalsAgainstChance:
+    """All the points' signals against the false alarms the scheme expects for that many points."""
+    return signals_against_chance(result.characteristic.data.subgroups, points_signalled(result),
+                                  result.performance.arl_in_control)
+
+
 def odds(probability: float) -> str:
     """A probability as a meeting reads it: a percentage, or "under 0.1%"."""
     return f"{probability:.1%}" if probability >= 0.001 else "under 0.1%"

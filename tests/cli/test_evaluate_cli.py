@@ -7,6 +7,7 @@ from pathlib import Path
 
 import openpyxl
 import pytest
+from scipy import stats
 
 from tests.conftest import sha256
 
@@ -24,6 +25,13 @@ def test_demo_end_to_end(run_cli, demo_copy, tmp_path):
     char = chars["Bore diameter"]
     assert char["chart"] == "xbar-r" and char["subgroup_size"] == 5 and char["subgroups"] == 30
     assert any(s["statistic"] == "mean" and s["subgroup"] >= 22 for s in char["signals"])
+    # signals against chance: the distinct points signalled beside points / in-control ARL false alarms expected;
+    # reference for the tail: scipy.stats.poisson
+    chance = char["signals_against_chance"]
+    assert chance["points_signalled"] == len({s["subgroup"] for s in char["signals"]}) and chance["points"] == 30
+    assert chance["false_alarms_expected"] == pytest.approx(30 / char["performance"]["arl_in_control"], rel=1e-12)
+    assert chance["chance_from_false_alarms"] == pytest.approx(
+        stats.poisson.sf(chance["points_signalled"] - 1, chance["false_alarms_expected"]), rel=1e-9)
     # The same limits must stand in the evaluation tab as in the JSON.
     book = openpyxl.load_workbook(out)
     tab = next(ws for ws in book.worksheets if ws.title.startswith("Bore") and ws.title.endswith("chart"))

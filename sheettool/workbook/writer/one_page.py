@@ -14,9 +14,9 @@ import numpy as np
 
 from sheettool.core.capability import AttributeRate, Capability
 from sheettool.core.data import Measurements
-from sheettool.core.timing import SignalsAgainstChance, signals_against_chance
+from sheettool.core.timing import SignalsAgainstChance
 from sheettool.evaluation.results import CharacteristicResult
-from sheettool.evaluation.summary import odds
+from sheettool.evaluation.summary import chance_of, odds
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells, charts
 from sheettool.workbook.writer.book_writer import BookWriter
@@ -68,17 +68,6 @@ def period_words(result: CharacteristicResult) -> str:
         shape = "%Y-%m-%d" if all(d.hour == 0 and d.minute == 0 for d in (first, last)) else "%Y-%m-%d %H:%M"
         return f"{first:{shape}} to {last:{shape}}"
     return f"points {ch.labels[0]} to {ch.labels[-1]}" if ch.labels else "no dates given"
-
-
-def points_signalled(result: CharacteristicResult) -> int:
-    """Distinct plotted points with at least one signal (a point breaking two rules counts once)."""
-    return len({s.subgroup for s in result.signals})
-
-
-def chance_of(result: CharacteristicResult) -> SignalsAgainstChance:
-    """This period's points signalled against the false alarms the scheme expects for that many points."""
-    return signals_against_chance(result.characteristic.data.subgroups, points_signalled(result),
-                                  result.performance.arl_in_control)
 
 
 def chance_words(chance: SignalsAgainstChance) -> str:
