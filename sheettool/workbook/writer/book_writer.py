@@ -1,7 +1,7 @@
 """The one object every tab writer works through: the workbook being written and what it holds so far.
 
 It owns the xlsxwriter workbook and its cell formats, the tab names taken, the workbook-level names
-defined, the chart-line geometry the charts collect, the tabs everyone links to, whether numbers
+defined, the chart-lines columns the charts collect, the tabs everyone links to, whether numbers
 are written as live formulas, and the problems met while writing (the format's limits, see format_limits).
 """
 

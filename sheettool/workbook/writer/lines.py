@@ -19,7 +19,7 @@ LINES_SHEET = "chart-lines"
 
 
 class LineSheet:
-    """Collects the line geometry column by column and writes it row by row at the end."""
+    """Collects the charts' columns one by one and writes them row by row at the end."""
 
     def __init__(self) -> None:
         self.columns: list[tuple[str, list[float | str | None]]] = []

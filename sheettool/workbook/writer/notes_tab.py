@@ -12,6 +12,7 @@ from sheettool.core.constants import constants
 from sheettool.core.data import Measurements
 from sheettool.core.design import MET_TOLERANCE
 from sheettool.evaluation.results import CharacteristicResult
+from sheettool.workbook import style
 from sheettool.workbook.reader import SheetRead
 from sheettool.workbook.report import EvaluationReport
 from sheettool.workbook.writer import cells
@@ -20,6 +21,7 @@ from sheettool.workbook.writer.data_tab import PRINT_ROWS
 from sheettool.workbook.writer.methods import method
 from sheettool.workbook.writer.tab import Tab
 
+LABEL_CHARS = 27  # characters per line of the 30-wide label column (bold, a little below what fits)
 NOTE_CHARS = 100  # characters per line of the 100-wide text column (a little below what fits: nothing is cut)
 CAUTION = (
     "These statistics support, and never replace, engineering judgement, the site's quality "
@@ -56,9 +58,11 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
     tab.row = 2
 
     def line(label: str, text: str, role: str = "wrap") -> None:
-        tab.text(0, label, "label")
+        tab.text(0, label, "lead")  # a long label wraps in its column rather than running under the text
         tab.text(1, text, role)
-        tab.fit(text, NOTE_CHARS)
+        height = max(style.row_height(text, NOTE_CHARS), style.row_height(label, LABEL_CHARS))
+        if height > style.line_height():
+            tab.height(height)
         tab.row += 1
 
     def section(title: str) -> None:
@@ -93,7 +97,7 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
     line("Protection", "every sheet is locked against editing (--protect); the digest above names the input read"
          if out.locked else "none: the sheets can be edited (run with --protect to lock them)")
     line("Hidden tabs", "limits-block (the machine-readable limits next month's run reads back) and chart-lines "
-                        "(the line geometry of the charts)")
+                        "(the axis labels, zone and specification lines and histograms the charts draw)")
     section("Settings")
     for result in results:
         if not result.settings:
