@@ -281,7 +281,8 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
                                tuple(t.name for t in data_tab[1:]))
         with out.values_only(layout.split):
             written = write_evaluation_tab(out, eval_tab, result, layout, f"signals_{i}",
-                                           replace(heading, what="charts, signals, capability and performance"))
+                                           replace(heading, what="charts, signals, capability and performance"),
+                                           page_tab.name)
             write_one_page(out, page_tab, result, layout, facts, eval_tab.name, replace(heading, what="summary"))
             stats_as_values = write_data_tab(out, data_tab, layout, sheet, written.limit_names if out.live else {},
                                              f"data_{i}", replace(heading, what="data and statistics"))

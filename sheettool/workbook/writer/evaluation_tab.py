@@ -65,10 +65,10 @@ def _counts(result: CharacteristicResult) -> str:
 
 
 def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult, layout: DataLayout,
-                         table: str, heading: cells.PageHeading) -> EvaluationWritten:
+                         table: str, heading: cells.PageHeading, summary_tab: str) -> EvaluationWritten:
     """Write the evaluation tab; return the names of its constant limits (for the data tab's formulas).
 
-    `table` names the tab's signal table (unique in the workbook).
+    `table` names the tab's signal table (unique in the workbook); `summary_tab` is the characteristic's summary.
     """
     fit, ch = result.fit, result.characteristic
     ws, fmt = tab.ws, tab.fmt
@@ -78,8 +78,9 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     written = EvaluationWritten()
     ws.write_string(0, 0, f"{ch.name}: {about.words}", fmt["title"])
     links = out.links
-    for c, (text, target) in enumerate((("Data and statistics", layout.tab), ("Scheme performance", links.performance),
-                                        ("Method and audit", links.notes)), start=1):
+    for c, (text, target) in enumerate((("Summary", summary_tab), ("Data and statistics", layout.tab),
+                                        ("Performance", links.performance), ("Method and audit", links.notes)),
+                                       start=1):
         ws.write_url(1, c, cells.internal_link(target), fmt["link"], string=text)
     ws.write_string(1, 0, "Go to:", fmt["label"])
     tab.row = 2
