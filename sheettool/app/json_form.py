@@ -15,7 +15,9 @@ from sheettool.core.data_shape import DataShapeReport
 from sheettool.core.design import RequirementsCheck
 from sheettool.core.estimated_limits import EstimatedLimitsReport
 from sheettool.core.runlength.results import Performance
+from sheettool.core.timing import SignalsAgainstChance
 from sheettool.evaluation.results import CharacteristicResult
+from sheettool.evaluation.summary import chance_of
 from sheettool.settings import Setting
 from sheettool.workbook.reader import SheetRead
 from sheettool.workbook.report import EvaluationReport
@@ -115,7 +117,14 @@ def characteristic_json(result: CharacteristicResult) -> dict[str, Any]:
         "estimated_limits": estimated_limits_json(result.estimated_limits),
         "data_shape": data_shape_json(result.data_shape),
         "requirements": requirements_json(result.requirements_check),
+        "signals_against_chance": chance_json(chance_of(result)),
     }
+
+
+def chance_json(chance: SignalsAgainstChance) -> dict[str, Any]:
+    """Points signalled beside the false alarms expected over the points plotted, and the chance of as many."""
+    return {"points": chance.points, "points_signalled": chance.signalled,
+            "false_alarms_expected": chance.expected, "chance_from_false_alarms": chance.probability}
 
 
 def estimated_limits_json(rep: EstimatedLimitsReport | None) -> dict[str, Any] | None:

@@ -26,6 +26,7 @@ from sheettool.base.errors import InputError, SheettoolError
 from sheettool.base.problems import Problem
 from sheettool.evaluation.summary import PackRow, Period, failed_row, pack_key, summary_row
 from sheettool.settings import Setting
+from sheettool.workbook.earlier_packs import TrendPoint
 from sheettool.workbook.reader.labels import SETTINGS_SHEET
 from sheettool.workbook.report import EvaluationReport
 from sheettool.workbook.writer import WriterOptions
@@ -150,13 +151,15 @@ def skipped_row(skipped: Skipped, roots: list[Path]) -> PackRow:
                    reason=f"{skipped.path}: {skipped.reason}")
 
 
-def write_pack(pack: Pack, path: Path, options: WriterOptions | None = None) -> None:
-    """Write the pack workbook: the summary first, then every evaluated characteristic, one audit for all.
+def write_pack(pack: Pack, path: Path, options: WriterOptions | None = None,
+               earlier: list[dict[str, TrendPoint]] | None = None) -> None:
+    """Write the pack workbook: the summary first (with `earlier` packs read back: trends), then every evaluated
+    characteristic, one audit for all.
 
     OutputError (exit 4) with the real cause when it cannot be written, whatever layer fails.
     """
     try:
-        write_pack_workbook(pack.rows, pack.period, pack.sources, path, options)
+        write_pack_workbook(pack.rows, pack.period, pack.sources, path, options, earlier)
     except SheettoolError:
         raise
     except Exception as exc:

@@ -44,7 +44,10 @@ def add_evaluation_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--formulas", action="store_true",
                    help="write per-subgroup statistics and constant limits as live formulas over the copied data")
     p.add_argument("--timestamp", metavar="WHEN",
-                   help="document date of the output, e.g. 2026-12-01T08:00 (default: the input's modification time)")
+                   help="document date of the output, e.g. 2026-12-01T08:00 (default: the evaluation time)")
+    p.add_argument("--protect", nargs="?", const="", default=None, metavar="PASSWORD",
+                   help="lock every sheet of the output against editing (optionally with a password); "
+                        "the action log's fill-in cells stay open")
     p.add_argument("--jobs", type=int, default=None, metavar="N",
                    help=f"processes to use when there are several inputs (default: all cores, here {default_jobs()})")
     p.add_argument("--quiet", action="store_true", help="no progress bar")
@@ -120,10 +123,10 @@ def number_list(option: str, text: str) -> tuple[float, ...]:
 
 
 def writer_options(args: argparse.Namespace) -> WriterOptions:
-    """--formulas and --timestamp as WriterOptions."""
+    """--formulas, --timestamp and --protect as WriterOptions."""
     from sheettool.workbook.writer import WriterOptions
 
-    return WriterOptions(formulas=args.formulas, timestamp=_timestamp(args.timestamp))
+    return WriterOptions(formulas=args.formulas, timestamp=_timestamp(args.timestamp), protect=args.protect)
 
 
 def default_jobs() -> int:

@@ -14,6 +14,7 @@ from sheettool.app.outputs import check_output
 from sheettool.app.pack import DEFAULT_TIME_LIMIT, Pack, Period, build_pack, write_pack
 from sheettool.base.errors import InputError, UsageError
 from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, number, print_json, writer_options
+from sheettool.workbook.earlier_packs import read_earlier_pack
 from sheettool.workbook.limits_block import read_limits_block
 
 SOME_FAILED = 5  # the pack was written, but some inputs or sheets could not be evaluated
@@ -29,6 +30,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--time-limit", metavar="SECONDS", default=str(DEFAULT_TIME_LIMIT),
                    help="most seconds one input may take; past it the input is stopped and becomes an error row "
                         f"(default {DEFAULT_TIME_LIMIT:g})")
+    p.add_argument("--earlier", type=Path, action="append", default=[], metavar="PACK.xlsx",
+                   help="an earlier review pack, for the trend view across packs (repeatable)")
     add_evaluation_options(p)
     p.set_defaults(run=run)
 
@@ -41,11 +44,14 @@ def run(args: argparse.Namespace) -> int:
     if args.limits_file:
         check_output(args.output, [(args.limits_file, "the limits file")])
     carried = read_limits_block(args.limits_file) if args.limits_file else None
+    if args.earlier:
+        check_output(args.output, [(p, "an earlier pack") for p in args.earlier])
+    earlier = [read_earlier_pack(p) for p in args.earlier]
     pack = build_pack(args.paths, settings, period, carried, jobs(args), Progress(0, quiet=args.quiet),
                       output=args.output, limits_file=args.limits_file, time_limit=time_limit)
     if not pack.evaluated:
         raise InputError("nothing could be evaluated: " + "; ".join(r.reason for r in pack.rows))
-    write_pack(pack, args.output, writer_options(args))
+    write_pack(pack, args.output, writer_options(args), earlier)
     failed = [r for r in pack.rows if "failed" in r.flags]
     if args.json:
         print_json(pack_json(pack, args.output))

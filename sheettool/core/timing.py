@@ -8,6 +8,8 @@ month needs an in-control ARL of at least hours_per_month / (interval x F).
 
 from __future__ import annotations
 
+import math
+from dataclasses import dataclass
 from typing import overload
 
 from scipy import special
@@ -59,3 +61,34 @@ def in_control_target(arl_in_control: float | None, false_alarms: float | None, 
             targets.append(implied)
     return max(targets) if targets else THREE_SIGMA_ARL
 
+
+
+@dataclass(frozen=True)
+class SignalsAgainstChance:
+    """The points signalled in a period beside what false alarms alone would give over that many points."""
+
+    points: int  # points plotted in the period
+    signalled: int  # of them, points that signalled
+    expected: float  # false alarms the in-control scheme expects over `points`: points / in-control ARL
+    probability: float  # chance that false alarms alone give `signalled` or more (Poisson with mean `expected`)
+
+
+def signals_against_chance(points: int, signalled: int, arl_in_control: float) -> SignalsAgainstChance:
+    """Compare the points signalled with the false alarms expected over `points` plotted points.
+
+    False alarms of a scheme that restarts after each alarm form a renewal process with mean spacing ARL0, so
+    their count over n points is close to Poisson with mean n / ARL0 (exactly binomial for a Shewhart chart;
+    Montgomery, ch. 6). P(N >= k) for Poisson is the regularized lower incomplete gamma function P(k, mean).
+    A run rule that signals several points in a row counts each of them, so a low probability means "more than
+    chance", not "this many separate causes".
+    """
+    if points < 0 or signalled < 0:
+        raise ValueError("points and signalled must be at least 0")
+    expected = points / arl_in_control if arl_in_control > 0 and math.isfinite(arl_in_control) else 0.0
+    if signalled == 0:
+        probability = 1.0
+    elif expected == 0.0:
+        probability = 0.0
+    else:
+        probability = float(special.gammainc(signalled, expected))
+    return SignalsAgainstChance(points, signalled, expected, probability)

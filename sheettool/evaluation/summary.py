@@ -12,6 +12,7 @@ import numpy as np
 
 from sheettool.core.capability import Capability
 from sheettool.core.charts import CHART_KINDS
+from sheettool.core.timing import SignalsAgainstChance, signals_against_chance
 from sheettool.evaluation.results import CharacteristicResult
 
 MIN_BASE_SUBGROUPS = 20  # fewer subgroups than this set the limits: "too little data" (common practice: 20-25)
@@ -84,6 +85,8 @@ class PackRow:
     status: str = ""
     reason: str = ""
     flags: list[str] = field(default_factory=list)
+    chance: SignalsAgainstChance | None = None  # the period's points signalled against false alarms alone
+    center: float | None = None  # the location chart's center line (at its first point)
     tab: int | None = None  # position of the characteristic's evaluation tab in the pack
 
 
@@ -114,14 +117,40 @@ def summary_row(source: str, result: CharacteristicResult, period: Period | None
     perf = result.performance
     row.arl_in_control = perf.arl_in_control if np.isfinite(perf.arl_in_control) else None
     row.false_alarms_per_month = perf.false_alarms_per_month
-    if int(result.fit.base.sum()) < MIN_BASE_SUBGROUPS:
+    row.center = float(result.fit.statistics[0].center[0]) if result.fit.statistics else None
+    row.chance = signals_against_chance(row.points, len({s.subgroup for s in signals}), perf.arl_in_control)
+    base = int(result.fit.base.sum())
+    reasons = []
+    if base < MIN_BASE_SUBGROUPS:
         row.flags.append("little")
+        reasons.append(f"limits from {base} subgroups, fewer than {MIN_BASE_SUBGROUPS}")
     if signals:
         row.flags.append("signals")
+        c = row.chance
+        reasons.append(f"{c.signalled} point(s) signalled where false alarms alone give {c.expected:.2g}; "
+                       f"chance of as many: {odds(c.probability)}")
     if row.cpk is not None and row.cpk < CAPABILITY_TARGET:
         row.flags.append("capability")
+        reasons.append(f"Cpk {row.cpk:.2f} below {CAPABILITY_TARGET}")
     row.status = "; ".join(STATUS_WORDS[f] for f in row.flags) or STATUS_WORDS["steady"]
+    row.reason = "; ".join(reasons)
     return row
+
+
+def points_signalled(result: CharacteristicResult) -> int:
+    """Distinct plotted points with at least one signal (a point breaking two rules counts once)."""
+    return len({s.subgroup for s in result.signals})
+
+
+def chance_of(result: CharacteristicResult) -> SignalsAgainstChance:
+    """All the points' signals against the false alarms the scheme expects for that many points."""
+    return signals_against_chance(result.characteristic.data.subgroups, points_signalled(result),
+                                  result.performance.arl_in_control)
+
+
+def odds(probability: float) -> str:
+    """A probability as a meeting reads it: a percentage, or "under 0.1%"."""
+    return f"{probability:.1%}" if probability >= 0.001 else "under 0.1%"
 
 
 def failed_row(source: str, sheet: str, reason: str) -> PackRow:

@@ -15,7 +15,7 @@ from xlsxwriter.worksheet import Worksheet
 from sheettool import TOOL_NAME, __version__
 from sheettool.core.design import CURVE_SHIFTS, Candidate, DesignResult, arl_curve, leading
 from sheettool.workbook import style
-from sheettool.workbook.writer import write_atomically
+from sheettool.workbook.writer import cells, write_atomically
 from sheettool.workbook.writer.book_writer import BookWriter
 from sheettool.workbook.writer.tab import Tab
 
@@ -84,46 +84,56 @@ def _cell(ws: Worksheet, row: int, col: int, value: str | float | None, fmt: For
         ws.write_string(row, col, "never" if value > 0 else "-", fmt)
 
 
-def _print_wide(ws: Worksheet) -> None:
-    ws.set_landscape()
-    ws.fit_to_pages(1, 0)  # one page wide, as many long as needed
+WIDTHS = (6, 30, 5, 9, 14, 11, 13, 10, 10, 12, 48)  # characters: the comparison table's columns
+TEXT_CHARS = sum(WIDTHS) - 4  # a line of text merged across the table
+
+
+def _print_setup(ws: Worksheet, what: str) -> None:
+    """Landscape A4, one page wide; the header says it is a scheme design, the footer the page."""
+    cells.print_setup(ws, cells.PageHeading(what, characteristic="Monitoring scheme design"))
+
+
+def _line(tab: Tab, text: str, role: str = "wrap") -> None:
+    """A line of text merged across the comparison table, wrapped, its row as tall as the text needs."""
+    tab.across(0, len(WIDTHS) - 1, text, role)
+    tab.fit(text, TEXT_CHARS)
+    tab.row += 1
 
 
 def _comparison(tab: Tab, result: DesignResult) -> None:
     ws, fmt = tab.ws, tab.fmt
-    _print_wide(ws)
-    ws.set_column(0, 0, 32)
-    ws.set_column(1, 1, 30)
-    ws.set_column(2, 9, 12)
-    ws.set_column(10, 10, 70)
+    _print_setup(ws, "scheme comparison")
+    for col, width in enumerate(WIDTHS):
+        ws.set_column(col, col, width)
     ws.write_string(0, 0, "Monitoring scheme design", fmt["title"])
-    row = 2
+    tab.row = 2
     for label, text in requirement_lines(result):
-        ws.write_string(row, 0, label, fmt["label"])
-        ws.write_string(row, 1, text)
-        row += 1
-    row += 1
-    verdict = ("Schemes meeting every requirement are listed first." if result.feasible
-               else "No scheme searched meets every requirement.")
-    ws.write_string(row, 0, verdict, fmt["label"])
+        tab.across(0, 1, label, "label")
+        tab.ws.merge_range(tab.row, 2, tab.row, len(WIDTHS) - 1, "", fmt["text"])
+        tab.text(2, text, "text")
+        tab.row += 1
+    tab.row += 1
+    _line(tab, "Schemes meeting every requirement are listed first." if result.feasible
+          else "No scheme searched meets every requirement.", "lead")
     for line in [*result.messages, *result.notes]:
-        row += 1
-        ws.write_string(row, 0, line, fmt["text"])
-    row += 2
-    ws.write_string(row, 0, "Trade-off", fmt["label"])
+        _line(tab, line)
+    tab.row += 1
+    _line(tab, "Trade-off", "lead")
     for line in result.trade_off:
-        row += 1
-        ws.write_string(row, 0, line, fmt["text"])
-    row += 2
-    top = row
+        _line(tab, line)
+    tab.row += 1
+    top = row = tab.row
     ws.repeat_rows(top)  # the table head on every printed page
     ws.write_row(row, 0, HEAD, fmt["head"])
-    number = {2: fmt["count"], 3: fmt["number"], 4: fmt["number"], 5: fmt["arl"], 6: fmt["number"], 7: fmt["arl"],
-              8: fmt["number"]}
+    tab.height(3 * style.LINE_HEIGHT, row)  # the heads wrap to three lines in their narrow columns
+    number = {0: fmt["count"], 1: fmt["text"], 2: fmt["count"], 3: fmt["figure"], 4: fmt["figure"], 5: fmt["arl"],
+              6: fmt["figure"], 7: fmt["arl"], 8: fmt["figure"], 9: fmt["flag"]}
     for rank, c in enumerate(result.candidates, start=1):
         row += 1
-        for col, value in enumerate(candidate_row(rank, c)):
-            _cell(ws, row, col, value, number.get(col))
+        values = candidate_row(rank, c)
+        for col, value in enumerate(values):
+            _cell(ws, row, col, value, fmt["wrap"] if col == len(HEAD) - 1 else number.get(col))
+        tab.fit(str(values[-1] or ""), WIDTHS[-1] - 2, row=row)
     if result.candidates:
         ws.autofilter(top, 0, row, len(HEAD) - 1)
     ws.freeze_panes(top + 1, 2)
@@ -131,8 +141,9 @@ def _comparison(tab: Tab, result: DesignResult) -> None:
 
 def _curves(out: BookWriter, tab: Tab, leading: list[Candidate]) -> None:
     ws, fmt = tab.ws, tab.fmt
-    _print_wide(ws)
-    ws.set_column(0, len(leading), 18)
+    _print_setup(ws, "ARL by shift of the leading schemes")
+    ws.set_column(0, len(leading), 22)
+    ws.set_row(0, 4 * style.LINE_HEIGHT)  # a scheme's name and sampling wrap to up to four lines
     ws.write_string(0, 0, "Mean shift (process standard deviations)", fmt["head"])
     for r, s in enumerate(CURVE_SHIFTS, start=1):
         ws.write_number(r, 0, s)
@@ -154,14 +165,19 @@ def _curves(out: BookWriter, tab: Tab, leading: list[Candidate]) -> None:
     chart.set_y_axis({"name": "ARL (points, log scale)", "log_base": 10, "min": 1,
                       "major_gridlines": {"visible": True, "line": {"color": style.MIST}}})
     chart.set_legend({"position": "bottom"})
-    if leading:
-        ws.insert_chart(xl_rowcol_to_cell(1, len(leading) + 2), chart, {"x_scale": 1.6, "y_scale": 1.5})
-    ws.write_string(last + 2, 0, "ARL: average number of points until the scheme signals, from a fresh start with "
-                    "the shift present from the first point. Schemes sampled at different intervals compare in "
-                    "time on the comparison tab.", fmt["text"])
+    note = ("ARL: average number of points until the scheme signals, from a fresh start with the shift present from "
+            "the first point. Schemes sampled at different intervals compare in time on the comparison tab.")
+    tab.row = last + 2
+    tab.across(0, max(1, len(leading)), note, "wrap")
+    tab.fit(note, 22 * (len(leading) + 1) - 4)
+    if leading:  # under the table, as wide as it: nothing beside it to overlap or to cut at the page's edge
+        chart.set_size({"width": min(style.CHART_WIDTH, 159 * (len(leading) + 1)), "height": style.CHART_HEIGHT + 130})
+        ws.set_h_pagebreaks([last + 4])  # the chart starts a page of its own: never cut by a page's edge
+        ws.insert_chart(xl_rowcol_to_cell(last + 4, 0), chart, {"x_offset": 4})
 
 
 def _notes(tab: Tab, result: DesignResult) -> None:
+    _print_setup(tab.ws, "about this design")
     tab.ws.set_column(0, 0, 26)
     tab.ws.set_column(1, 1, NOTE_WIDTH)
     tab.text(0, "About this design", "title")

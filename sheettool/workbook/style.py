@@ -2,8 +2,11 @@
 
 The scheme is built to survive a grey-scale print: each role differs from the others in lightness
 *and* in line pattern or marker shape, never in hue alone. Plotted points are small dark squares on
-a thin line; the center line is a mid-tone solid line; limits are dark long dashes; zone lines are
-light dotted hairlines; signals are large diamonds with a light fill and a heavy dark rim.
+a thin line; the center line is a mid-tone steel-blue solid line; limits are dark aubergine dashes;
+zone lines are light dotted hairlines; specification limits are burnt-orange dash-dots (charts of
+individual readings and the histogram only); points kept out of the limits are hollow grey circles;
+signals, drawn last, are large vermilion triangles with a heavy dark rim. A limit that varies from
+point to point is a short level bar at each point (no sloped joins, no spikes).
 """
 
 from __future__ import annotations
@@ -17,24 +20,27 @@ from xlsxwriter.workbook import Workbook
 Formats = dict[str, Format]  # the workbook's cell formats by role
 
 SLATE = "#263548"  # plotted statistic, titles
-PINE = "#6B8E7B"  # center line (mid-tone)
-UMBER = "#5A2E1C"  # control limits (dark)
+STEEL = "#3E7CB1"  # center line and the fitted curve (mid-tone)
+AUBERGINE = "#4A2545"  # control limits (dark)
 SAND = "#BDAE8C"  # zone lines (light)
-SAFFRON = "#F2C14E"  # fill of signalling points (light, so the dark rim reads in grey)
+EMBER = "#C4622D"  # specification limits and target (mid-tone)
+VERMILION = "#E4572E"  # fill of signalling points (the dark rim reads in grey)
+ASH = "#6B7689"  # rim of points kept out of the limits
 MIST = "#E9ECEF"  # header fills
 HAIRLINE = "#9AA5B1"  # table borders
 LINK = "#1F5F8B"  # hyperlinks
 WARN = "#8A1C1C"  # the caution text and the "not a stable process" label
 
 # Chart geometry in pixels; EVAL_COLUMNS are the evaluation tab's widths (characters) so that the
-# charts and the tables share one printed width.
-CHART_WIDTH = 940
+# charts and the tables share one printed width (about 1,000 pixels: the whole landscape page).
+CHART_WIDTH = 1000
 CHART_HEIGHT = 370
 CHART_ROWS = 20  # rows kept free for one chart (20 px each)
-EVAL_COLUMNS = (24, 18, 18, 14, 62)
-PERFORMANCE_COLORS = (SLATE, UMBER, PINE, "#7D5BA6", "#B0761C", "#3F7FA8")
+EVAL_COLUMNS = (24, 18, 18, 14, 66)
+PERFORMANCE_COLORS = (SLATE, AUBERGINE, STEEL, "#7D5BA6", "#B0761C", "#3F7FA8")
 PERFORMANCE_MARKERS = ("square", "diamond", "triangle", "circle", "x", "star")
 PERFORMANCE_DASHES = ("solid", "long_dash", "dash_dot", "round_dot", "dash", "long_dash_dot")
+PERCENT_STATISTICS = ("proportion",)  # statistics that are rates: shown as percentages
 FONT_SIZE = 11  # points: the workbook's body text
 LINE_HEIGHT = 15  # points: one line of body text, the default row height
 HEAD_HEIGHT = 2 * LINE_HEIGHT  # points: a table head whose words wrap to two lines
@@ -70,24 +76,37 @@ def marker_size(points: int) -> int:
     return 0
 
 
-def series_look(role: str, points: int) -> dict[str, Any]:
-    """xlsxwriter series options for a role: values, center, limit, zone, signal."""
+def series_look(role: str, points: int, varies: bool = False) -> dict[str, Any]:
+    """xlsxwriter series options for a role: values, center, limit, zone, spec, excluded, signal.
+
+    A line that `varies` from point to point (center, limit, zone) is drawn as a short level bar at each point.
+    """
     if role == "values":
         size = marker_size(points)
         marker = ({"type": "square", "size": size, "border": {"color": SLATE}, "fill": {"color": SLATE}}
                   if size else {"type": "none"})
         return {"line": {"color": SLATE, "width": 1.0 if points <= 250 else 0.5}, "marker": marker}
-    if role == "center":
-        return {"line": {"color": PINE, "width": 1.5}, "marker": {"type": "none"}}
-    if role == "limit":
-        return {"line": {"color": UMBER, "width": 1.5, "dash_type": "long_dash"}, "marker": {"type": "none"}}
-    if role == "zone":
-        return {"line": {"color": SAND, "width": 0.75, "dash_type": "round_dot"}, "marker": {"type": "none"}}
-    if role == "signal":
-        size = 9 if points <= 1000 else 7
+    lines = {"center": {"color": STEEL, "width": 1.5},
+             "limit": {"color": AUBERGINE, "width": 1.75, "dash_type": "dash"},
+             "zone": {"color": SAND, "width": 0.75, "dash_type": "round_dot"},
+             "spec": {"color": EMBER, "width": 1.5, "dash_type": "dash_dot"}}
+    if role in lines:
+        line = lines[role]
+        if varies:
+            return {"line": {"none": True},
+                    "marker": {"type": "long_dash", "size": max(3, min(12, 600 // max(points, 1))),
+                               "border": {"color": line["color"], "width": line["width"]},
+                               "fill": {"color": line["color"]}}}
+        return {"line": line, "marker": {"type": "none"}}
+    if role == "excluded":
         return {"line": {"none": True},
-                "marker": {"type": "diamond", "size": size, "border": {"color": SLATE, "width": 1.75},
-                           "fill": {"color": SAFFRON}}}
+                "marker": {"type": "circle", "size": max(7, marker_size(points) + 5),
+                           "border": {"color": ASH, "width": 1.75}, "fill": {"none": True}}}
+    if role == "signal":
+        size = 10 if points <= 1000 else 7
+        return {"line": {"none": True},
+                "marker": {"type": "triangle", "size": size, "border": {"color": SLATE, "width": 1.5},
+                           "fill": {"color": VERMILION}}}
     raise ValueError(f"unknown series role '{role}'")
 
 
@@ -97,6 +116,12 @@ def performance_look(i: int) -> dict[str, Any]:
     return {"line": {"color": color, "width": 1.75, "dash_type": PERFORMANCE_DASHES[i % len(PERFORMANCE_DASHES)]},
             "marker": {"type": PERFORMANCE_MARKERS[i % len(PERFORMANCE_MARKERS)], "size": 5,
                        "border": {"color": color}, "fill": {"color": "#FFFFFF"}}}
+
+
+def limit_role(statistic: str, decimals: int) -> str:
+    """The cell format of a statistic's center line and limits: a percentage for rates, else two decimals more
+    than the readings have."""
+    return "percent2" if statistic in PERCENT_STATISTICS else f"dec{min(10, decimals + 2)}"
 
 
 def number_format(decimals: int) -> str:
@@ -120,6 +145,7 @@ def formats(book: Workbook, decimals: int = 4) -> Formats:
         "head_note": book.add_format({"bold": True, "bg_color": MIST, "bottom": 1, "border_color": HAIRLINE,
                                       "text_wrap": True, "valign": "top", "align": "left", "indent": 2}),
         "text": book.add_format({"valign": "top"}),
+        "copied_text": book.add_format({"indent": 1}),
         "text_right": book.add_format({"valign": "top", "align": "right"}),
         "note": book.add_format({"valign": "top", "align": "left", "indent": 2, "text_wrap": True}),
         "wrap": book.add_format({"text_wrap": True, "valign": "top"}),
@@ -131,6 +157,10 @@ def formats(book: Workbook, decimals: int = 4) -> Formats:
         "count_right": book.add_format({"num_format": "#,##0", "valign": "top", "align": "right"}),
         "hours": book.add_format({"num_format": "#,##0.0"}),
         "date": book.add_format({"num_format": "yyyy-mm-dd hh:mm"}),
+        "percent": book.add_format({"num_format": "0.0%", "valign": "top"}),
+        "percent2": book.add_format({"num_format": "0.00%", "valign": "top"}),
+        "chance": book.add_format({"num_format": '[<0.001]"under 0.1%";0.0%', "valign": "top"}),
+        "key": book.add_format({"bold": True, "font_size": 12, "font_color": SLATE, "valign": "top"}),
         "caution": book.add_format({"italic": True, "text_wrap": True, "font_color": WARN, "valign": "top"}),
         "warn": book.add_format({"bold": True, "font_color": WARN}),
         "warn_wrap": book.add_format({"bold": True, "font_color": WARN, "text_wrap": True, "valign": "top"}),
@@ -138,6 +168,7 @@ def formats(book: Workbook, decimals: int = 4) -> Formats:
         "flag_warn": book.add_format({"bold": True, "font_color": WARN, "valign": "top", "align": "center"}),
         "lead": book.add_format({"bold": True, "font_color": SLATE, "text_wrap": True, "valign": "top"}),
         "link": book.add_format({"font_color": LINK, "underline": 1}),
+        "link_wrap": book.add_format({"font_color": LINK, "underline": 1, "text_wrap": True, "valign": "top"}),
     }
     for d in range(0, 11):
         fmt[f"dec{d}"] = book.add_format({"num_format": number_format(d), "valign": "top"})

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import datetime as dt
+import itertools
 import shutil
 from pathlib import Path
 
@@ -67,7 +68,7 @@ def test_pack_rows_errors_and_exit_code(run_cli, folder, tmp_path):
     assert book.sheetnames[0] == "Review summary"
     summary = list(book["Review summary"].iter_rows(values_only=True))
     header = next(i for i, r in enumerate(summary) if r[0] == "Source file")
-    rows = [r for r in summary[header + 1:] if r[0]]
+    rows = list(itertools.takewhile(lambda r: r[0], summary[header + 1:]))  # the table, not the contents below
     assert len(rows) == 7  # one per characteristic (4) plus one per bad input (3)
     # The summary's numbers equal the per-characteristic JSON.
     for char in data["characteristics"]:
@@ -150,3 +151,28 @@ def test_evaluate_takes_several_inputs(run_cli, tmp_path):
     assert [Path(e["input"]).name for e in result.json["evaluations"]] == ["a.xlsx", "b.xlsx"]
     assert (tmp_path / "a-evaluated.xlsx").exists() and (tmp_path / "b-evaluated.xlsx").exists()
     assert run_cli("evaluate", a, b, "-o", tmp_path / "x.xlsx").code == 2
+
+
+def test_trends_across_earlier_packs(run_cli, tmp_path):
+    root = tmp_path / "in"
+    root.mkdir()
+    _subgroups(root / "s.xlsx", seed=1, rows=40, shift_from=30)
+    october, november = tmp_path / "october.xlsx", tmp_path / "november.xlsx"
+    assert run_cli("pack", root, "-o", october, "--period", "2026-10", "--timestamp", "2026-11-01T08:00").code == 0
+    done = run_cli("pack", root, "-o", november, "--period", "2026-11", "--earlier", october, "--json",
+                   "--timestamp", "2026-12-01T08:00")
+    assert done.code == 0, done.err
+    rows = list(openpyxl.load_workbook(november)["Review summary"].iter_rows(values_only=True))
+    at = next(i for i, r in enumerate(rows) if r[0] == "Trends across packs")
+    head = next(i for i in range(at, len(rows)) if rows[i][0] == "Pack of")
+    earlier, now = rows[head + 1], rows[head + 2]
+    assert (earlier[0], now[0]) == ("2026-11-01", "2026-12-01")
+    # each pack's own figures: points in its period (10 in October, 30 in November), its signals and Cpk
+    char = done.json["characteristics"][0]
+    assert (earlier[3], now[3]) == (10, char["summary"]["points_in_period"])
+    assert now[4] == char["summary"]["signals_in_period"]
+    assert now[1] == pytest.approx(char["limits"]["mean"]["center"], rel=1e-12) == earlier[1]
+    assert now[5] == pytest.approx(30 / char["performance"]["arl_in_control"], rel=1e-9)  # points / ARL0
+    # a file that is not a pack is refused in one line naming it
+    bad = run_cli("pack", root, "-o", tmp_path / "x.xlsx", "--earlier", root / "s.xlsx")
+    assert bad.code == 3 and "s.xlsx" in bad.err and "Traceback" not in bad.err

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import itertools
 import json
 import os
 import signal
@@ -46,7 +47,7 @@ def _stuck_on_slow(job: FileJob) -> FileOutcome:
 def _summary_rows(path: Path) -> list[tuple]:
     rows = list(openpyxl.load_workbook(path, read_only=True)["Review summary"].iter_rows(values_only=True))
     header = next(i for i, r in enumerate(rows) if r[0] == "Source file")
-    return [r for r in rows[header + 1:] if r[0]]
+    return list(itertools.takewhile(lambda r: r[0], rows[header + 1:]))  # the table, not the contents below
 
 
 def test_a_killed_worker_costs_its_file_only(run_cli, tmp_path, monkeypatch):

@@ -7,6 +7,7 @@ from pathlib import Path
 
 import openpyxl
 import pytest
+from scipy import stats
 
 from tests.conftest import sha256
 
@@ -24,6 +25,13 @@ def test_demo_end_to_end(run_cli, demo_copy, tmp_path):
     char = chars["Bore diameter"]
     assert char["chart"] == "xbar-r" and char["subgroup_size"] == 5 and char["subgroups"] == 30
     assert any(s["statistic"] == "mean" and s["subgroup"] >= 22 for s in char["signals"])
+    # signals against chance: the distinct points signalled beside points / in-control ARL false alarms expected;
+    # reference for the tail: scipy.stats.poisson
+    chance = char["signals_against_chance"]
+    assert chance["points_signalled"] == len({s["subgroup"] for s in char["signals"]}) and chance["points"] == 30
+    assert chance["false_alarms_expected"] == pytest.approx(30 / char["performance"]["arl_in_control"], rel=1e-12)
+    assert chance["chance_from_false_alarms"] == pytest.approx(
+        stats.poisson.sf(chance["points_signalled"] - 1, chance["false_alarms_expected"]), rel=1e-9)
     # The same limits must stand in the evaluation tab as in the JSON.
     book = openpyxl.load_workbook(out)
     tab = next(ws for ws in book.worksheets if ws.title.startswith("Bore") and ws.title.endswith("chart"))
@@ -32,10 +40,11 @@ def test_demo_end_to_end(run_cli, demo_copy, tmp_path):
     for label, stat in (("Subgroup mean", "mean"), ("Subgroup range", "range")):
         lim = char["limits"][stat]
         assert rows[label] == pytest.approx((lim["center"], lim["lcl"], lim["ucl"]), rel=1e-12)
-    # Native chart objects: one per plotted statistic (2 + 1 + 2) and the ARL-against-shift chart.
+    # Native chart objects: one per plotted statistic (2 + 1 + 2) on the chart tabs and again on the one-page
+    # summaries, a histogram for each of the two measured characteristics, and the ARL-against-shift chart.
     with zipfile.ZipFile(out) as z:
         charts = [n for n in z.namelist() if n.startswith("xl/charts/chart")]
-    assert len(charts) == 6
+    assert len(charts) == 2 * 5 + 2 + 1
 
 
 def test_demo_leak_test_and_crimp_force_sheets(run_cli, demo_copy, tmp_path):

@@ -1,6 +1,8 @@
 """The typed values the layers share: time (ATS, false alarms per month, the in-control target), the parameters of
 the time-weighted charts and the sigma-method enumeration."""
 
+import math
+
 import pytest
 from scipy import stats
 
@@ -12,6 +14,7 @@ from sheettool.core.timing import (
     ats_hours,
     false_alarms_per_month,
     in_control_target,
+    signals_against_chance,
 )
 
 
@@ -59,3 +62,19 @@ def test_sigma_methods_words_and_the_estimators_modelled():
     assert modelled_method("s-bar") is SigmaMethod.S_BAR
     with pytest.raises(ValueError, match="sigma_method must be one of range, s-bar, pooled, moving-range"):
         modelled_method(SigmaMethod.PROPORTION)
+
+
+def test_signals_against_chance_is_the_poisson_tail():
+    # 3-sigma limits, known parameters: ARL 370.4 (common practice); 720 hourly points expect 1.94 false alarms
+    chance = signals_against_chance(720, 5, THREE_SIGMA_ARL)
+    assert chance.expected == pytest.approx(720 / 370.398, rel=1e-4)
+    # reference: scipy.stats.poisson, P(N >= 5) = sf(4)
+    assert chance.probability == pytest.approx(stats.poisson.sf(4, chance.expected), rel=1e-10)
+    m = chance.expected  # an independent computation: 1 - sum over k < 5 of e^-m m^k / k!
+    assert chance.probability == pytest.approx(1 - sum(math.exp(-m) * m**k / math.factorial(k) for k in range(5)))
+    # the binomial count of a Shewhart chart is close to it: 720 points, p = 0.0027 (common practice)
+    assert chance.probability == pytest.approx(stats.binom.sf(4, 720, 1 / THREE_SIGMA_ARL), rel=0.02)
+    assert signals_against_chance(30, 0, 137.2).probability == 1.0
+    assert signals_against_chance(30, 2, math.inf).probability == 0.0  # a scheme that never alarms falsely
+    with pytest.raises(ValueError):
+        signals_against_chance(-1, 0, 370.0)

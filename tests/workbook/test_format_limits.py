@@ -74,9 +74,10 @@ def test_data_continues_on_a_second_tab_and_charts_draw_their_last_points(tmp_pa
     # every chart refers within the rows and to tabs that exist
     refs = _chart_references(out)
     assert refs and all(sheet in book.sheetnames and row <= 1000 for sheet, _, row in refs)
-    most = (1000 - 1) // 2  # two chart-lines rows a subgroup below a header row
+    most = 1000 - 1  # one chart-lines row a point below a header row
     titles = _chart_titles(out)
-    assert sum(f"(last {most} of 1,500 subgroups)" in t for t in titles) == 2  # individuals and moving range
+    # individuals and moving range, on the one-page summary and on the chart tab
+    assert sum(f"(last {most} of 1,500 subgroups)" in t for t in titles) == 4
     said = [p.message for p in report.problems]
     assert any("continues on 'bore data 2'" in m and "every reading is kept" in m and "values, not formulas" in m
                for m in said)
@@ -141,8 +142,8 @@ def test_long_note_is_cut_with_a_visible_mark_and_a_warning(tmp_path):
 def test_a_library_warning_becomes_a_note_not_a_terminal_line(tmp_path, monkeypatch, capfd):
     looks = style.series_look
 
-    def odd_marker(kind: str, m: int) -> dict:
-        look = looks(kind, m)
+    def odd_marker(kind: str, m: int, varies: bool = False) -> dict:
+        look = looks(kind, m, varies)
         return {**look, "marker": {"type": "pentagram"}} if kind == "signal" else look  # xlsxwriter warns of it
 
     monkeypatch.setattr(style, "series_look", odd_marker)
@@ -188,13 +189,13 @@ def test_real_limits_on_a_600k_subgroup_p_chart_and_a_million_individuals(tmp_pa
     assert format_limits.ROWS == 1_048_576 and format_limits.CHART_SERIES == 255  # the format's own (common practice)
     assert data_tab_count(1_048_575) == 2  # 1,048,573 subgroups below a tab's three head rows, 2 on the next
     assert format_limits.spans(1_048_575, rows_per_tab()) == [(0, 1_048_573), (1_048_573, 1_048_575)]
-    result, read = attribute_case(m=600_000)  # lot sizes vary: stepped limits, two chart-lines rows a subgroup
+    result, read = attribute_case(m=600_000)  # lot sizes vary: limits vary per point
     out = BookWriter(str(tmp_path / "unwritten.xlsx"))
     layout = plan_data_tab(result, read, "Seal leaks data", "Seal leaks chart")
     chart = control_chart(out, layout, next(iter(layout.stats.values())), False, "p: Seal leaks", "", [])
     assert max(len(values) for _, values in out.lines.columns) <= 1_048_576 - 1  # below the header row
     last_rows = [int(ref.rsplit("$", 1)[1]) for s in chart.series for ref in (s["values"], s["categories"])]
     assert max(last_rows) <= 1_048_576
-    most = (1_048_576 - 1) // 2
-    assert chart.series[-1]["values"] == f"'Seal leaks data'!$F${600_003 - most + 1}:$F$600003"  # the p column
-    assert any(f"the last {most:,} of 600,000 subgroups" in p.message for p in out.found())
+    # one chart-lines row a point: all 600,000 are drawn, straight from the data tab's p column
+    assert chart.series[-1]["values"] == "'Seal leaks data'!$F$4:$F$600003"
+    assert not any("draws the last" in p.message for p in out.found())

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import datetime as dt
 import os
+import re
 import shutil
 import subprocess
 from pathlib import Path
@@ -79,12 +80,43 @@ def outputs(tmp_path_factory) -> dict[str, Path]:
     return files
 
 
-def test_every_output_converts_to_pdf(outputs, tmp_path):
+@pytest.fixture(scope="module")
+def pdfs(outputs, tmp_path_factory) -> dict[str, Path]:
+    """Every output printed to PDF by LibreOffice, in one call."""
+    tmp = tmp_path_factory.mktemp("pdf")
     files = [p for k, p in outputs.items() if k != "probe"]
-    _convert(files, "pdf", tmp_path / "pdf", tmp_path / "profile")
-    for path in files:
-        pdf = tmp_path / "pdf" / f"{path.stem}.pdf"
-        assert pdf.exists() and pdf.read_bytes()[:5] == b"%PDF-" and pdf.stat().st_size > 10_000, path.name
+    _convert(files, "pdf", tmp / "pdf", tmp / "profile")
+    return {k: tmp / "pdf" / f"{p.stem}.pdf" for k, p in outputs.items() if k != "probe"}
+
+
+def test_every_output_converts_to_pdf(pdfs):
+    for key, pdf in pdfs.items():
+        assert pdf.exists() and pdf.read_bytes()[:5] == b"%PDF-" and pdf.stat().st_size > 10_000, key
+
+
+def _pages(pdf: Path) -> list[str]:
+    """The text of each printed page (poppler's pdftotext; form feeds part the pages)."""
+    if shutil.which("pdftotext") is None:
+        pytest.skip("poppler (pdftotext) is not installed")
+    done = subprocess.run(["pdftotext", "-layout", str(pdf), "-"], capture_output=True, text=True, timeout=60)
+    assert done.returncode == 0, done.stderr
+    return done.stdout.split("\f")[:-1]
+
+
+@pytest.mark.parametrize("key", ["demo", "pack"])
+def test_summary_is_one_printed_page_per_characteristic_and_pages_say_what_they_show(outputs, pdfs, key):
+    book = openpyxl.load_workbook(outputs[key], read_only=True)
+    summaries = [n for n in book.sheetnames if n.endswith(" summary") and n != "Review summary"]
+    pages = _pages(pdfs[key])
+    found = [p for p in pages if re.search(r"sheettool: summary; (section \d+; )?evaluated", p)]
+    assert len(found) == len(summaries) == (3 if key == "demo" else 6)  # exactly one page each
+    for page, tab in zip(found, summaries, strict=True):
+        name = tab.removesuffix(" summary").split(" (")[0]
+        assert f"{name}: summary" in page  # the title, then the header: part and characteristic, source, period
+        assert re.search(rf"H[AF]-220 · {name}", page) and f"sheet {name}" in page and ".xlsx" in page
+        assert re.search(r"\d{4}-\d\d-\d\d \d\d:\d\d to \d{4}-\d\d-\d\d \d\d:\d\d", page)
+    # every page says what it is and where it is: the evaluation date in ISO form and page x of y
+    assert all(re.search(r"evaluated \d{4}-\d\d-\d\d", p) and re.search(r"page \d+ of \d+", p) for p in pages)
 
 
 def test_recalculated_values_equal_sheettools(outputs, tmp_path):

@@ -76,6 +76,17 @@ def test_pack_with_same_names_uses_the_part(tmp_path, capsys):
     out = tmp_path / "pack.xlsx"
     main(["pack", str(folder), "-o", str(out)])
     names = openpyxl.load_workbook(out, read_only=True).sheetnames
-    assert "Bore diameter chart" in names
-    assert "Bore diameter (P-200) chart" in names
-    assert not any("~" in n for n in names)
+    # every one of a shared name is told apart, the first as much as the second
+    assert {"Bore diameter (P-100) chart", "Bore diameter (P-200) chart", "Bore diameter (P-100) summary"} <= set(names)
+    assert not any("~" in n for n in names) and "Bore diameter chart" not in names
+
+
+def test_pack_with_same_names_and_parts_uses_the_words_of_the_file_names_that_differ(tmp_path, capsys):
+    folder = tmp_path / "inputs"
+    folder.mkdir()
+    for line in ("line2", "line3"):
+        _workbook(folder / f"{line}-november.xlsx", ["Bore diameter"], part="P-100")
+    out = tmp_path / "pack.xlsx"
+    main(["pack", str(folder), "-o", str(out)])
+    names = openpyxl.load_workbook(out, read_only=True).sheetnames
+    assert {"Bore diameter (line2) chart", "Bore diameter (line3) chart"} <= set(names)

@@ -36,10 +36,11 @@ def _xml(path: Path, pattern: str) -> dict[str, str]:
 
 def test_tabs_in_order_and_hidden_helpers(built):
     book = openpyxl.load_workbook(built)
-    assert book.sheetnames == ["Sleeve length chart", "Seal leaks chart", "Scheme performance", "Sleeve length data",
-                               "Seal leaks data", "Method and audit", "limits-block", "chart-lines"]
+    assert book.sheetnames == ["Sleeve length summary", "Sleeve length chart", "Seal leaks summary", "Seal leaks chart",
+                               "Scheme performance", "Sleeve length data", "Seal leaks data", "Method and audit",
+                               "limits-block", "chart-lines"]
     assert book["limits-block"].sheet_state == "hidden" and book["chart-lines"].sheet_state == "hidden"
-    assert all(book[n].sheet_state == "visible" for n in book.sheetnames[:6])
+    assert all(book[n].sheet_state == "visible" for n in book.sheetnames[:8])
 
 
 def test_evaluation_tab_contents(built):
@@ -82,21 +83,44 @@ def test_tables_names_and_links(built):
     assert book["Sleeve length data"].print_area == "'Sleeve length data'!$A$1:$V$43"
 
 
-def test_charts_are_native_scatter_with_stepped_limits(built):
+def _series(chart: str) -> list[tuple[str, str, str]]:
+    """(name, categories reference, values reference) of every series of a chart's XML, in drawing order."""
+    out = []
+    for ser in re.findall(r"<c:ser>(.*?)</c:ser>", chart, re.S):
+        name = re.search(r"<c:tx>.*?<c:v>([^<]*)</c:v>", ser, re.S)
+        refs = re.findall(r"<c:f>([^<]*)</c:f>", ser)
+        out.append((name.group(1) if name else "", refs[-2] if len(refs) >= 2 else "", refs[-1] if refs else ""))
+    return out
+
+
+def test_control_charts_read_at_a_glance(built):
     charts = _xml(built, r"xl/charts/chart\d+\.xml")
-    assert len(charts) == 3 + 1  # two statistics, one attribute chart, the ARL chart
-    assert all("<c:scatterChart>" in x for x in charts.values())
+    assert len(charts) == 2 * 3 + 1 + 1  # on the summary and the chart tab: 2 + 1 statistics; histogram; ARL
+    control = [x for x in charts.values() if "<c:lineChart>" in x]
+    assert len(control) == 6
     arl = [x for x in charts.values() if "Average run length" in x]
-    assert len(arl) == 1 and '<c:logBase val="10"/>' in arl[0]
-    lines = openpyxl.load_workbook(built)["chart-lines"]
-    heads = [c.value for c in lines[1]]
-    steps = heads.index("Sleeve length data: x (steps)")
-    # a staircase: two points per subgroup
-    assert sum(1 for r in lines.iter_rows(min_row=2, min_col=steps + 1, max_col=steps + 1) if r[0].value is not None) \
-        == 2 * 40
-    mean_chart = next(x for x in charts.values() if "Subgroup mean: Sleeve length" in x)
-    assert "yyyy-mm-dd" in mean_chart or "mm-dd hh:mm" in mean_chart  # dates on the x axis
-    assert mean_chart.count("<c:ser>") == 4 + 2 + 1 + 2  # zones (zone rules in use), limits, center, points, signals
+    assert len(arl) == 1 and '<c:logBase val="10"/>' in arl[0] and "<c:scatterChart>" in arl[0]
+    for chart in control:
+        series = _series(chart)
+        names = [n for n, _, _ in series]
+        # points in sequence on a category (text) axis, signals drawn last, in a shape of their own
+        assert "<c:catAx>" in chart and "<c:dateAx>" not in chart
+        if "signal" in names:
+            assert names[-1] == "signal" and '<c:symbol val="triangle"/>' in chart
+    mean_chart = next(x for x in control if "Subgroup mean: Sleeve length" in x)
+    names = [n for n, _, _ in _series(mean_chart)]
+    assert names.count("zone lines (1 and 2 standard errors)") == 4 and names.count("UCL and LCL") == 2
+    assert "LSL" not in names  # no specification lines on a chart of means (common practice)
+    # limits that vary with the subgroup size are a level bar at each point: no line joins them, no spike
+    limits = [ser for ser in re.findall(r"<c:ser>(.*?)</c:ser>", mean_chart, re.S) if "UCL and LCL" in ser]
+    assert all("<a:noFill/>" in ser.split("<c:marker>")[0] and '<c:symbol val="dash"/>' in ser for ser in limits)
+    # the axis labels are ISO dates at every few points, blank between
+    book = openpyxl.load_workbook(built)
+    _, categories, _ = _series(mean_chart)[0]
+    tab, cells_ = categories.split("!")
+    labels = [c.value for row in book[tab.strip("'")][cells_.replace("$", "")] for c in row]
+    assert len(labels) == 40 and labels[0] == "2026-11-02 06:00" and None in labels
+    assert all(re.fullmatch(r"\d{4}-\d\d-\d\d \d\d:\d\d", v) for v in labels if v)
 
 
 def test_performance_tab_uses_curve(built):
@@ -151,26 +175,26 @@ def test_without_formulas_only_values(tmp_path):
     assert not any("<f>" in x for x in _xml(out, r"xl/worksheets/sheet\d+\.xml").values())
 
 
-def test_reproducible_bytes(tmp_path):
+def test_reproducible_bytes_and_the_evaluation_date(tmp_path):
+    from sheettool.workbook.writer.notes_tab import stamp_for
+
     report = report_for(tmp_path, [varying_sizes_case(), attribute_case()])
     a, b = tmp_path / "a.xlsx", tmp_path / "b.xlsx"
-    when = dt.datetime(2026, 11, 30, 17, 5, tzinfo=dt.UTC).timestamp()
-    os.utime(report.input, (when, when))
-    write_evaluated_workbook(report, a, WriterOptions(formulas=True))
-    write_evaluated_workbook(report, b, WriterOptions(formulas=True))  # a re-run: same input, same time
-    c = tmp_path / "c.xlsx"
-    os.utime(report.input, (when + 3600, when + 3600))
-    write_evaluated_workbook(report, c, WriterOptions(formulas=True))
-    with zipfile.ZipFile(b) as zb, zipfile.ZipFile(c) as zc:
-        differ = [n for n in zb.namelist() if zb.read(n) != zc.read(n)]
-    # only the document date follows the input's time: in the properties and in the audit notes
-    assert set(differ) == {"docProps/core.xml", "xl/sharedStrings.xml"}
+    for path in (a, b):  # a re-run with the same --timestamp gives the same bytes
+        write_evaluated_workbook(report, path, WriterOptions(formulas=True, timestamp=dt.datetime(2026, 12, 1)))
     assert a.read_bytes() == b.read_bytes()
     assert "<f>" in "".join(_xml(a, r"xl/worksheets/sheet\d+\.xml").values())
-    d, e = tmp_path / "d.xlsx", tmp_path / "e.xlsx"
-    for path in (d, e):
-        write_evaluated_workbook(report, path, WriterOptions(timestamp=dt.datetime(2026, 12, 1)))
-    assert d.read_bytes() == e.read_bytes()
+    # without --timestamp the document date is the evaluation time, never the input's modification time
+    os.utime(report.input, (0, 0))
+    c = tmp_path / "c.xlsx"
+    before = dt.datetime.now(dt.UTC).replace(tzinfo=None, microsecond=0)
+    write_evaluated_workbook(report, c)
+    core = _xml(c, r"docProps/core.xml")["docProps/core.xml"]
+    when = dt.datetime.strptime(re.search(r"<dcterms:created[^>]*>([^<]+)Z<", core).group(1), "%Y-%m-%dT%H:%M:%S")
+    assert before <= when <= before + dt.timedelta(minutes=5)
+    assert f"evaluated {when:%Y-%m-%d}" in openpyxl.load_workbook(c)["Sleeve length chart"].oddFooter.left.text
+    stamp = stamp_for(None, dt.datetime(2026, 12, 1, 8, 30, 15, 999, tzinfo=dt.UTC))
+    assert stamp.when == dt.datetime(2026, 12, 1, 8, 30, 15) and stamp.origin == "the evaluation time, UTC"
 
 
 def test_output_is_never_macro_enabled(tmp_path):
@@ -270,18 +294,14 @@ def test_demo_with_timestamp_option(run_cli, demo_copy, tmp_path):
     assert bad.code == 2 and "--timestamp" in bad.err
 
 
-def test_long_charts_stay_readable(tmp_path):
-    # hundreds of points: small markers, none above a thousand, and whole-number subgroup labels
+def test_long_charts_stay_readable():
+    # hundreds of points: small markers, none above a thousand; signals larger than the points
     from sheettool.workbook import style
-    from sheettool.workbook.writer.charts import subgroup_axis
-    from sheettool.workbook.writer.data_tab import plan_data_tab
 
     assert style.series_look("values", 30)["marker"]["size"] > style.series_look("values", 400)["marker"]["size"]
     assert style.series_look("values", 5000)["marker"] == {"type": "none"}
     assert style.series_look("signal", 5000)["marker"]["size"] >= 7  # signals stay visible
-    result, read = varying_sizes_case(m=40)
-    axis = subgroup_axis(plan_data_tab(result, read, "t", "e"))
-    assert axis["num_format"] == "mm-dd hh:mm" and axis["major_unit"] <= 1.0
+    assert style.series_look("signal", 30)["marker"]["size"] > style.series_look("values", 30)["marker"]["size"]
 
 
 def test_three_statistics_with_missing_and_varying_limits(tmp_path):
@@ -292,7 +312,7 @@ def test_three_statistics_with_missing_and_varying_limits(tmp_path):
     rows = {r[0]: r[1:5] for r in book["Torque chart"].iter_rows(values_only=True) if r[0]}
     assert rows["EWMA"][1] == "varies" and rows["EWMA"][0] == pytest.approx(50.0)
     assert rows["CUSUM above target"][1] == "none" and rows["CUSUM above target"][2] == pytest.approx(2.5)
-    assert len(_xml(out, r"xl/charts/chart\d+\.xml")) == 3 + 1
+    assert len(_xml(out, r"xl/charts/chart\d+\.xml")) == 3 + 2 + 1 + 1  # chart tab, summary (two), histogram, ARL
     assert "EWMA" in " ".join(str(r[1]) for r in book["Method and audit"].iter_rows(values_only=True) if r[1])
 
 
@@ -311,3 +331,48 @@ def test_chart_names_from_the_input_stay_literal(tmp_path):
     xml = _xml(path, r"xl/charts/chart1\.xml")["xl/charts/chart1.xml"]
     assert "<c:v>=Sheet1! $A$1</c:v>" in xml and "<c:f>" not in xml.split("<c:xVal>")[0]
     assert chart_text("Bore") == "Bore" and chart_text("=Bore") == "=Bore"
+
+
+def _cells_of(book: openpyxl.Workbook, ref: str) -> list:
+    tab, where = ref.split("!")
+    return [c.value for row in book[tab.strip("'")][where.replace("$", "")] for c in row]
+
+
+def test_histogram_with_spec_lines_and_fitted_curve(built):
+    book = openpyxl.load_workbook(built)
+    hist = next(x for x in _xml(built, r"xl/charts/chart\d+\.xml").values() if "Readings of Sleeve length" in x)
+    series = {name: (xs, ys) for name, xs, ys in _series(hist)}
+    assert list(series)[:2] == ["readings per bin", "fitted normal (mean, overall sigma)"]
+    # LSL, USL and target are vertical lines at the specification of the case (24.95, 25.05, target 25.0)
+    for name, value in (("LSL", 24.95), ("USL", 25.05), ("target", 25.0)):
+        xs, ys = series[name]
+        assert _cells_of(book, xs) == [value, value] and _cells_of(book, ys)[0] == 0
+    # the bars hold every reading once: each bar is four outline points, its height the count in the bin
+    heights = _cells_of(book, series["readings per bin"][1])[1::4]
+    readings = int(np.isfinite(varying_sizes_case()[0].characteristic.data.values).sum())
+    assert sum(heights) == readings
+    # the curve is the normal density times readings x bin width: its area equals the readings (a check by sums)
+    xs, ys = (np.array(_cells_of(book, ref), dtype=float) for ref in series["fitted normal (mean, overall sigma)"])
+    edges = _cells_of(book, series["readings per bin"][0])
+    width = edges[2] - edges[0]
+    assert np.trapezoid(ys, xs) / width == pytest.approx(readings, rel=0.01)
+    # the summary tab is one landscape page and names the characteristic, source and period in its header
+    page = book["Sleeve length summary"]
+    assert page.sheet_properties.pageSetUpPr.fitToPage and page.page_setup.fitToHeight in (None, 1)  # 1: default
+    assert page.page_setup.orientation == "landscape"
+    assert "Sleeve length" in page.oddHeader.left.text and "sheet" in page.oddHeader.right.text
+
+
+def test_protect_locks_every_sheet_and_the_audit_names_the_input(run_cli, tmp_path):
+    source = tmp_path / "bore.csv"
+    source.write_text("Point,Diameter\n" + "".join(f"{i + 1},{10 + 0.01 * ((i * 7) % 5):.2f}\n" for i in range(25)))
+    out = tmp_path / "locked.xlsx"
+    assert run_cli("evaluate", source, "-o", out, "--protect", "s3cret").code == 0
+    book = openpyxl.load_workbook(out)
+    assert all(ws.protection.sheet and ws.protection.password for ws in book.worksheets)
+    audit = "\n".join(str(v) for row in book["Method and audit"].iter_rows(values_only=True) for v in row if v)
+    assert sha256(source) in audit and "locked against editing" in audit
+    bare = tmp_path / "bare.xlsx"
+    assert run_cli("evaluate", source, "-o", bare, "--protect").code == 0  # locked without a password
+    ws = openpyxl.load_workbook(bare)["Method and audit"]
+    assert ws.protection.sheet and not ws.protection.password

@@ -1,7 +1,8 @@
 """Assemble the evaluated workbook: tab order and names, document properties, atomic write.
 
-Tabs, in order: one evaluation tab per characteristic, the scheme-performance tab, one data tab per
-characteristic, the method and audit tab, then the hidden limits block and chart-lines tabs.
+Tabs, in order: per characteristic its one-page summary and its evaluation tab, the scheme-performance
+tab, the data tabs of each characteristic, the method and audit tab, then the hidden limits block and
+chart-lines tabs.
 """
 
 from __future__ import annotations
@@ -10,13 +11,14 @@ import contextlib
 import datetime as dt
 import gc
 import os
+import re
 import shutil
 import socket
 import sys
 import tempfile
 import time
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
@@ -28,20 +30,23 @@ from sheettool.evaluation.results import CharacteristicResult
 from sheettool.workbook.limits_block import LIMITS_SHEET, limits_rows
 from sheettool.workbook.report import EvaluationReport, SheetEvaluation
 from sheettool.workbook.writer.book_writer import NOTES_TAB, PERFORMANCE_TAB, BookWriter
+from sheettool.workbook.writer.cells import PageHeading
 from sheettool.workbook.writer.data_tab import data_tab_count, plan_data_tab, write_data_tab
 from sheettool.workbook.writer.evaluation_tab import write_evaluation_tab
 from sheettool.workbook.writer.lines import LINES_SHEET
 from sheettool.workbook.writer.notes_tab import Stamp, stamp_for, write_notes_tab
+from sheettool.workbook.writer.one_page import PageFacts, period_words, write_one_page
 from sheettool.workbook.writer.performance_tab import write_performance_tab
 from sheettool.workbook.writer.tab import Tab
 
 
 @dataclass
 class WriterOptions:
-    """How the workbook is written: live formulas or values, and the fixed document date."""
+    """How the workbook is written: live formulas or values, the fixed document date, sheets locked or not."""
 
     formulas: bool = False
     timestamp: dt.datetime | None = None
+    protect: str | None = None  # --protect: lock every sheet ("" locks without a password)
 
 
 def _plain_file_mode() -> int:
@@ -169,12 +174,27 @@ def _alive(pid: int) -> bool:
     return True
 
 
+@dataclass(frozen=True)
+class Section:
+    """One characteristic's part of the workbook: its title (name, told apart from others of the same name), its
+    source, and its tabs: summary, chart tab, first data tab."""
+
+    title: str
+    source: str
+    tabs: tuple[str, str, str]
+
+    @property
+    def first_tab(self) -> str:
+        """The tab the section opens with: its one-page summary."""
+        return self.tabs[0]
+
+
 @dataclass
 class Summary:
-    """A tab written first, before the evaluation tabs (the pack's summary); it gets the evaluation tab names."""
+    """A tab written first, before the evaluation tabs (the pack's summary); it gets the sections."""
 
     name: str
-    write: Callable[[Tab, list[str]], None]  # (its tab, the evaluation tab names)
+    write: Callable[[BookWriter, Tab, list[Section], PageHeading], None]  # (its tab, the sections, its heading)
 
 
 def write_evaluated_workbook(report: EvaluationReport, path: Path, options: WriterOptions | None = None) -> None:
@@ -196,15 +216,18 @@ def write_workbook(reports: list[EvaluationReport], path: Path, options: WriterO
     for report in reports:
         if path.resolve() == report.input.resolve():
             raise OutputError(f"{path}: refusing to write the output over the input; choose another name with -o")
-    stamp = stamp_for(reports, options.timestamp)
+    stamp = stamp_for(options.timestamp)
 
     def build(tmp: str) -> None:
         fixed = (NOTES_TAB, LIMITS_SHEET, PERFORMANCE_TAB, LINES_SHEET) + ((summary.name,) if summary else ())
         out = BookWriter(tmp, live=options.formulas, reserved=fixed, file=path.name)
+        out.locked = options.protect is not None
         with out.catching():
             _properties(out, reports, stamp)
             out.book.set_calc_mode("auto")
             _tabs(out, reports, stamp, summary, block_keys or [])
+            if options.protect is not None:
+                out.protect(options.protect)
             out.close()
             _hand_back(reports[0].problems, out.found())
 
@@ -226,42 +249,65 @@ def _properties(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp) 
 
 def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summary: Summary | None,
           block_keys: list[str]) -> None:
-    """Add the tabs in their order, then write each: evaluation and data tabs per characteristic, then the rest."""
+    """Add the tabs in their order, then write each: per characteristic its one-page summary and evaluation tab,
+    then scheme performance, the data tabs, the audit and the hidden tabs."""
     sheets = [sheet for report in reports for sheet in report.sheets]
-    tells = [_tells(sheet, report) for report in reports for sheet in report.sheets]
     owners = [report for report in reports for _ in report.sheets]
-    names = [(out.tab_name(s.result.characteristic.name, "chart", t),
-              [out.tab_name(s.result.characteristic.name, "data" + (f" {k}" if k > 1 else ""), t)
+    tells = _told_apart(sheets, owners)
+    date = f"{stamp.when:%Y-%m-%d}"
+    names = [(out.tab_name(s.result.characteristic.name, "summary", t, bool(t)),
+              out.tab_name(s.result.characteristic.name, "chart", t, bool(t)),
+              [out.tab_name(s.result.characteristic.name, "data" + (f" {k}" if k > 1 else ""), t, bool(t))
                for k in range(1, data_tab_count(s.result.characteristic.data.subgroups) + 1)])
              for s, t in zip(sheets, tells, strict=True)]
     summary_tab = out.add_tab(summary.name) if summary is not None else None
-    eval_tabs = [out.add_tab(chart) for chart, _ in names]
+    page_tabs, eval_tabs = [], []
+    for page, chart, _ in names:
+        page_tabs.append(out.add_tab(page))
+        eval_tabs.append(out.add_tab(chart))
     performance_tab = out.add_tab(PERFORMANCE_TAB)
-    data_tabs = [[out.add_tab(data) for data in datas] for _, datas in names]
+    data_tabs = [[out.add_tab(data) for data in datas] for _, _, datas in names]
     notes_tab = out.add_tab(NOTES_TAB)
     block_tab = out.add_tab(LIMITS_SHEET)
     lines_tab = out.add_tab(LINES_SHEET)
     as_values: list[str] = []
-    for i, (sheet, eval_tab, data_tab) in enumerate(zip(sheets, eval_tabs, data_tabs, strict=True), start=1):
-        result = sheet.result
+    for i, (sheet, page_tab, eval_tab, data_tab) in enumerate(zip(sheets, page_tabs, eval_tabs, data_tabs,
+                                                                  strict=True), start=1):
+        result, report = sheet.result, owners[i - 1]
+        facts = page_facts(sheet, report)
+        heading = PageHeading("", result.characteristic.name, facts.part, facts.source, facts.period, date,
+                              f"section {i}" if summary is not None else "")
         layout = plan_data_tab(result, sheet.read, data_tab[0].name, eval_tab.name, out.live,
                                tuple(t.name for t in data_tab[1:]))
         with out.values_only(layout.split):
-            written = write_evaluation_tab(out, eval_tab, result, layout, f"signals_{i}")
+            written = write_evaluation_tab(out, eval_tab, result, layout, f"signals_{i}",
+                                           replace(heading, what="charts, signals, capability and performance"),
+                                           page_tab.name)
+            write_one_page(out, page_tab, result, layout, facts, eval_tab.name, replace(heading, what="summary"))
             stats_as_values = write_data_tab(out, data_tab, layout, sheet, written.limit_names if out.live else {},
-                                             f"data_{i}")
+                                             f"data_{i}", replace(heading, what="data and statistics"))
         as_values += [f"{result.characteristic.name}: {what}" for what in stats_as_values + written.as_values]
-        _hand_back(owners[i - 1].problems, out.found())
+        _hand_back(report.problems, out.found())
     tab_names = [tab.name for tab in eval_tabs]
     results = [sheet.result for sheet in sheets]
+    whole = PageHeading("", source=", ".join(r.input.name for r in reports), date=date)
     if summary is not None and summary_tab is not None:
-        summary.write(summary_tab, tab_names)
-    write_performance_tab(out, performance_tab, results, tab_names)
+        sections = [Section(chart.removesuffix(" chart"), page_facts(sheet, report).source, (page, chart, datas[0]))
+                    for (page, chart, datas), sheet, report in zip(names, sheets, owners, strict=True)]
+        summary.write(out, summary_tab, sections, replace(whole, what="review summary"))
+    write_performance_tab(out, performance_tab, results, tab_names, replace(whole, what="scheme performance"))
     _hand_back(reports[0].problems, out.found())
-    write_notes_tab(out, notes_tab, reports, stamp, as_values, tab_names)
+    write_notes_tab(out, notes_tab, reports, stamp, as_values, tab_names, replace(whole, what="method and audit"))
     _limits_block(block_tab, results, block_keys)
     out.lines.write(lines_tab.ws, lambda name: out.add_tab(name).ws)
-    (summary_tab or eval_tabs[0]).ws.activate()
+    (summary_tab or page_tabs[0]).ws.activate()
+
+
+def page_facts(sheet: SheetEvaluation, report: EvaluationReport) -> PageFacts:
+    """The part, source (file and sheet) and period every page of a characteristic names."""
+    part = sheet.result.settings.get("part")
+    name = "" if part is None or part.value in (None, "") else str(part.value)
+    return PageFacts(name, f"{report.input.name}, sheet {sheet.read.sheet}", period_words(sheet.result))
 
 
 def _hand_back(problems: list[Problem], found: list[Problem]) -> None:
@@ -269,13 +315,31 @@ def _hand_back(problems: list[Problem], found: list[Problem]) -> None:
     problems += [p for p in found if p not in problems]
 
 
-def _tells(sheet: SheetEvaluation, report: EvaluationReport) -> tuple[str, ...]:
-    """What tells a characteristic's tabs apart from another of the same name: its part, its sheet, its input."""
-    part = sheet.result.settings.get("part")
-    own = [str(part.value)] if part is not None and part.value not in (None, "") else []
-    if sheet.read.sheet != sheet.result.characteristic.name:
-        own.append(sheet.read.sheet)
-    return (*own, report.input.stem)
+def _told_apart(sheets: list[SheetEvaluation], owners: list[EvaluationReport]) -> list[tuple[str, ...]]:
+    """For each characteristic whose name another shares, what tells them apart, the telling word first: its part,
+    its sheet, or its input's name (the words of it the others lack), whichever differs among them; () for a name
+    no other has."""
+    facts = [(page_facts(s, r).part, s.read.sheet, r.input.stem) for s, r in zip(sheets, owners, strict=True)]
+    names = [s.result.characteristic.name.lower() for s in sheets]
+    out: list[tuple[str, ...]] = []
+    for name, own in zip(names, facts, strict=True):
+        group = [f for n, f in zip(names, facts, strict=True) if n == name]
+        if len(group) == 1:
+            out.append(())
+            continue
+        differs = [k for k in range(3) if len({f[k] for f in group}) > 1 and own[k]]
+        order = differs + [k for k in range(3) if k not in differs and own[k]]
+        out.append(tuple(_own_words(own[k], [f[k] for f in group]) if k == 2 else own[k] for k in order))
+    return out
+
+
+def _own_words(text: str, group: list[str]) -> str:
+    """The words of `text` that not every text of its group shares ("line2-november" among "line3-november":
+    "line2"), so that a short tag in a tab name still tells them apart; the whole text when every word is shared."""
+    split = re.compile(r"[\s_\-.]+")
+    shared = set.intersection(*(set(split.split(t.lower())) for t in group))
+    own = [w for w in split.split(text) if w and w.lower() not in shared]
+    return " ".join(own) or text
 
 
 def _limits_block(tab: Tab, results: list[CharacteristicResult], keys: list[str]) -> None:

@@ -1,7 +1,7 @@
 """The one object every tab writer works through: the workbook being written and what it holds so far.
 
 It owns the xlsxwriter workbook and its cell formats, the tab names taken, the workbook-level names
-defined, the chart-line geometry the charts collect, the tabs everyone links to, whether numbers
+defined, the chart-lines columns the charts collect, the tabs everyone links to, whether numbers
 are written as live formulas, and the problems met while writing (the format's limits, see format_limits).
 """
 
@@ -15,6 +15,7 @@ from dataclasses import dataclass
 from typing import cast
 
 import xlsxwriter
+from xlsxwriter.chart_line import ChartLine
 from xlsxwriter.chart_scatter import ChartScatter
 
 from sheettool.base.problems import Problem
@@ -57,13 +58,14 @@ class BookWriter:
         self.live = live
         self.formulas = live  # --formulas was asked (live may be turned off for a while, see values_only)
         self.links = Links()
+        self.locked = False  # --protect: every sheet is locked when the tabs are written (see protect)
         self.lines = LineSheet()
         self._tab_names = {name.lower() for name in reserved}
         self._defined: set[str] = set()
 
-    def tab_name(self, base: str, suffix: str, tells: tuple[str, ...] = ()) -> str:
+    def tab_name(self, base: str, suffix: str, tells: tuple[str, ...] = (), always: bool = False) -> str:
         """A tab name not taken yet, built from a characteristic's name and a suffix (see cells.tab_name)."""
-        return cells.tab_name(base, suffix, self._tab_names, tells)
+        return cells.tab_name(base, suffix, self._tab_names, tells, always)
 
     def add_tab(self, name: str) -> Tab:
         """Add a worksheet (tabs appear in the order they are added) with a cursor at its first row."""
@@ -116,6 +118,16 @@ class BookWriter:
     def scatter_chart(self, subtype: str) -> ChartScatter:
         """A new native scatter chart ("straight" or "straight_with_markers"), inserted into a tab by its writer."""
         return cast(ChartScatter, self.book.add_chart({"type": "scatter", "subtype": subtype}))
+
+    def line_chart(self) -> ChartLine:
+        """A new native line chart (points in sequence on a category axis), inserted into a tab by its writer."""
+        return cast(ChartLine, self.book.add_chart({"type": "line"}))
+
+    def protect(self, password: str) -> None:
+        """Lock every sheet (cells in an unlocked format stay open for typing); an empty password locks without one."""
+        for ws in self._sheets:
+            ws.protect(password, {"format_columns": False, "select_locked_cells": True,
+                                  "select_unlocked_cells": True})
 
     def close(self) -> None:
         """Write the workbook's file."""

@@ -5,6 +5,7 @@ from __future__ import annotations
 import datetime as dt
 import math
 import re
+from dataclasses import dataclass
 
 import numpy as np
 from xlsxwriter.format import Format
@@ -80,19 +81,19 @@ def utf16_cut(text: str, units: int) -> str:
     return "".join(out)
 
 
-def tab_name(base: str, suffix: str, used: set[str], tells: tuple[str, ...] = ()) -> str:
+def tab_name(base: str, suffix: str, used: set[str], tells: tuple[str, ...] = (), always: bool = False) -> str:
     """A unique tab name of at most 31 UTF-16 units, free of the characters tab names refuse.
 
-    A name already taken is told apart by the first of `tells` (a part, an input's name) that makes it
-    unique; "~2", "~3"... is the last resort.
+    A name already taken (or any name, when `always`: a name that others share) is told apart by the first of
+    `tells` (a part, an input's name) that makes it unique; "~2", "~3"... is the last resort.
     """
     clean = _tab_clean(base) or "sheet"
     room = TAB_UNITS - utf16_len(suffix) - (1 if suffix else 0)
     name = f"{utf16_cut(clean, room).rstrip()} {suffix}".strip()
-    for tell in (t for t in (_tab_clean(t) for t in tells) if t):
-        if name.lower() not in used:
+    for k, tell in enumerate(t for t in (_tab_clean(t) for t in tells) if t):
+        if name.lower() not in used and not (always and k == 0):
             break
-        tag = f" ({utf16_cut(tell, max(4, room // 2))})"
+        tag = f" ({utf16_cut(tell, max(min(6, room // 2), room - utf16_len(clean) - 3))})"  # the name first
         name = f"{utf16_cut(clean, room - utf16_len(tag)).rstrip()}{tag} {suffix}".strip()
     i = 2
     while name.lower() in used:
@@ -155,11 +156,42 @@ def unique_headers(names: list[str], first_letter: int = 0) -> list[str]:
     return out
 
 
-def print_setup(ws: Worksheet, what: str) -> None:
-    """Landscape, one page wide, header with what is shown and the date, footer with the page."""
-    safe = what.replace("&", "&&")[:80]
+@dataclass(frozen=True)
+class PageHeading:
+    """What every printed page of a tab says it shows: the tab's content, the characteristic and its part,
+    the source file and sheet, the period covered, and the evaluation date (ISO)."""
+
+    what: str
+    characteristic: str = ""
+    part: str = ""
+    source: str = ""
+    period: str = ""
+    date: str = ""
+    section: str = ""  # in a pack: "section 3", which the contents list
+
+
+def _header_text(text: str, most: int) -> str:
+    """Text for a header or footer: & doubled (it starts a code there), cut to `most` characters."""
+    text = " ".join(text.split())
+    if len(text) > most:
+        text = text[:most - 3].rstrip() + "..."
+    return text.replace("&", "&&")
+
+
+def print_setup(ws: Worksheet, heading: PageHeading, fit: str = "width") -> None:
+    """Landscape; `fit` is "width" (one page wide), "page" (exactly one page) or "scale" (80%, pages across
+    as the columns need: for wide tables); the header names the characteristic, its part, the source and the
+    period, the footer the tab's content, the evaluation date and "page x of y"."""
     ws.set_landscape()
-    ws.fit_to_pages(1, 0)
-    ws.set_margins(left=0.5, right=0.5, top=0.7, bottom=0.6)
-    ws.set_header(f"&L&8sheettool evaluation: {safe}&R&8&D")
-    ws.set_footer("&L&8" + safe + "&R&8page &P of &N")
+    ws.set_paper(9)  # A4; a Letter printer scales it to fit
+    if fit == "scale":
+        ws.set_print_scale(80)
+    else:
+        ws.fit_to_pages(1, 1 if fit == "page" else 0)
+    ws.set_margins(left=0.4, right=0.4, top=0.75, bottom=0.65)
+    who = " · ".join(t for t in (heading.part, heading.characteristic) if t) or heading.what
+    right = "\n".join(_header_text(t, 60) for t in (heading.source, heading.period) if t)
+    ws.set_header(f"&L&9&B{_header_text(who, 60)}&B&R&8{right}", {"margin": 0.25})
+    left = "; ".join(t for t in (heading.what, heading.section, f"evaluated {heading.date}" if heading.date else "")
+                     if t)
+    ws.set_footer(f"&L&8{_header_text('sheettool: ' + left, 110)}&R&8page &P of &N", {"margin": 0.3})

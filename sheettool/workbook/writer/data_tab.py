@@ -173,7 +173,7 @@ def _as_float(value: object) -> float:
 
 
 def write_data_tab(out: BookWriter, tabs: list[Tab], layout: DataLayout, sheet: SheetEvaluation,
-                   limit_names: dict[tuple[str, str], str], table: str) -> list[str]:
+                   limit_names: dict[tuple[str, str], str], table: str, heading: cells.PageHeading) -> list[str]:
     """Write the data tab (and the tabs it continues on); return the statistics written as values although
     --formulas was asked."""
     result, read, live = sheet.result, sheet.read, out.live
@@ -202,7 +202,7 @@ def write_data_tab(out: BookWriter, tabs: list[Tab], layout: DataLayout, sheet: 
         told = note + _continued(layout, k)
         _head(tab, layout, f"Data of {ch.name}" + (f" ({k + 1} of {len(tabs)})" if layout.split else ""), told)
         _rows(tab, layout, sheet, jobs, fmts, first, end)
-        _table(tab, layout, read, f"{table}_{k + 1}" if k else table, end - first, f"data of {ch.name}")
+        _table(tab, layout, read, f"{table}_{k + 1}" if k else table, end - first, heading)
     _said(out, layout, ch.dates)
     return as_values
 
@@ -285,7 +285,7 @@ def _rows(tab: Tab, layout: DataLayout, sheet: SheetEvaluation,
                 else:
                     write_formula(r, col, "=" + build(r), cell_fmt, v)
         if i in flags:
-            ws.write_string(r, flags_col, flags[i])
+            ws.write_string(r, flags_col, flags[i], fmt["copied_text"])
     for name, sc in layout.stats.items():
         values = sc.stat.values
         for i in sorted({s.subgroup - 1 for s in result.signals if s.statistic == name}):
@@ -293,7 +293,8 @@ def _rows(tab: Tab, layout: DataLayout, sheet: SheetEvaluation,
                 cells.number(ws, i + shift, sc.signal, float(values[i]), fmts[1])
 
 
-def _table(tab: Tab, layout: DataLayout, read: SheetRead, table: str, count: int, what: str) -> None:
+def _table(tab: Tab, layout: DataLayout, read: SheetRead, table: str, count: int,
+           heading: cells.PageHeading) -> None:
     """The filterable table over one tab's rows, frozen head, widths and the print area."""
     ws, fmt = tab.ws, tab.fmt
     last_row, last = HEADER_ROW + count, layout.flags_col
@@ -302,8 +303,10 @@ def _table(tab: Tab, layout: DataLayout, read: SheetRead, table: str, count: int
         "columns": [{"header": h, "header_format": fmt["head"]} for h in layout.headers]})
     ws.freeze_panes(layout.first_row, 1)
     _widths(tab, layout, read)
-    cells.print_setup(ws, what)
+    cells.print_setup(ws, heading, fit="scale")  # a legible size; the columns continue on pages across
     ws.repeat_rows(HEADER_ROW)
+    ws.repeat_columns(0, layout.x_col)  # the point (and its date) on every page across
+    ws.print_across()
     ws.print_area(0, 0, min(last_row, layout.first_row + PRINT_ROWS - 1), last)
 
 
@@ -312,11 +315,12 @@ def _constant(text: str) -> Callable[[int], str]:
 
 
 def _copy(ws: Worksheet, row: int, col: int, value: object, fmt: style.Formats) -> None:
-    """The slow path of copying: dates with a date format, everything else through cells.put."""
+    """The slow path of copying: dates with a date format, text indented off the number beside it, everything
+    else through cells.put."""
     if isinstance(value, dt.datetime | dt.date):
         ws.write_datetime(row, col, value, fmt["date"])
     else:
-        cells.put(ws, row, col, value)
+        cells.put(ws, row, col, value, fmt["copied_text"] if isinstance(value, str) else None)
 
 
 def _signal_flags(result: CharacteristicResult) -> dict[int, str]:
@@ -340,7 +344,7 @@ def _widths(tab: Tab, layout: DataLayout, read: SheetRead) -> None:
         elif layout.x_is_date and col == layout.x_col:
             size = 17
         elif 0 <= c < max((len(r) for r in sample), default=0):
-            size = cells.width([_shown(r[c], layout.decimals) for r in sample if c < len(r)], least=9, most=30)
+            size = cells.width([_shown(r[c], layout.decimals) for r in sample if c < len(r)], least=9, most=30) + 1
         else:
             size = max(10, layout.decimals + 6)
         ws.set_column(col, col, size)

@@ -8,7 +8,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from sheettool.core.capability import AttributeRate, Capability
+from sheettool.core.capability import AttributeRate
 from sheettool.core.charts import CHART_KINDS
 from sheettool.core.data import Measurements
 from sheettool.core.limits import BASE_WORDS
@@ -19,6 +19,7 @@ from sheettool.workbook.writer.book_writer import BookWriter
 from sheettool.workbook.writer.data_tab import DataLayout
 from sheettool.workbook.writer.methods import method
 from sheettool.workbook.writer.notes_tab import CAUTION
+from sheettool.workbook.writer.one_page import chart_words, period_words, spec_of
 from sheettool.workbook.writer.performance_tab import shift_heading
 from sheettool.workbook.writer.tab import Tab
 from sheettool.workbook.writer.trust_block import has_checks, write_trust_block
@@ -50,24 +51,8 @@ def _spans(mask: np.ndarray) -> str:
 
 
 def _spec_words(result: CharacteristicResult) -> str:
-    cap = result.capability
-    values = {"LSL": None, "USL": None, "target": None}
-    if isinstance(cap, Capability):
-        values = {"LSL": cap.lsl, "USL": cap.usl, "target": cap.target}
-    else:
-        for key, name in (("lsl", "LSL"), ("usl", "USL"), ("target", "target")):
-            if key in result.settings:
-                values[name] = result.settings[key].value  # type: ignore[assignment]
-    given = [f"{k} {v:g}" if isinstance(v, int | float) else f"{k} {v}" for k, v in values.items() if v is not None]
-    return ", ".join(given) if given else "none given"
-
-
-def _period(result: CharacteristicResult) -> str:
-    ch = result.characteristic
-    dates = [d for d in ch.dates if d is not None]
-    if dates:
-        return f"{min(dates):%Y-%m-%d %H:%M} to {max(dates):%Y-%m-%d %H:%M}"
-    return f"{ch.labels[0]} to {ch.labels[-1]}" if ch.labels else "unknown"
+    given = spec_of(result).lines()
+    return ", ".join(f"{k} {v:g}" for k, v in given) if given else "none given"
 
 
 def _counts(result: CharacteristicResult) -> str:
@@ -81,16 +66,11 @@ def _counts(result: CharacteristicResult) -> str:
     return ", ".join(parts)
 
 
-def zones_in_use(result: CharacteristicResult) -> bool:
-    """Zone lines are drawn when a rule other than the plain 3-sigma limit looks at zones."""
-    return any(r.is_zone and not (r.k == 1 and r.m == 1 and r.z >= 3) for r in result.rules)
-
-
 def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult, layout: DataLayout,
-                         table: str) -> EvaluationWritten:
+                         table: str, heading: cells.PageHeading, summary_tab: str) -> EvaluationWritten:
     """Write the evaluation tab; return the names of its constant limits (for the data tab's formulas).
 
-    `table` names the tab's signal table (unique in the workbook).
+    `table` names the tab's signal table (unique in the workbook); `summary_tab` is the characteristic's summary.
     """
     fit, ch = result.fit, result.characteristic
     ws, fmt = tab.ws, tab.fmt
@@ -100,8 +80,9 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     written = EvaluationWritten()
     ws.write_string(0, 0, f"{ch.name}: {about.words}", fmt["title"])
     links = out.links
-    for c, (text, target) in enumerate(((layout.tab, layout.tab), ("Scheme performance", links.performance),
-                                        ("Method and audit", links.notes)), start=1):
+    for c, (text, target) in enumerate(((summary_tab, summary_tab), (layout.tab, layout.tab),
+                                        ("Scheme performance", links.performance), ("Method and audit", links.notes)),
+                                       start=1):
         ws.write_url(1, c, cells.internal_link(target), fmt["link"], string=text)
     ws.write_string(1, 0, "Go to:", fmt["label"])
     tab.row = 2
@@ -111,8 +92,7 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     tab.fact("Unit", ch.unit or "not given")
     tab.fact("Specification limits", _spec_words(result))
     counted = not isinstance(ch.data, Measurements)
-    size = f"typical units inspected {fit.subgroup_size:g}" if counted else f"subgroups of {fit.subgroup_size:g}"
-    tab.fact("Chart", f"{about.words}; {size}")
+    tab.fact("Chart", chart_words(result, about.words))
     source, base_set = fit.limits_source, fit.limits_source.startswith(BASE_WORDS)
     tab.fact("Base period" if base_set else "Limits set by", source.removeprefix(BASE_WORDS) if base_set else source)
     tab.fact("Points that set the limits", _spans(np.asarray(fit.base, dtype=bool)), wrap=True)
@@ -123,33 +103,36 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
         tab.fact("Signals when", kind.signal_words(fit), wrap=True)
     else:
         tab.fact("Rules in use", "; ".join(f"{r.text}: {r.words}" for r in result.rules), wrap=True)
-    tab.fact("Period covered", _period(result))
+    tab.fact("Period covered", period_words(result))
     tab.fact("Counts", _counts(result))
     _limits_table(out, tab, result, layout, written)
+    _capability(tab, result)  # the first page: what was charted, its limits and its capability
     tab.row += 1
-    breaks = [tab.row]  # the charts start a printed page, two to a page, right after the limits
-    zones = zones_in_use(result)
+    breaks = [tab.row]  # the charts start a printed page, two to a page
+    zones = charts.zones_in_use(result.rules)
     unit = ch.unit if isinstance(ch.data, Measurements) else ""
+    spec = spec_of(result)
     for i, sc in enumerate(layout.stats.values()):
         if i and i % 2 == 0:
             breaks.append(tab.row)
         chart = charts.control_chart(out, layout, sc, zones, f"{sc.stat.label}: {ch.name}", unit,
-                                     [s for s in result.signals if s.statistic == sc.stat.name])
+                                     [s for s in result.signals if s.statistic == sc.stat.name], ch.excluded,
+                                     spec if sc.stat.name == "individual" else None)
         ws.insert_chart(tab.row, 0, chart, {"x_offset": 4, "y_offset": 4})
         tab.row += style.CHART_ROWS
+    breaks.append(tab.row)  # then how far to trust the limits on a page of its own
     if has_checks(result):
-        breaks.append(tab.row)  # then the trust block and capability on a page of their own
-    write_trust_block(tab, result)
-    _capability(tab, result)
-    tab.row += 1
-    breaks.append(tab.row)
-    ws.set_h_pagebreaks(breaks)
-    _signals(tab, result, table)
-    _performance(tab, result, links.performance)
+        write_trust_block(tab, result)
+        tab.row += 1
+        breaks.append(tab.row)
+    _performance(tab, result, links.performance)  # how the scheme behaves, then the signals, their head repeated
     tab.row += 1
     tab.across(0, 4, CAUTION, "caution")
     tab.fit(CAUTION, sum(style.EVAL_COLUMNS), least=3)  # room around the caution, whatever its length
-    cells.print_setup(ws, ch.name)
+    tab.row += 1
+    ws.set_h_pagebreaks(breaks)
+    _signals(tab, result, table)
+    cells.print_setup(ws, heading)
     return written
 
 
@@ -176,9 +159,9 @@ def _limits_table(out: BookWriter, tab: Tab, result: CharacteristicResult, layou
         return cells.cell(layout.eval_tab, place[leaf[1]], 1 + [k for k, _ in LIMIT_KEYS].index(leaf[2]))
 
     consts, live_cells = formulas.limit_cells(result, refs) if live else ({}, {})
-    limit_fmt = fmt[f"dec{min(10, layout.decimals + 2)}"]
     for sc in stats:
         stat = sc.stat
+        limit_fmt = fmt[style.limit_role(stat.name, layout.decimals)]
         ws.write_string(tab.row, 0, stat.label, fmt["text"])
         notes = []
         for c, (key, word) in enumerate(LIMIT_KEYS, start=1):
@@ -198,8 +181,8 @@ def _limits_table(out: BookWriter, tab: Tab, result: CharacteristicResult, layou
                 ws.write_string(tab.row, c, "none", fmt["text_right"])
             else:
                 ws.write_string(tab.row, c, "varies", fmt["text_right"])
-                d = layout.decimals + 2
-                notes.append(f"{word} {float(finite.min()):.{d}f} to {float(finite.max()):.{d}f}")
+                shape = ".2%" if stat.name in style.PERCENT_STATISTICS else f".{layout.decimals + 2}f"
+                notes.append(f"{word} {float(finite.min()):{shape}} to {float(finite.max()):{shape}}")
         text = ("varies by point: see data tab; " + ", ".join(notes)) if notes else "the same at every point"
         if stat.lcl_floored:
             text += "; LCL below zero by formula, shown as 0"
@@ -235,6 +218,7 @@ def _signals(tab: Tab, result: CharacteristicResult, table: str) -> None:
         ws.write_string(top + i, 2, labels.get(s.statistic, s.statistic))
         ws.write_string(top + i, 3, s.rule)
         ws.write_string(top + i, 4, s.words)
+    tab.ws.repeat_rows(top)
     ws.add_table(top, 0, top + len(result.signals), 4, {
         "name": table,
         "style": "Table Style Light 1",
@@ -257,7 +241,7 @@ def _capability(tab: Tab, result: CharacteristicResult) -> None:
         tab.head(["Estimate", "Value", f"{cap.confidence:.0%} interval: low", "high", ""], (1, 2, 3))
         ws.write_string(tab.row, 0, f"Average {what}")
         for c, v in enumerate((cap.estimate, cap.ci.low, cap.ci.high), start=1):
-            cells.number(ws, tab.row, c, v, fmt["dec6"])
+            cells.number(ws, tab.row, c, v, fmt["percent2" if cap.kind == "proportion" else "dec6"])
         tab.row += 1
         return
     if not cap.stable:

@@ -33,9 +33,8 @@ def spans(count: int, room: int) -> list[tuple[int, int]]:
 
 
 def chart_points() -> int:
-    """The most subgroups a control chart draws: a stepped limit takes two rows of the chart-lines tab a subgroup,
-    below its header row."""
-    return (ROWS - 1) // 2
+    """The most subgroups a control chart draws: one row of the chart-lines tab each, below its header row."""
+    return ROWS - 1
 
 
 def cut_text(text: str) -> str:

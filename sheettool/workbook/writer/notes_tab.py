@@ -13,6 +13,7 @@ from sheettool.core.data import Measurements
 from sheettool.core.design import MET_TOLERANCE
 from sheettool.evaluation.results import CharacteristicResult
 from sheettool.settings import KNOWN_SETTINGS, Setting
+from sheettool.workbook import style
 from sheettool.workbook.reader import SheetRead
 from sheettool.workbook.report import EvaluationReport
 from sheettool.workbook.writer import cells
@@ -21,6 +22,7 @@ from sheettool.workbook.writer.data_tab import PRINT_ROWS
 from sheettool.workbook.writer.methods import method
 from sheettool.workbook.writer.tab import Tab
 
+LABEL_CHARS = 27  # characters per line of the 30-wide label column (bold, a little below what fits)
 NOTE_CHARS = 100  # characters per line of the 100-wide text column (a little below what fits: nothing is cut)
 CAUTION = (
     "These statistics support, and never replace, engineering judgement, the site's quality "
@@ -53,7 +55,7 @@ class Stamp:
 
 
 def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], stamp: Stamp,
-                    as_values: list[str], eval_tabs: list[str]) -> None:
+                    as_values: list[str], eval_tabs: list[str], heading: cells.PageHeading) -> None:
     """Write the method and audit notes as label / text rows, for one input or a pack of them."""
     ws, fmt, live = tab.ws, tab.fmt, out.live
     results = [result for report in reports for result in report.characteristics]
@@ -63,9 +65,11 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
     tab.row = 2
 
     def line(label: str, text: str, role: str = "wrap") -> None:
-        tab.text(0, label, "label")
+        tab.text(0, label, "lead")  # a long label wraps in its column rather than running under the text
         tab.text(1, text, role)
-        tab.fit(text, NOTE_CHARS)
+        height = max(style.row_height(text, NOTE_CHARS), style.row_height(label, LABEL_CHARS))
+        if height > style.line_height():
+            tab.height(height)
         tab.row += 1
 
     def section(title: str) -> None:
@@ -94,11 +98,13 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
                            "no: every number is a value (run with --formulas to get formulas)"))
     if live and as_values:
         line("Written as values", "no checked formula for: " + "; ".join(as_values))
-    line("Printing", "chart tabs (NAME chart) print landscape, one page wide; data tabs (NAME data) print their "
-                     f"first {PRINT_ROWS} "
-                     "subgroups only (select rows and print the selection for more)")
+    line("Printing", "each characteristic's summary prints as one landscape page; chart tabs (NAME chart) print one "
+                     f"page wide; data tabs (NAME data) print their first {PRINT_ROWS} subgroups at 80%, the point and "
+                     "date repeated on the pages across (select rows and print the selection for more)")
+    line("Protection", "every sheet is locked against editing (--protect); the digest above names the input read"
+         if out.locked else "none: the sheets can be edited (run with --protect to lock them)")
     line("Hidden tabs", "limits-block (the machine-readable limits next month's run reads back) and chart-lines "
-                        "(the line geometry of the charts)")
+                        "(the axis labels, zone and specification lines and histograms the charts draw)")
     section("Settings")
     for result in results:
         if not result.settings:
@@ -128,7 +134,7 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
         line("None", "no problems were found while reading and evaluating")
     for p in problems:
         line(p.severity, f"{p.where}: {p.message}")
-    cells.print_setup(ws, "method and audit of " + (reports[0].input.name if len(reports) == 1 else "the pack"))
+    cells.print_setup(ws, heading)
 
 
 def _check_methods(result: CharacteristicResult) -> list[tuple[str, str]]:
@@ -162,16 +168,14 @@ def _constants_words(n: int) -> str:
             f"B3 {k.B3:.6f}, B4 {k.B4:.6f}, D3 {k.D3:.6f}, D4 {k.D4:.6f}")
 
 
-def stamp_for(reports: list[EvaluationReport], given: dt.datetime | None) -> Stamp:
-    """The fixed document date: --timestamp when given, else the latest input's modification time (UTC)."""
+def stamp_for(given: dt.datetime | None, now: dt.datetime | None = None) -> Stamp:
+    """The document date: --timestamp when given (a re-run then gives the same file), else the evaluation
+    time (UTC, whole seconds)."""
     if given is not None:
         return Stamp(given.replace(tzinfo=None) if given.tzinfo is None else
                      given.astimezone(dt.UTC).replace(tzinfo=None), "given with --timestamp")
-    latest = max(r.input.stat().st_mtime for r in reports)
-    when = dt.datetime.fromtimestamp(latest, tz=dt.UTC).replace(tzinfo=None, microsecond=0)
-    return Stamp(when, "the input file's modification time, UTC" if len(reports) == 1 else
-                 "the latest input file's modification time, UTC")
-
+    when = (now or dt.datetime.now(dt.UTC)).astimezone(dt.UTC).replace(tzinfo=None, microsecond=0)
+    return Stamp(when, "the evaluation time, UTC")
 
 
 def setting_words(setting: Setting, rules: str = "") -> str:
@@ -184,6 +188,8 @@ def setting_words(setting: Setting, rules: str = "") -> str:
         shown = "yes" if value else "no"
     elif isinstance(value, float):
         shown = f"{value:g}"
+    elif isinstance(value, dt.datetime):
+        shown = f"{value:%Y-%m-%d %H:%M}"
     else:
         shown = str(value)
     if rules and rules != shown:

@@ -23,7 +23,7 @@ INTRO = ("ARL: average number of points plotted until the scheme signals. ATS: t
 
 
 def write_performance_tab(out: BookWriter, tab: Tab, results: list[CharacteristicResult],
-                          eval_tabs: list[str]) -> None:
+                          eval_tabs: list[str], heading: cells.PageHeading) -> None:
     """Write the tables (one block of three columns per characteristic, side by side) and the chart.
 
     Within the format (format_limits): a chart holds at most CHART_SERIES characteristics, so more make
@@ -48,7 +48,8 @@ def write_performance_tab(out: BookWriter, tab: Tab, results: list[Characteristi
         grid = perf.curve or perf.shifts
         ws.set_column(col, col + 2, BLOCK_WIDTHS[0])
         ws.set_column(col + 3, col + 3, BLOCK_WIDTHS[3])
-        ws.write_url(head, col, cells.internal_link(eval_tab), fmt["link"], string=result.characteristic.name)
+        told = eval_tab.removesuffix(" chart")  # the tab's name tells two characteristics of one name apart
+        ws.write_url(head, col, cells.internal_link(eval_tab), fmt["link"], string=told)
         ws.merge_range(head + 1, col, head + 1, col + 2, "", fmt["wrap"])
         ws.write_string(head + 1, col, perf.method, fmt["wrap"])
         for c, h in enumerate((shift_heading(perf), "ARL (points)", "ATS (hours)")):
@@ -62,7 +63,7 @@ def write_performance_tab(out: BookWriter, tab: Tab, results: list[Characteristi
                 largest = max(largest, s.arl)
             widest = max(widest, s.shift)
         last = first + max(0, len(grid) - 1)
-        series.append((result.characteristic.name, cells.column_range(PERFORMANCE_TAB, col, first, last),
+        series.append((told, cells.column_range(PERFORMANCE_TAB, col, first, last),
                        cells.column_range(PERFORMANCE_TAB, col + 1, first, last)))
     for band in range(0, len(results), per_band):
         head = top + (band // per_band) * band_rows
@@ -77,7 +78,7 @@ def write_performance_tab(out: BookWriter, tab: Tab, results: list[Characteristi
         out.problems.append(Problem("note", f"the chart of ARL against shift is split into {len(groups)} charts "
                                     f"on the '{PERFORMANCE_TAB}' tab: a chart holds at most "
                                     f"{format_limits.CHART_SERIES} series, one a characteristic", out.file))
-    cells.print_setup(ws, "scheme performance")
+    cells.print_setup(ws, heading)
 
 
 def _split_words(count: int, charts: int, per_band: int) -> str:

@@ -1,0 +1,88 @@
+"""Earlier review packs read back for the trend view: per characteristic, what each earlier pack said of it.
+
+An earlier pack is a workbook sheettool wrote with `pack`: its document date, the rows of its "Review summary"
+table (found by their headers, so a pack of an earlier version with fewer columns still reads) and the center
+lines its limits block keeps. Anything else is refused with one line naming the file.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import math
+import zipfile
+from dataclasses import dataclass
+from pathlib import Path
+
+import openpyxl
+from openpyxl.utils.exceptions import InvalidFileException
+
+from sheettool.base.errors import InputError
+from sheettool.evaluation.summary import pack_key
+from sheettool.workbook.limits_block import read_limits_block
+
+SUMMARY_SHEET = "Review summary"
+HEADS = {"source": "Source file", "sheet": "Sheet", "points": "Points in period", "signals": "Signals",
+         "cpk": "Cpk", "expected": "False alarms expected"}
+
+
+@dataclass(frozen=True)
+class TrendPoint:
+    """What one pack said of one characteristic (None where that pack did not say it)."""
+
+    when: str  # the pack's document date, ISO
+    center: float | None
+    cpk: float | None
+    points: float | None
+    signals: float | None
+    expected: float | None  # false alarms the scheme expected over the period's points
+
+
+def _number(value: object) -> float | None:
+    if isinstance(value, int | float) and not isinstance(value, bool) and math.isfinite(value):
+        return float(value)
+    return None
+
+
+def read_earlier_pack(path: Path) -> dict[str, TrendPoint]:
+    """The trend points of an earlier pack by characteristic key (`pack_key`); InputError naming the file."""
+    path = Path(path)
+    centers = {key: _first_center(entry) for key, entry in read_limits_block(path).items()}
+    try:
+        book = openpyxl.load_workbook(path, read_only=True, data_only=True)
+    except (zipfile.BadZipFile, InvalidFileException, KeyError, OSError, ValueError) as exc:
+        raise InputError(f"{path}: not a readable .xlsx workbook ({type(exc).__name__})") from None
+    try:
+        if SUMMARY_SHEET not in book.sheetnames:
+            raise InputError(f"{path}: no '{SUMMARY_SHEET}' tab; --earlier takes review packs sheettool wrote")
+        created = book.properties.created
+        when = f"{created:%Y-%m-%d}" if isinstance(created, dt.datetime) else path.stem
+        rows = book[SUMMARY_SHEET].iter_rows(max_row=20_000, max_col=40, values_only=True)
+        columns: dict[str, int] = {}
+        found: dict[str, TrendPoint] = {}
+        for row in rows:
+            if not columns:
+                heads = [str(v) if v is not None else "" for v in row]
+                if HEADS["source"] in heads and HEADS["sheet"] in heads:
+                    columns = {k: heads.index(h) for k, h in HEADS.items() if h in heads}
+                continue
+            if not row or row[columns["source"]] in (None, ""):
+                break  # the table ends at its first empty row (the contents follow)
+            cell = {k: row[c] if c < len(row) else None for k, c in columns.items()}
+            key = pack_key(str(cell["source"]), str(cell["sheet"] or ""))
+            found[key] = TrendPoint(when, centers.get(key), _number(cell.get("cpk")), _number(cell.get("points")),
+                                    _number(cell.get("signals")), _number(cell.get("expected")))
+        if not columns:
+            raise InputError(f"{path}: the '{SUMMARY_SHEET}' tab has no table of characteristics")
+        return found
+    finally:
+        book.close()
+
+
+def _first_center(entry: dict) -> float | None:
+    """The center line of the entry's first plotted statistic (the location chart)."""
+    limits = entry.get("limits")
+    if isinstance(limits, dict) and limits:
+        first = next(iter(limits.values()))
+        if isinstance(first, dict):
+            return _number(first.get("center"))
+    return None
