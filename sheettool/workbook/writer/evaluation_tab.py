@@ -80,12 +80,12 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     written = EvaluationWritten()
     ws.write_string(0, 0, f"{ch.name}: {about.words}", fmt["title"])
     links = out.links
-    for c, (text, target) in enumerate(((summary_tab, summary_tab), (layout.tab, layout.tab),
-                                        ("Scheme performance", links.performance), ("Method and audit", links.notes)),
-                                       start=1):
-        ws.write_url(1, c, cells.internal_link(target), fmt["link"], string=text)
+    targets = ((summary_tab, summary_tab), (layout.tab, layout.tab), ("Scheme performance", links.performance),
+               ("Method and audit", links.notes))
+    for r, (text, target) in enumerate(targets, start=1):  # each link named as its tab, one a line
+        ws.write_url(r, 1, cells.internal_link(target), fmt["link"], string=text)
     ws.write_string(1, 0, "Go to:", fmt["label"])
-    tab.row = 2
+    tab.row = 1 + len(targets)
     tab.section("About this chart")
     tab.fact("Characteristic", ch.name)
     tab.fact("Sheet read", result.sheet)
