@@ -295,7 +295,9 @@ def _performance(tab: Tab, result: CharacteristicResult, performance_tab: str) -
         ws.write_string(tab.row, 1, "sampling interval not given")
     tab.row += 1
     tab.row += 1
-    tab.head([shift_heading(perf), "ARL (points)", "ATS (hours)", "", ""], (0, 1, 2))
+    heading = shift_heading(perf)
+    tab.head([heading, "ARL (points)", "ATS (hours)", "", ""], (0, 1, 2))
+    tab.height(style.row_height(heading, style.EVAL_COLUMNS[0] - 1), tab.row - 1)  # the shift's unit wraps
     for s in perf.shifts:
         cells.number(ws, tab.row, 0, s.shift, fmt["dec2"])
         cells.number(ws, tab.row, 1, s.arl, fmt["arl"])
