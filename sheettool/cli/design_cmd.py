@@ -28,7 +28,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("--false-alarms-per-month", help="false alarms per month allowed at most (needs --hours-per-month)")
     p.add_argument("--hours-per-month", help="production hours per month")
     p.add_argument("--shift", help="the shift that matters, in process standard deviations (default 1)")
-    p.add_argument("--shift-unit", help="the shift that matters in the characteristic's unit (needs --sigma)")
+    p.add_argument("--shift-in-units", help="the shift that matters in the characteristic's unit (needs --sigma)")
     p.add_argument("--sigma", help="the process standard deviation, in the characteristic's unit")
     p.add_argument("--arl-at-shift", help="ARL at the shift wanted at most, in points")
     p.add_argument("--ats-hours", help="ATS at the shift wanted at most: the average hours to signal it, e.g. 2 or "
@@ -62,8 +62,8 @@ def _sizes(text: str) -> tuple[int, ...]:
 def _inputs(args: argparse.Namespace) -> tuple[Requirements, Sampling, SearchGrid]:
     if args.false_alarms_per_month is not None and args.hours_per_month is None:
         raise UsageError("--false-alarms-per-month needs --hours-per-month (production hours per month)")
-    if args.shift_unit is not None and args.sigma is None:
-        raise UsageError("--shift-unit needs --sigma, the process standard deviation in the same unit")
+    if args.shift_in_units is not None and args.sigma is None:
+        raise UsageError("--shift-in-units needs --sigma, the process standard deviation in the same unit")
     top = number("--top", args.top)
     if not (top is not None and top == int(top) and top >= 1):
         raise UsageError(f"--top: must be a whole number of at least 1, got '{args.top}'")
@@ -143,7 +143,7 @@ def design_json(result: DesignResult) -> dict[str, Any]:
         "tool": tool_json(),
         "requirements": {"arl_in_control": req.arl_in_control, "false_alarms_per_month": req.false_alarms_per_month,
                          "hours_per_month": req.hours_per_month, "shift": result.shift,
-                         "shift_unit": req.shift_unit, "sigma": req.sigma, "arl_at_shift": req.arl_at_shift,
+                         "shift_in_units": req.shift_in_units, "sigma": req.sigma, "arl_at_shift": req.arl_at_shift,
                          "ats_hours": req.ats_hours},
         "sampling": {"sizes": list(sampling.sizes), "intervals": list(sampling.intervals or []) or None,
                      "budget": sampling.budget},

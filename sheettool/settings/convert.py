@@ -26,7 +26,7 @@ _MINUTES = {"min", "mins", "minute", "minutes", "m"}
 _HOURS = {"", "h", "hr", "hrs", "hour", "hours"}
 _YES = {"yes", "y", "true", "1", "on", "x"}
 _NO = {"no", "n", "false", "0", "off", ""}
-_ALTERNATIVES = (("shift", "shift_unit", "give the shift to detect in process standard deviations or in the "
+_ALTERNATIVES = (("shift", "shift_in_units", "give the shift to detect in process standard deviations or in the "
                   "characteristic's unit, not both"),)  # one or the other, never both
 
 

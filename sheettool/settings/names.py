@@ -50,7 +50,7 @@ KNOWN_SETTINGS.update({
     "arl_in_control": "required in-control ARL (points between false alarms, at least)",
     "false_alarms_per_month": "allowed false alarms per month (at most)",
     "shift": "shift to detect (process standard deviations)",
-    "shift_unit": "shift to detect (in the characteristic's unit)",
+    "shift_in_units": "shift to detect (in the characteristic's unit)",
     "arl_at_shift": "ARL at the shift to detect (points, at most)",
     "ats_hours": "ATS at the shift to detect: hours to signal it (at most)",
 })
@@ -88,7 +88,7 @@ SYNONYMS: dict[str, str] = {
     "falsealarmspermonth": "false_alarms_per_month", "maxfalsealarmspermonth": "false_alarms_per_month",
     "shifttodetect": "shift", "shiftthatmatters": "shift", "shifttodetectsigma": "shift",
     "shifttodetectsd": "shift", "shiftinsigma": "shift",
-    "shifttodetectunits": "shift_unit", "shiftthatmattersunits": "shift_unit", "shiftinunits": "shift_unit",
+    "shifttodetectunits": "shift_in_units", "shiftthatmattersunits": "shift_in_units", "shiftinunits": "shift_in_units",
     "requiredarlatshift": "arl_at_shift", "detectwithinpoints": "arl_at_shift", "arlatshiftatmost": "arl_at_shift",
     "arlatshift": "arl_at_shift",
     "detectwithinhours": "ats_hours", "timetodetect": "ats_hours", "timetodetecth": "ats_hours",
@@ -100,7 +100,7 @@ SYNONYMS: dict[str, str] = {
 }
 # Labels of earlier versions (as label_key) -> (setting, the label to write now): still read, with a note.
 EARLIER_LABELS: dict[str, tuple[str, str]] = {
-    "limitsfrom": ("base_period", "Base period"), "shiftunits": ("shift_unit", "shift_unit"),
+    "limitsfrom": ("base_period", "Base period"), "shiftunits": ("shift_in_units", "shift_in_units"),
     "detecthours": ("ats_hours", "ats_hours"), "detectarl": ("arl_at_shift", "arl_at_shift"),
 }
 SYNONYMS.update({key: name for key, (name, _) in EARLIER_LABELS.items()})
@@ -108,7 +108,7 @@ SYNONYMS.update({key: name for key, (name, _) in EARLIER_LABELS.items()})
 MINUTE_FORMS: dict[str, str] = {"interval_minutes": "interval_hours", "ats_minutes": "ats_hours"}
 # A setting in process standard deviations whose label names another unit in brackets ("Shift to detect (mm)")
 # means the same in the characteristic's unit.
-_IN_UNITS: dict[str, str] = {"shift": "shift_unit"}
+_IN_UNITS: dict[str, str] = {"shift": "shift_in_units"}
 _SIGMA_WORDS = {"sigma", "sigmas", "sd", "σ", "standarddeviations", "standarddeviation", "s"}
 
 

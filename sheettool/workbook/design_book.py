@@ -45,7 +45,8 @@ def requirement_lines(result: DesignResult) -> list[tuple[str, str]]:
     """The requirements and sampling in words, label by label (also used by the terminal output)."""
     req, sampling = result.requirements, result.sampling
     lines = [("Shift that matters", f"{result.shift:.4g} sigma (process standard deviations)"
-              + (f" ({req.shift_unit:g} in the unit, sigma {req.sigma:g})" if req.shift_unit is not None else ""))]
+              + (f" ({req.shift_in_units:g} in the unit, sigma {req.sigma:g})"
+                 if req.shift_in_units is not None else ""))]
     if req.arl_in_control is not None:
         lines.append(("In-control ARL at least", f"{req.arl_in_control:g} points"))
     if req.false_alarms_per_month is not None:

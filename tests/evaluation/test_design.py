@@ -137,11 +137,11 @@ def test_no_allowed_sampling_is_a_message_not_an_exception():
 @pytest.mark.parametrize(("make", "words"), [
     (lambda: Requirements(arl_at_shift=0.5), "ARL at the shift"),
     (lambda: Requirements(shift=-1.0), "shift"),
-    (lambda: Requirements(shift=1.0, shift_unit=0.2), "not both"),
+    (lambda: Requirements(shift=1.0, shift_in_units=0.2), "not both"),
     (lambda: Sampling(sizes=()), "no subgroup size"),
     (lambda: SearchGrid(lambdas=(1.5,)), "lambda"),
     (lambda: design(Requirements(arl_in_control=5e7)), "outside what the design calibrates"),
-    (lambda: Requirements(shift_unit=0.02).delta(), "needs the process sigma"),
+    (lambda: Requirements(shift_in_units=0.02).delta(), "needs the process sigma"),
 ])
 def test_malformed_requirements_raise_a_plain_value_error(make, words):
     with pytest.raises(ValueError, match=words):
@@ -149,7 +149,7 @@ def test_malformed_requirements_raise_a_plain_value_error(make, words):
 
 
 def test_check_requirements_words_and_missing_interval():
-    req = Requirements(arl_in_control=500.0, ats_hours=2.0, shift_unit=0.02, sigma=0.01)
+    req = Requirements(arl_in_control=500.0, ats_hours=2.0, shift_in_units=0.02, sigma=0.01)
     check = check_requirements(req, 370.4, 3.0, None, req.delta())
     assert req.delta() == pytest.approx(2.0)
     assert check.items[0].met is False and check.items[1].met is None and check.met is False
@@ -174,7 +174,7 @@ def test_cli_json_shape_and_workbook_chart(run_cli, tmp_path):
 
 
 @pytest.mark.parametrize("args", [["--sizes", "a-b"], ["--shift", "x"], ["--false-alarms-per-month", "2"],
-                                  ["--shift-unit", "0.1"], ["--arl-at-shift", "0.2"], ["--top", "0"]])
+                                  ["--shift-in-units", "0.1"], ["--arl-at-shift", "0.2"], ["--top", "0"]])
 def test_cli_bad_options_exit_2(run_cli, args):
     run = run_cli("design", *args)
     assert run.code == 2 and "Traceback" not in run.err and run.err.strip()

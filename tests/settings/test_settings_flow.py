@@ -61,8 +61,8 @@ def _one(run_cli, path: Path, tmp_path: Path, *options: str) -> dict:
     ("Required in-control ARL", "arl_in_control"), ("In-control ARL at least", "arl_in_control"),
     ("False alarms per month at most", "false_alarms_per_month"),
     ("Allowed false alarms per month", "false_alarms_per_month"), ("Shift to detect (sigma)", "shift"),
-    ("Shift that matters", "shift"), ("Shift to detect (units)", "shift_unit"),
-    ("Shift to detect (mm)", "shift_unit"), ("Required ARL at shift", "arl_at_shift"),
+    ("Shift that matters", "shift"), ("Shift to detect (units)", "shift_in_units"),
+    ("Shift to detect (mm)", "shift_in_units"), ("Required ARL at shift", "arl_at_shift"),
     ("Detect within points", "arl_at_shift"), ("Detect within hours", "ats_hours"),
     ("ATS at most (hours)", "ats_hours"),
     ("Time to detect (h)", "ats_hours"), ("Time to detect (min)", "ats_minutes"),
@@ -91,7 +91,7 @@ def test_text_labels_above_a_numeric_table_in_the_same_columns_leave_the_header_
 
 @pytest.mark.parametrize(("name", "raw", "value"), [
     ("ats_hours", "90 min", 1.5), ("ats_minutes", 30, 0.5), ("arl_in_control", "500", 500.0),
-    ("false_alarms_per_month", "0,5", 0.5), ("shift_unit", "0.015 mm", 0.015)])
+    ("false_alarms_per_month", "0,5", 0.5), ("shift_in_units", "0.015 mm", 0.015)])
 def test_requirement_values_are_converted(name, raw, value):
     converted = convert(Setting(name, raw, "here"))
     assert converted.value == pytest.approx(value, rel=1e-12)
@@ -99,9 +99,9 @@ def test_requirement_values_are_converted(name, raw, value):
 
 def test_the_shift_in_units_replaces_the_shift_in_sigmas_of_a_lower_layer():
     book = SettingsSheet(common={"shift": Setting("shift", 1.0, "settings sheet row 2")})
-    cells = {"shift_unit": Setting("shift_unit", 0.02, "'Line'!B3")}
+    cells = {"shift_in_units": Setting("shift_in_units", 0.02, "'Line'!B3")}
     options, used = options_for(SheetSettings(cells, "Line"), book, {})
-    assert options.requirements == {"shift_unit": 0.02} and "shift" not in used
+    assert options.requirements == {"shift_in_units": 0.02} and "shift" not in used
     both = {**cells, "shift": Setting("shift", 1.0, "'Line'!B4")}
     with pytest.raises(ValueError, match=r"'Line'!B[34] and 'Line'!B[34]: give the shift to detect") as caught:
         options_for(SheetSettings(both, "Line"), book, {})

@@ -95,7 +95,7 @@ def test_the_earlier_label_of_the_base_period_still_reads_with_a_note():
 
 
 @pytest.mark.parametrize(("earlier", "now"), [("detect_hours", "ats_hours"), ("detect_arl", "arl_at_shift"),
-                                              ("shift_units", "shift_unit"), ("limits_from", "base_period")])
+                                              ("shift_units", "shift_in_units"), ("limits_from", "base_period")])
 def test_earlier_setting_names_still_read(earlier, now):
     from sheettool.settings import earlier_label_note
 

@@ -18,7 +18,7 @@ REQUIREMENT_KEYS: dict[str, str] = {
     "arl_in_control": "in-control ARL at least, points between false alarms",
     "false_alarms_per_month": "false alarms per month at most; needs the interval and production hours",
     "shift": "the shift that matters, in process standard deviations",
-    "shift_unit": "the shift that matters, in the characteristic's unit; divided by sigma",
+    "shift_in_units": "the shift that matters, in the characteristic's unit; divided by sigma",
     "arl_at_shift": "ARL at the shift at most, in points",
     "ats_hours": "ATS at the shift at most: the average hours to signal it",
 }
@@ -40,9 +40,9 @@ class Requirements:
     arl_in_control: float | None = None
     false_alarms_per_month: float | None = None
     hours_per_month: float | None = None
-    shift: float | None = None  # process standard deviations; 1 when neither shift nor shift_unit is given
-    shift_unit: float | None = None
-    sigma: float | None = None  # the process sigma that turns shift_unit into sigmas
+    shift: float | None = None  # process standard deviations; 1 when neither shift nor shift_in_units is given
+    shift_in_units: float | None = None
+    sigma: float | None = None  # the process sigma that turns shift_in_units into sigmas
     arl_at_shift: float | None = None
     ats_hours: float | None = None
 
@@ -54,9 +54,9 @@ class Requirements:
         check_number("sigma", self.sigma)
         check_number("the ARL at the shift", self.arl_at_shift, 1.0, strict=False)
         check_number("the ATS at the shift (hours)", self.ats_hours)
-        if self.shift_unit is not None and not (math.isfinite(self.shift_unit) and self.shift_unit != 0):
-            raise ValueError(f"the shift in units must be a finite number other than 0, got {self.shift_unit!r}")
-        if self.shift is not None and self.shift_unit is not None:
+        if self.shift_in_units is not None and not (math.isfinite(self.shift_in_units) and self.shift_in_units != 0):
+            raise ValueError(f"the shift in units must be a finite number other than 0, got {self.shift_in_units!r}")
+        if self.shift is not None and self.shift_in_units is not None:
             raise ValueError("give the shift in sigmas or in the characteristic's unit, not both")
 
     @classmethod
@@ -70,12 +70,12 @@ class Requirements:
 
     def delta(self, sigma: float | None = None) -> float:
         """The shift that matters in process standard deviations (absolute: the schemes are two-sided)."""
-        if self.shift_unit is None:
+        if self.shift_in_units is None:
             return float(self.shift) if self.shift is not None else 1.0
         sigma = sigma if sigma is not None else self.sigma
         if not (sigma is not None and math.isfinite(sigma) and sigma > 0):
             raise ValueError("a shift in the characteristic's unit needs the process sigma (a positive number)")
-        return abs(self.shift_unit) / sigma
+        return abs(self.shift_in_units) / sigma
 
     def target_arl(self, interval_hours: float | None) -> float:
         """The in-control ARL a scheme sampled every `interval_hours` must reach (`timing.in_control_target`);
