@@ -24,7 +24,7 @@ from sheettool.app.batch import (
 from sheettool.app.outputs import check_output, same_file, write_failure
 from sheettool.base.errors import InputError, SheettoolError
 from sheettool.base.problems import Problem
-from sheettool.evaluation.summary import PackRow, Period, failed_row, pack_key, summary_row
+from sheettool.evaluation.summary import PackRow, Period, failed_row, summary_row
 from sheettool.settings import Setting
 from sheettool.workbook.reader.labels import SETTINGS_SHEET
 from sheettool.workbook.report import EvaluationReport
@@ -80,12 +80,15 @@ class Pack:
 def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period | None = None,
                carried: dict[str, dict[str, Any]] | None = None, jobs: int = 1,
                progress: Progress | None = None, skip: tuple[Path, ...] = (), output: Path | None = None,
-               limits_file: Path | None = None, time_limit: float | None = DEFAULT_TIME_LIMIT) -> Pack:
+               limits_file: Path | None = None, time_limit: float | None = DEFAULT_TIME_LIMIT,
+               log: list[dict[str, Any]] | None = None) -> Pack:
     """Evaluate every workbook found in `paths` and summarise each characteristic over the period.
 
     output (the pack to be written) and limits_file are checked first: UsageError, before any work,
     when the output would replace an input or the limits file. An earlier output at the output's
     own name is passed over, as are the paths in `skip`. Each input has `time_limit` seconds.
+    carried (the limits block's entries) is matched to each characteristic by identity; when it matches
+    none of them the pack is an InputError. log: the earlier output's action-log entries.
     """
     roots = [p for p in map(Path, paths) if p.is_dir()]
     missing = [p for p in map(Path, paths) if not p.exists()]
@@ -98,14 +101,9 @@ def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period |
     if not found.files and not missing:
         left = "".join(f"; skipped {s.path}: {s.reason}" for s in found.skipped)
         raise InputError("no .xlsx or .xlsm workbook found in " + ", ".join(map(str, paths)) + left)
-    todo = []
-    for path in found.files:
-        source = source_label(path, roots)
-        mine = None
-        if carried is not None:
-            prefix = pack_key(source, "")
-            mine = {key[len(prefix):]: entry for key, entry in carried.items() if key.startswith(prefix)}
-        todo.append(FileJob(path, source, settings, mine, carried_from="the previous pack"))
+    carried_from = limits_file.name if limits_file is not None else "the previous pack"
+    todo = [FileJob(path, source_label(path, roots), settings, carried, carried_from, log=log or [])
+            for path in found.files]
     progress = progress or Progress(0, quiet=True)
     progress.expect(len(todo))
     outcomes = run_parallel(evaluate_job, todo, jobs, progress, lost_job, time_limit)
@@ -122,6 +120,10 @@ def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period |
             tab += 1
         rows += [failed_row(source, sheet, reason) for sheet, reason in unread_sheets(outcome.report)]
     rows += [skipped_row(s, roots) for s in found.skipped]
+    if carried is not None and rows and all(r.carried in ("", "none") for r in rows if r.tab is not None) \
+            and any(r.tab is not None for r in rows):
+        raise InputError(f"{carried_from}: its limits match none of the characteristics found (by identity or file "
+                         "and sheet name); give the previous month's pack or output, or leave out --limits-from")
     return Pack(outcomes=outcomes, rows=rows, period=period)
 
 

@@ -21,6 +21,7 @@ STATUS_WORDS = {
     "signals": "signals to review",
     "capability": "below capability target",
     "little": "too little data",
+    "uncarried": "no carried limits found",
     "failed": "not evaluated",
 }
 
@@ -73,7 +74,9 @@ class PackRow:
     characteristic: str
     chart: str = ""
     points: int = 0
-    signals: int = 0
+    points_signalled: int = 0
+    events: int = 0
+    events_open: int = 0
     latest_signal: str = ""
     cpk: float | None = None
     cpk_low: float | None = None
@@ -83,6 +86,7 @@ class PackRow:
     status: str = ""
     reason: str = ""
     flags: list[str] = field(default_factory=list)
+    carried: str = ""  # how carried limits were matched (see CharacteristicResult.carried)
     tab: int | None = None  # position of the characteristic's evaluation tab in the pack
 
 
@@ -97,13 +101,15 @@ def period_points(result: CharacteristicResult, period: Period | None) -> np.nda
 def summary_row(source: str, result: CharacteristicResult, period: Period | None) -> PackRow:
     """The summary of one evaluated characteristic over the period."""
     inside = period_points(result, period)
-    signals = [s for s in result.signals if inside[s.subgroup - 1]]
-    row = PackRow(source=source, sheet=result.sheet, characteristic=result.characteristic.name,
-                  chart=result.fit.chart, points=int(inside.sum()), signals=len(signals))
+    signals = [s for s in result.signals if inside[s.point - 1]]
+    events = [e for e in result.events if inside[np.asarray(e.points) - 1].any()]
+    row = PackRow(source=source, sheet=result.sheet, characteristic=result.identity or result.characteristic.name,
+                  chart=result.fit.chart, points=int(inside.sum()), points_signalled=len({s.point for s in signals}),
+                  events=len(events), events_open=result.events_open, carried=result.carried)
     if signals:
-        last = max(signals, key=lambda s: s.subgroup)
-        row.latest_signal = f"point {last.subgroup} ({last.label})" if last.label != str(last.subgroup) \
-            else f"point {last.subgroup}"
+        last = max(signals, key=lambda s: s.point)
+        row.latest_signal = f"point {last.point} ({last.label})" if last.label != str(last.point) \
+            else f"point {last.point}"
     cap = result.capability
     if isinstance(cap, Capability) and cap.cpk is not None:
         row.cpk = cap.cpk
@@ -113,7 +119,12 @@ def summary_row(source: str, result: CharacteristicResult, period: Period | None
     perf = result.performance
     row.arl_in_control = perf.arl_in_control if np.isfinite(perf.arl_in_control) else None
     row.false_alarms_per_month = perf.false_alarms_per_month
-    if int(result.fit.base.sum()) < MIN_BASE_SUBGROUPS:
+    origin = result.limits_origin
+    if result.carried == "none":
+        row.flags.append("uncarried")
+        row.reason = ("carried limits were asked for but none matched this characteristic: limits from its own base "
+                      "period")
+    if not origin.how and origin.subgroups < MIN_BASE_SUBGROUPS:  # carried limits: the subgroups that first set them
         row.flags.append("little")
     if signals:
         row.flags.append("signals")

@@ -138,6 +138,8 @@ def formats(book: Workbook, decimals: int = 4) -> Formats:
         "flag_warn": book.add_format({"bold": True, "font_color": WARN, "valign": "top", "align": "center"}),
         "lead": book.add_format({"bold": True, "font_color": SLATE, "text_wrap": True, "valign": "top"}),
         "link": book.add_format({"font_color": LINK, "underline": 1}),
+        "entry": book.add_format({"text_wrap": True, "valign": "top", "border": 1, "border_color": HAIRLINE,
+                                  "bg_color": "#FFFFFF"}),  # a cell the technician fills in
     }
     for d in range(0, 11):
         fmt[f"dec{d}"] = book.add_format({"num_format": number_format(d), "valign": "top"})

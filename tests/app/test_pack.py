@@ -72,11 +72,11 @@ def test_pack_rows_errors_and_exit_code(run_cli, folder, tmp_path):
     # The summary's numbers equal the per-characteristic JSON.
     for char in data["characteristics"]:
         row = next(r for r in rows if (r[0], r[1]) == (char["source"], char["sheet"]))
-        assert row[5] == len(char["signals"])
-        assert row[10] == pytest.approx(char["performance"]["arl_in_control"], rel=1e-12)
+        assert row[5] == char["points_signalled"] == len({s["point"] for s in char["signals"]})
+        assert row[11] == pytest.approx(char["performance"]["arl_in_control"], rel=1e-12)
         cpk = (char["capability"] or {}).get("cpk")  # an attribute chart has a rate, no Cpk
-        assert row[7] == (pytest.approx(cpk, rel=1e-12) if cpk is not None else None)
-        assert row[12] == char["summary"]["status"]
+        assert row[8] == (pytest.approx(cpk, rel=1e-12) if cpk is not None else None)
+        assert row[13] == char["summary"]["status"]
     # Each characteristic row links to its evaluation tab.
     links = {c.value: c.hyperlink.location for c in book["Review summary"]["C"] if c.hyperlink}
     assert all(loc.split("!")[0].strip("'") in book.sheetnames for loc in links.values())

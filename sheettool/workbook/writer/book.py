@@ -1,6 +1,6 @@
 """Assemble the evaluated workbook: tab order and names, document properties, atomic write.
 
-Tabs, in order: one evaluation tab per characteristic, the scheme-performance tab, one data tab per
+Tabs, in order: one evaluation tab per characteristic, the action log, the scheme-performance tab, one data tab per
 characteristic, the method and audit tab, then the hidden limits block and chart-lines tabs.
 """
 
@@ -25,8 +25,10 @@ from sheettool.base.errors import OutputError
 from sheettool.base.problems import Problem
 from sheettool.evaluation.carried import limits_entry
 from sheettool.evaluation.results import CharacteristicResult
+from sheettool.workbook.action_log import ACTION_LOG_TAB
 from sheettool.workbook.limits_block import LIMITS_SHEET, limits_rows
 from sheettool.workbook.report import EvaluationReport, SheetEvaluation
+from sheettool.workbook.writer.action_log_tab import write_action_log_tab
 from sheettool.workbook.writer.book_writer import NOTES_TAB, PERFORMANCE_TAB, BookWriter
 from sheettool.workbook.writer.data_tab import data_tab_count, plan_data_tab, write_data_tab
 from sheettool.workbook.writer.evaluation_tab import write_evaluation_tab
@@ -199,7 +201,8 @@ def write_workbook(reports: list[EvaluationReport], path: Path, options: WriterO
     stamp = stamp_for(reports, options.timestamp)
 
     def build(tmp: str) -> None:
-        fixed = (NOTES_TAB, LIMITS_SHEET, PERFORMANCE_TAB, LINES_SHEET) + ((summary.name,) if summary else ())
+        fixed = (NOTES_TAB, LIMITS_SHEET, PERFORMANCE_TAB, LINES_SHEET, ACTION_LOG_TAB) + (
+            (summary.name,) if summary else ())
         out = BookWriter(tmp, live=options.formulas, reserved=fixed, file=path.name)
         with out.catching():
             _properties(out, reports, stamp)
@@ -236,6 +239,7 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
              for s, t in zip(sheets, tells, strict=True)]
     summary_tab = out.add_tab(summary.name) if summary is not None else None
     eval_tabs = [out.add_tab(chart) for chart, _ in names]
+    log_tab = out.add_tab(ACTION_LOG_TAB)
     performance_tab = out.add_tab(PERFORMANCE_TAB)
     data_tabs = [[out.add_tab(data) for data in datas] for _, datas in names]
     notes_tab = out.add_tab(NOTES_TAB)
@@ -256,6 +260,7 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
     results = [sheet.result for sheet in sheets]
     if summary is not None and summary_tab is not None:
         summary.write(summary_tab, tab_names)
+    write_action_log_tab(log_tab, results, tab_names)
     write_performance_tab(out, performance_tab, results, tab_names)
     _hand_back(reports[0].problems, out.found())
     write_notes_tab(out, notes_tab, reports, stamp, as_values, tab_names)

@@ -142,7 +142,7 @@ def control_chart(out: BookWriter, layout: DataLayout, sc: StatColumns, zones: b
                                      [v if math.isfinite(v) else None for v in stat.values.tolist()]))
     chart.add_series({"name": chart_text(stat.label), "categories": win.x_ref, "values": values,
                       **style.series_look("values", m)})
-    hits = sorted({s.subgroup - 1 - win.first for s in signals if s.subgroup > win.first})
+    hits = sorted({s.point - 1 - win.first for s in signals if s.point > win.first})
     if hits:  # a compact list of the signalling points, so a long chart carries no column of blanks
         xs = lines.ref(lines.add(f"{stat.label}: signal x", [float(win.x[i]) for i in hits]))
         ys = lines.ref(lines.add(f"{stat.label}: signal", [float(stat.values[i]) for i in hits]))

@@ -288,7 +288,7 @@ def _rows(tab: Tab, layout: DataLayout, sheet: SheetEvaluation,
             ws.write_string(r, flags_col, flags[i])
     for name, sc in layout.stats.items():
         values = sc.stat.values
-        for i in sorted({s.subgroup - 1 for s in result.signals if s.statistic == name}):
+        for i in sorted({s.point - 1 for s in result.signals if s.statistic == name}):
             if first <= i < end:
                 cells.number(ws, i + shift, sc.signal, float(values[i]), fmts[1])
 
@@ -323,7 +323,7 @@ def _signal_flags(result: CharacteristicResult) -> dict[int, str]:
     labels = {s.name: s.label for s in result.fit.statistics}
     out: dict[int, list[str]] = {}
     for s in result.signals:
-        out.setdefault(s.subgroup - 1, []).append(f"{labels.get(s.statistic, s.statistic)}: {s.rule}")
+        out.setdefault(s.point - 1, []).append(f"{labels.get(s.statistic, s.statistic)}: {', '.join(s.rules)}")
     return {i: "; ".join(v) for i, v in out.items()}
 
 

@@ -14,9 +14,10 @@ from sheettool.workbook.writer.notes_tab import CAUTION
 from sheettool.workbook.writer.tab import Tab
 
 SUMMARY_TAB = "Review summary"
-COLUMNS = ("Source file", "Sheet", "Characteristic", "Chart", "Points in period", "Signals", "Latest signal",
-           "Cpk", "Cpk low", "Cpk high", "In-control ARL", "False alarms / month", "Status", "Reason")
-WIDTHS = (28, 18, 22, 8, 10, 8, 22, 8, 8, 8, 11, 11, 26, 50)
+COLUMNS = ("Source file", "Sheet", "Characteristic", "Chart", "Points in period", "Points signalled",
+           "Events open", "Latest signal", "Cpk", "Cpk low", "Cpk high", "In-control ARL", "False alarms per month",
+           "Status", "Reason")
+WIDTHS = (28, 18, 26, 8, 10, 9, 8, 22, 8, 8, 8, 11, 11, 26, 50)
 
 
 def write_pack_workbook(rows: list[PackRow], period: Period | None, evaluated: list[tuple[str, EvaluationReport]],
@@ -35,8 +36,11 @@ def _write_summary(tab: Tab, rows: list[PackRow], period: Period | None, eval_ta
     ws, fmt = tab.ws, tab.fmt
     ws.write_string(0, 0, "Review summary", fmt["title"])
     words = f"points dated {period.label}" if period else "all points of each workbook"
-    ws.write_string(1, 0, f"Period: {words}. Limits: each characteristic's base period, or the limits carried "
-                          "from the previous pack where given (see each evaluation tab).", fmt["text"])
+    carried = [r for r in rows if r.tab is not None and "uncarried" not in r.flags and r.carried]
+    limits = (f"carried for {len(carried)} of {sum(r.tab is not None for r in rows)} characteristics (matched by "
+              "identity; see each evaluation tab), the others from their own base period") if any(
+        r.carried for r in rows) else "each characteristic's own base period"
+    ws.write_string(1, 0, f"Period: {words}. Limits: {limits}.", fmt["text"])
     counts = {word: sum(1 for r in rows if word in r.status.split("; ")) for word in STATUS_WORDS.values()}
     ws.write_string(2, 0, "; ".join(f"{n} {word}" for word, n in counts.items() if n) or "nothing evaluated",
                     fmt["label"])
@@ -57,16 +61,16 @@ def _write_summary(tab: Tab, rows: list[PackRow], period: Period | None, eval_ta
             ws.write_string(i, 2, row.characteristic, fmt["text"])
         ws.write_string(i, 3, row.chart, fmt["text"])
         if row.tab is not None:
-            ws.write_number(i, 4, row.points, fmt["count"])
-            ws.write_number(i, 5, row.signals, fmt["count"])
-        ws.write_string(i, 6, row.latest_signal, fmt["text"])
-        for col, value in ((7, row.cpk), (8, row.cpk_low), (9, row.cpk_high)):
+            for col, value in ((4, row.points), (5, row.points_signalled), (6, row.events_open)):
+                ws.write_number(i, col, value, fmt["count"])
+        ws.write_string(i, 7, row.latest_signal, fmt["text"])
+        for col, value in ((8, row.cpk), (9, row.cpk_low), (10, row.cpk_high)):
             cells.number(ws, i, col, value, fmt["dec2"])
-        cells.number(ws, i, 10, row.arl_in_control, fmt["arl"])
-        cells.number(ws, i, 11, row.false_alarms_per_month, fmt["dec2"])
-        ws.write_string(i, 12, row.status, fmt["label"] if row.flags else fmt["text"])
-        ws.write_string(i, 13, row.reason, fmt["wrap"])
-        tab.fit(row.reason, WIDTHS[13], row=i)
+        cells.number(ws, i, 11, row.arl_in_control, fmt["arl"])
+        cells.number(ws, i, 12, row.false_alarms_per_month, fmt["dec2"])
+        ws.write_string(i, 13, row.status, fmt["label"] if row.flags else fmt["text"])
+        ws.write_string(i, 14, row.reason, fmt["wrap"])
+        tab.fit(row.reason, WIDTHS[14], row=i)
     for col, width in enumerate(WIDTHS):
         ws.set_column(col, col, width)
     ws.freeze_panes(top + 1, 3)
