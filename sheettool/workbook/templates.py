@@ -87,7 +87,7 @@ def write_template(spec: TemplateSpec, path: Path) -> None:
         "1. Fill the labelled cells on the left; leave empty what does not apply.",
         *[f"{i}. {text}" for i, text in enumerate(spec.instructions, start=2)],
         f"{len(spec.instructions) + 2}. To keep a row out of the limits, write 'exclude' in its note.",
-        f"{len(spec.instructions) + 3}. The first row is a worked example: overwrite it or leave it (it is excluded).",
+        f"{len(spec.instructions) + 3}. The first row is a worked example: overwrite it or leave it (never evaluated).",
         f"Evaluate with:  {TOOL_NAME} evaluate THIS-FILE.xlsx",
     ]
     for r, text in enumerate(lines, start=2):
