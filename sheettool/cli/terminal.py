@@ -17,9 +17,9 @@ _VERDICT = {True: "requirements met", False: "requirements NOT met", None: "requ
 def characteristic_lines(result: CharacteristicResult, read: tuple[Problem, ...] = ()) -> list[str]:
     """The summary line of one characteristic, its limits' origin and its warnings (`read`: the reader's
     problems of its sheet first), indented."""
-    opened = result.events_open
-    parts = [f"{result.points_signalled} point(s) signalled in {len(result.events)} event(s)"
-             + (f", {opened} open" if opened else "")]
+    earlier = sum(e.is_open for e in result.fitted.earlier_events)
+    parts = [f"{result.points_signalled} point(s) signalled in {len(result.events)} event(s); "
+             f"{result.events_open} event(s) open" + (f" ({earlier} from earlier months)" if earlier else "")]
     alarms = result.performance.false_alarms_per_month
     parts.append(f"{alarms:.2g} false alarms per month expected" if alarms is not None
                  else "false alarms per month not known (give the sampling interval and hours per month)")

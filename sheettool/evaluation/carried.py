@@ -149,9 +149,9 @@ def match_entry(entries: dict[str, dict[str, Any] | None], identity: str, sheet:
     chosen = next((k for k in named if k in same), None)
     if chosen is not None:
         return Match(entries[chosen], "identity and file name")
-    if named:
-        entry = entries[named[0]] or {}
-        theirs = str(entry.get("identity") or "")
+    entry = entries[named[0]] or {} if named else {}
+    theirs = str(entry.get("identity") or "")
+    if named and _compatible(identity_key(theirs), key):
         why = f"its identity was '{theirs}', this one is '{identity}'" if theirs else "it has no identity"
         return Match(entry, "file name", f"carried limits matched by file and sheet name only ({why}); check that "
                                          "they are this characteristic's")
@@ -159,4 +159,12 @@ def match_entry(entries: dict[str, dict[str, Any] | None], identity: str, sheet:
         return Match(None, "", f"{len(same)} characteristics in the limits file share the identity '{identity}' and "
                                "none has this file's name; give each a part or characteristic cell; its limits come "
                                "from its own base period")
-    return Match(None, "", f"no carried limits for identity '{identity}'; its limits come from its own base period")
+    return Match(None, "", f"no carried limits for identity '{identity}'; its limits come from its own base period"
+                 + (f" (the entry of the same file and sheet name is for '{theirs}')" if named else ""))
+
+
+def _compatible(theirs: str, ours: str) -> bool:
+    """Two identities that may name one characteristic: either has no identity, or one's parts hold the other's (a
+    part or characteristic cell added or removed since); a different part or characteristic never matches."""
+    a, b = set(theirs.split(" / ")) - {""}, set(ours.split(" / ")) - {""}
+    return not a or a <= b or b <= a
