@@ -260,7 +260,7 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
     results = [sheet.result for sheet in sheets]
     if summary is not None and summary_tab is not None:
         summary.write(summary_tab, tab_names)
-    write_action_log_tab(log_tab, results, tab_names)
+    write_action_log_tab(log_tab, results)
     write_performance_tab(out, performance_tab, results, tab_names)
     _hand_back(reports[0].problems, out.found())
     write_notes_tab(out, notes_tab, reports, stamp, as_values, tab_names)
