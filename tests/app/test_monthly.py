@@ -13,8 +13,7 @@ import xlsxwriter
 
 from sheettool.workbook.action_log import ACTION_LOG_TAB, COLUMNS, read_action_log
 
-A2_FIVE = 0.577  # X-bar chart factor for subgroups of 5 (Montgomery 2009, Appendix Table VI)
-D2_FIVE = 2.326  # d2 for subgroups of 5 (Montgomery 2009, Appendix Table VI)
+A2_FIVE = 0.577  # X-bar chart factor for subgroups of 5 (ASTM E2587 table; tests/reference/published-values.md)
 
 
 def month_book(path: Path, month: int, seed: int, shift_from: int | None = None, notes: dict[int, str] | None = None,
