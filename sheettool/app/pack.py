@@ -7,7 +7,7 @@ the reason, and the pack's exit code says that some inputs failed. Files left ou
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -24,6 +24,7 @@ from sheettool.app.batch import (
 from sheettool.app.outputs import check_output, same_file, write_failure
 from sheettool.base.errors import InputError, SheettoolError
 from sheettool.base.problems import Problem
+from sheettool.evaluation.events import identity_key
 from sheettool.evaluation.summary import PackRow, Period, failed_row, summary_row
 from sheettool.settings import Setting
 from sheettool.workbook.reader.labels import SETTINGS_SHEET
@@ -55,6 +56,7 @@ class Pack:
     outcomes: list[FileOutcome]
     rows: list[PackRow]
     period: Period | None
+    kept_log: list[dict[str, Any]] = field(default_factory=list)  # earlier log entries of characteristics not here
 
     @property
     def evaluated(self) -> list[FileOutcome]:
@@ -124,7 +126,9 @@ def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period |
             and any(r.tab is not None for r in rows):
         raise InputError(f"{carried_from}: its limits match none of the characteristics found (by identity or file "
                          "and sheet name); give the previous month's pack or output, or leave out --limits-from")
-    return Pack(outcomes=outcomes, rows=rows, period=period)
+    here = {identity_key(c.identity) for o in outcomes if o.report is not None for c in o.report.characteristics}
+    kept = [e for e in log or [] if identity_key(str(e.get("identity") or "")) not in here]
+    return Pack(outcomes=outcomes, rows=rows, period=period, kept_log=kept)
 
 
 def unread_sheets(report: EvaluationReport) -> list[tuple[str, str]]:
@@ -158,7 +162,7 @@ def write_pack(pack: Pack, path: Path, options: WriterOptions | None = None) -> 
     OutputError (exit 4) with the real cause when it cannot be written, whatever layer fails.
     """
     try:
-        write_pack_workbook(pack.rows, pack.period, pack.sources, path, options)
+        write_pack_workbook(pack.rows, pack.period, pack.sources, path, options, pack.kept_log)
     except SheettoolError:
         raise
     except Exception as exc:

@@ -161,6 +161,25 @@ def test_the_action_log_is_carried_month_to_month(run_cli, tmp_path):
     assert again[0]["closed"] == "yes" and again[0]["first_label"] == closed["first_label"]
 
 
+def test_a_pack_keeps_the_log_of_characteristics_not_in_it(run_cli, tmp_path):
+    march, april = tmp_path / "2026-03", tmp_path / "2026-04"
+    march.mkdir()
+    april.mkdir()
+    month_book(march / "bore.xlsx", 3, seed=2, shift_from=18)
+    month_book(march / "seal.xlsx", 3, seed=4, part="HF-300", characteristic="seal groove", shift_from=10)
+    month_book(april / "bore.xlsx", 4, seed=5)  # no seal file this month: its log entries are kept as written
+    assert run_cli("pack", march, "-o", tmp_path / "pack-03.xlsx").code == 0
+    _fill_log(tmp_path / "pack-03.xlsx", {1: {"cause": "tool wear"}})
+    logged = read_action_log(tmp_path / "pack-03.xlsx")
+    assert logged[0]["cause"] == "tool wear"
+    assert run_cli("pack", april, "-o", tmp_path / "pack-04.xlsx", "--limits-from", tmp_path / "pack-03.xlsx",
+                   "--quiet").code == 0
+    again = read_action_log(tmp_path / "pack-04.xlsx")
+    seal = [e for e in logged if e["identity"].startswith("HF-300")]
+    assert seal and [e for e in again if e["identity"].startswith("HF-300")] == seal
+    assert any(e["cause"] == "tool wear" for e in again)
+
+
 def test_the_terminal_summary_names_points_events_and_warnings(run_cli, tmp_path, march):
     path = tmp_path / "bore-2026-04.xlsx"
     month_book(path, 4, seed=2, shift_from=15, notes={16: "gauge dropped"})

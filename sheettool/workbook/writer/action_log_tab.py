@@ -7,6 +7,8 @@ written is lost and an open event stays open until its "Closed" cell is filled; 
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 from sheettool.evaluation.results import CharacteristicResult, Event
 from sheettool.workbook import style
 from sheettool.workbook.action_log import COLUMNS, FILLED_IN
@@ -31,8 +33,9 @@ def event_cells(identity: str, number: int, event: Event, file: str) -> dict[str
             **{name: getattr(event, name) for name in FILLED_IN}}
 
 
-def write_action_log_tab(tab: Tab, results: list[CharacteristicResult]) -> None:
-    """Write the log of every characteristic's events, earlier months' first."""
+def write_action_log_tab(tab: Tab, results: list[CharacteristicResult], kept: Sequence[dict[str, str]] = ()) -> None:
+    """Write the log of every characteristic's events, earlier months' first, then `kept`: the earlier log's entries
+    of characteristics not evaluated this time, as they were read."""
     ws, fmt = tab.ws, tab.fmt
     ws.write_string(0, 0, "Action log", fmt["title"])
     last = len(COLUMNS) - 1
@@ -43,6 +46,7 @@ def write_action_log_tab(tab: Tab, results: list[CharacteristicResult]) -> None:
     top = 4
     rows = [event_cells(result.identity, n, e, result.file) for result in results
             for n, e in enumerate((*result.fitted.earlier_events, *result.events), start=1)]
+    rows += [{name: entry.get(name, "") for name, _ in COLUMNS} for entry in kept]
     for c, (name, header) in enumerate(COLUMNS):
         ws.write_string(top, c, header, fmt["head"])
         ws.set_column(c, c, WIDTHS[name])

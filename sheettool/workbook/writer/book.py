@@ -185,10 +185,12 @@ def write_evaluated_workbook(report: EvaluationReport, path: Path, options: Writ
 
 
 def write_workbook(reports: list[EvaluationReport], path: Path, options: WriterOptions | None = None,
-                   summary: Summary | None = None, block_keys: list[str] | None = None) -> None:
+                   summary: Summary | None = None, block_keys: list[str] | None = None,
+                   kept_log: list[dict[str, str]] | None = None) -> None:
     """Write the evaluated workbook of one or more inputs (a pack) atomically, never over an input.
 
-    block_keys names each characteristic in the limits block (default: its sheet name).
+    block_keys names each characteristic in the limits block (default: its sheet name); kept_log holds the earlier
+    action log's entries of characteristics not evaluated this time, written on unchanged.
     """
     options = options or WriterOptions()
     path = Path(path)
@@ -207,7 +209,7 @@ def write_workbook(reports: list[EvaluationReport], path: Path, options: WriterO
         with out.catching():
             _properties(out, reports, stamp)
             out.book.set_calc_mode("auto")
-            _tabs(out, reports, stamp, summary, block_keys or [])
+            _tabs(out, reports, stamp, summary, block_keys or [], kept_log or [])
             out.close()
             _hand_back(reports[0].problems, out.found())
 
@@ -228,7 +230,7 @@ def _properties(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp) 
 
 
 def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summary: Summary | None,
-          block_keys: list[str]) -> None:
+          block_keys: list[str], kept_log: list[dict[str, str]]) -> None:
     """Add the tabs in their order, then write each: evaluation and data tabs per characteristic, then the rest."""
     sheets = [sheet for report in reports for sheet in report.sheets]
     tells = [_tells(sheet, report) for report in reports for sheet in report.sheets]
@@ -260,7 +262,7 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
     results = [sheet.result for sheet in sheets]
     if summary is not None and summary_tab is not None:
         summary.write(summary_tab, tab_names)
-    write_action_log_tab(log_tab, results)
+    write_action_log_tab(log_tab, results, kept_log)
     write_performance_tab(out, performance_tab, results, tab_names)
     _hand_back(reports[0].problems, out.found())
     write_notes_tab(out, notes_tab, reports, stamp, as_values, tab_names)

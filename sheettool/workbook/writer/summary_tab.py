@@ -21,15 +21,18 @@ WIDTHS = (28, 18, 26, 8, 10, 9, 8, 22, 8, 8, 8, 11, 11, 26, 50)
 
 
 def write_pack_workbook(rows: list[PackRow], period: Period | None, evaluated: list[tuple[str, EvaluationReport]],
-                        path: Path, options: WriterOptions | None = None) -> None:
+                        path: Path, options: WriterOptions | None = None,
+                        kept_log: list[dict[str, str]] | None = None) -> None:
     """Write the pack: summary first, then every characteristic's tabs, then one audit for all inputs.
 
-    evaluated: (source label, report) of every input that was evaluated, in the order of the summary rows.
+    evaluated: (source label, report) of every input that was evaluated, in the order of the summary rows;
+    kept_log: the earlier action log's entries of characteristics not in this pack (written on unchanged).
     """
     reports = [report for _, report in evaluated]
     keys = [pack_key(source, r.sheet) for source, report in evaluated for r in report.characteristics]
     write_workbook(reports, path, options, Summary(SUMMARY_TAB, lambda tab, eval_tabs:
-                                                   _write_summary(tab, rows, period, eval_tabs)), block_keys=keys)
+                                                   _write_summary(tab, rows, period, eval_tabs)), block_keys=keys,
+                   kept_log=kept_log)
 
 
 def _write_summary(tab: Tab, rows: list[PackRow], period: Period | None, eval_tabs: list[str]) -> None:
