@@ -23,7 +23,7 @@ lint: $(STAMP)
 	$(PY) -m ruff check .
 
 test: lint
-	OPENBLAS_NUM_THREADS=1 OMP_NUM_THREADS=1 $(PY) -m pytest
+	OPENBLAS_NUM_THREADS=1 OMP_NUM_THREADS=1 $(PY) -m pytest -n 2 --dist loadscope
 
 clean:
 	rm -rf $(VENV) out build *.egg-info

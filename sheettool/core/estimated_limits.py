@@ -149,7 +149,7 @@ def carl_distribution(m: int, n: int, sigma_method: SigmaMethod | str, L: float 
         mean=mean, sd=sd, p10=_quantile(0.1, est, a, L), p50=_quantile(0.5, est, a, L),
         method=(f"conditional in-control ARL of limits center +/- {L:g} sigma_hat/sqrt(n) with mean and sigma "
                 f"({est.method.model_words}) estimated from {_base_words(m, n)}; sigma_hat distribution "
-                f"{which}; Gauss-Hermite and Gauss-Legendre integration (Jensen et al. 2006)"),
+                f"{which}{est.method.model_error}; Gauss-Hermite and Gauss-Legendre integration (Jensen et al. 2006)"),
         notes=notes,
     )
 
@@ -320,16 +320,21 @@ def remedy_sentence(m: int, n: int, low: float, floor: float, exceed: float, kno
     what would give the assurance wanted."""
     what = "points" if n == 1 else "subgroups"
     base = f"{m} points" if n == 1 else f"{m} subgroups"
+    if math.isnan(adjusted.factor):  # no factor up to 8: only more subgroups, or other rules, can help
+        factor, no_factor = "", "; no limit factor up to 8 gets there either, since rules counting points on one " \
+                                "side of the center line do not widen with the limits"
+    else:
+        factor, no_factor = f" or use a limit factor of {adjusted.factor:.2f}", ""
     if needed.subgroups is not None and needed.subgroups <= m:
         remedy = f"these {base} are already enough"
     elif needed.subgroups is not None:
-        remedy = f"base the limits on {needed.subgroups} {what} or use a limit factor of {adjusted.factor:.2f}"
+        remedy = f"base the limits on {needed.subgroups} {what}{factor}{no_factor}"
     elif needed.reachable:
-        remedy = (f"use a limit factor of {adjusted.factor:.2f} (with {scheme} even "
-                  f"{needed.max_searched:,} {what} would not be enough)")
+        remedy = (f"{factor.removeprefix(' or ') or 'choose other rules'} (with {scheme} even "
+                  f"{needed.max_searched:,} {what} would not be enough{no_factor})")
     else:
-        remedy = (f"use a limit factor of {adjusted.factor:.2f} (no number of {what} gets {scheme} "
-                  f"there: even with known mean and sigma they give {known:.1f})")
+        remedy = (f"{factor.removeprefix(' or ') or 'choose other rules'} (no number of {what} gets {scheme} "
+                  f"there: even with known mean and sigma they give {known:.1f}{no_factor})")
     return (f"With limits from these {base}, {_share_in_words(1.0 - exceed)} would give fewer than "
             f"{low:.0f} plotted points between false alarms; to be {exceed * 100:g}% sure of at least "
             f"{floor:.0f}, {remedy}.")

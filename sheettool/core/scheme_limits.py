@@ -199,7 +199,7 @@ def scheme_estimated_limits(scheme: Scheme, m: int, sigma_method: SigmaMethod | 
         method=(f"conditional in-control ARL of the {words} with mean and sigma ({method.model_words}) estimated "
                 f"from {m} {'points' if n == 1 else f'subgroups of {n}'}: exact zone chain at the shift and sigma "
                 f"ratio the estimates give (Champ and Woodall 1987){left}; Gauss-Hermite in the mean, a W grid for "
-                "sigma_hat (Jensen et al. 2006)"),
+                f"sigma_hat (Jensen et al. 2006){method.model_error}"),
         notes=[] if math.isfinite(mean) else ["the average in-control ARL is unbounded: rare base periods overstate "
                                               "sigma so much that the scheme practically never signals; read the "
                                               "percentiles instead"])
@@ -233,7 +233,8 @@ def _known_arl(carl: _SchemeCarl, n: int) -> float:
 
 
 def _adjusted(key: tuple, m: int, floor: float, exceed: float) -> float:
-    """The factor L with P(CARL >= floor) = exceed (it rises with L), by Brent's method on a bracket around 3."""
+    """The factor L with P(CARL >= floor) = exceed (it rises with L), by Brent's method on a bracket around 3;
+    NaN when no factor up to 8 reaches it (rules counting points on one side of the center do not widen)."""
     def gap(L: float) -> float:
         return (1.0 - _grid(*key, m, round(L, 6)).below(floor)) - exceed
 
@@ -242,8 +243,7 @@ def _adjusted(key: tuple, m: int, floor: float, exceed: float) -> float:
         lo -= 0.5
     while gap(hi) < 0:
         if hi > 8.0:
-            raise ValueError(f"exceed: no limit factor up to 8 gives P(in-control ARL >= {floor:.4g}) = {exceed:g} "
-                             f"with {m} subgroups; lower exceed or base the limits on more subgroups")
+            return math.nan
         hi += 1.0
     return float(optimize.brentq(gap, lo, hi, xtol=2e-4))
 

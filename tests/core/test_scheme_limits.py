@@ -82,3 +82,15 @@ def test_whole_scheme_average_matches_a_simulation_with_estimated_limits():
     grid = scheme_limits._grid(tuple(parse_rules("zones")), "range", 5, SigmaMethod.RANGE, 29,
                                round(report.adjusted.factor, 6))
     assert 1 - grid.below(report.floor) == pytest.approx(0.9, abs=2e-3)
+
+
+def test_a_target_no_factor_can_reach_still_gives_the_distribution():
+    # Eight points in a row on one side of the center line: for a fair coin the expected wait for a run of 8 alike is
+    # 2^8 - 1 = 255 points (Feller 1968, success runs), whatever the limit factor, so a scheme holding that rule can
+    # never reach an in-control ARL of 333; the distribution is still reported and the factor is left out (NaN).
+    scheme = Scheme("individuals", rules=tuple(parse_rules("zones")), n=1)
+    report = scheme_estimated_limits(scheme, 25, "moving-range", target=333.4)
+    assert report.distribution.known_arl < 2**8 - 1
+    assert np.isnan(report.adjusted.factor)
+    assert 0 < report.distribution.p10 < report.distribution.p50 < 2**8 - 1
+    assert "no limit factor up to 8" in report.sentence and "known mean and sigma" in report.sentence

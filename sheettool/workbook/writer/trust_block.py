@@ -91,7 +91,10 @@ def _estimated(tab: Tab, rep: EstimatedLimitsReport) -> None:
     _line(tab, "50th percentile", ((dist.p50, "arl"),), "half the base periods give fewer, half more")
     _line(tab, f"Factor for {rep.exceed:.0%} assurance", ((rep.adjusted.factor, "ratio"),),
           f"every zone boundary and spread-chart limit at this many sigma gives the scheme an in-control ARL of at "
-          f"least {rep.floor:,.0f} in {rep.exceed:.0%} of base periods (3 is the usual factor)")
+          f"least {rep.floor:,.0f} in {rep.exceed:.0%} of base periods (3 is the usual factor)"
+          if not math.isnan(rep.adjusted.factor) else
+          f"no factor up to 8 gives the scheme an in-control ARL of at least {rep.floor:,.0f} in {rep.exceed:.0%} "
+          "of base periods: its rules that count points on one side of the center line do not widen with the limits")
     needed = rep.needed
     ws = tab.ws
     ws.write_string(tab.row, 0, f"{what.capitalize()} needed, 3-sigma", tab.fmt["text"])
