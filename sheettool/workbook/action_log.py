@@ -8,15 +8,10 @@ read; every value comes back as text (a typed date as YYYY-MM-DD), nothing of it
 from __future__ import annotations
 
 import datetime as dt
-import itertools
-import zipfile
 from pathlib import Path
 from typing import Any
 
-import openpyxl
-from openpyxl.utils.exceptions import InvalidFileException
-
-from sheettool.base.errors import InputError
+from sheettool.workbook.limits_block import earlier_sheet
 
 ACTION_LOG_TAB = "Action log"
 # (field, header) in the tab's order; the fields are the JSON names of an event
@@ -63,19 +58,5 @@ def log_entries(rows: list[tuple[Any, ...]]) -> list[dict[str, str]]:
 def read_action_log(path: Path) -> list[dict[str, str]]:
     """The action-log entries of an earlier output ([] when it has no action log); InputError naming the file
     when it cannot be read."""
-    try:
-        book = openpyxl.load_workbook(path, read_only=True, data_only=True)
-    except (zipfile.BadZipFile, InvalidFileException, KeyError, OSError, ValueError) as exc:
-        raise InputError(f"{path}: not a readable .xlsx workbook ({type(exc).__name__})") from None
-    try:
-        if ACTION_LOG_TAB not in book.sheetnames:
-            return []
-        width = len(COLUMNS) + 10  # room for a column or two the technician added
-        rows = [tuple(r) for r in itertools.islice(book[ACTION_LOG_TAB].iter_rows(max_col=width, values_only=True),
-                                                   MAX_ROWS)]
-    except Exception as exc:  # a damaged sheet part fails in many ways inside openpyxl
-        raise InputError(f"{path}: sheet '{ACTION_LOG_TAB}' cannot be read ({type(exc).__name__}); give the "
-                         "workbook as sheettool wrote it, with only the action log's entries changed") from None
-    finally:
-        book.close()
-    return log_entries(rows)
+    width = len(COLUMNS) + 10  # room for a column or two the technician added
+    return log_entries(earlier_sheet(path, ACTION_LOG_TAB, width, MAX_ROWS) or [])
