@@ -181,7 +181,7 @@ def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str], notes: lis
                 broken.append(hit.rule)
     order = {s.name: i for i, s in enumerate(fit.statistics)}
     return [Signal(point=i + 1, label=labels[i], statistic=name, rules=tuple(r.text for r in broken),
-                   words=tuple(r.words for r in broken), note=notes[i] if notes else "")
+                   note=notes[i] if notes else "")
             for (i, name), broken in sorted(found.items(), key=lambda kv: (kv[0][0], order[kv[0][1]]))]
 
 

@@ -27,14 +27,13 @@ __all__ = ["Assessment", "CharacteristicResult", "Event", "Fitted", "LimitsOrigi
 
 @dataclass(frozen=True)
 class Signal:
-    """A plotted point that broke one or more rules: its position (from 1) on one statistic, the rules
-    (their text and words, in the order of the rules in use) and the input's note for its subgroup."""
+    """A plotted point that broke one or more rules: its position (from 1) on one statistic, the rules (in the
+    grammar's spelling, in the order of the rules in use) and the input's note for its subgroup."""
 
     point: int
     label: str
     statistic: str
     rules: tuple[str, ...]
-    words: tuple[str, ...]
     note: str = ""
 
 
