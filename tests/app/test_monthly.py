@@ -76,24 +76,33 @@ def test_month_named_files_carry_by_identity_with_their_origin(run_cli, tmp_path
     assert char["limits_origin"]["carried_from"] == "review-2026-04.xlsx"
 
 
-def test_month_named_packs_carry_and_count_as_the_evaluation_does(run_cli, tmp_path):
-    for month, seed, shift in ((3, 1, None), (4, 2, 12)):
-        folder = tmp_path / f"2026-{month:02d}"
-        folder.mkdir()
-        month_book(folder / f"bore-2026-{month:02d}.xlsx", month, seed=seed, shift_from=shift)
-    first = run_cli("pack", tmp_path / "2026-03", "-o", tmp_path / "pack-2026-03.xlsx", "--json")
-    assert first.code == 0, first.err
-    second = run_cli("pack", tmp_path / "2026-04", "-o", tmp_path / "pack-2026-04.xlsx", "--json",
+def test_month_named_packs_carry_count_as_the_evaluation_does_and_keep_the_log(run_cli, tmp_path):
+    march, april = tmp_path / "2026-03", tmp_path / "2026-04"
+    march.mkdir()
+    april.mkdir()
+    month_book(march / "bore-2026-03.xlsx", 3, seed=1)
+    month_book(march / "seal-2026-03.xlsx", 3, seed=4, part="HF-300", characteristic="seal groove", shift_from=10)
+    month_book(april / "bore-2026-04.xlsx", 4, seed=2, shift_from=12)  # no seal file this month
+    assert run_cli("pack", march, "-o", tmp_path / "pack-2026-03.xlsx").code == 0
+    first_seal = next(n for n, e in enumerate(read_action_log(tmp_path / "pack-2026-03.xlsx"), start=1)
+                      if e["identity"].startswith("HF-300"))
+    _fill_log(tmp_path / "pack-2026-03.xlsx", {first_seal: {"cause": "tool wear"}})
+    logged = read_action_log(tmp_path / "pack-2026-03.xlsx")
+    second = run_cli("pack", april, "-o", tmp_path / "pack-2026-04.xlsx", "--json",
                      "--limits-from", tmp_path / "pack-2026-03.xlsx")
     assert second.code == 0, second.err
     (char,) = second.json["characteristics"]
     assert char["carried"] == {"matched_by": "identity"}
     assert "too little data" not in char["summary"]["status"]  # carried limits are never too little data
-    alone = run_cli("evaluate", tmp_path / "2026-04" / "bore-2026-04.xlsx", "-o", tmp_path / "alone.xlsx",
+    alone = run_cli("evaluate", april / "bore-2026-04.xlsx", "-o", tmp_path / "alone.xlsx",
                     "--limits-from", tmp_path / "pack-2026-03.xlsx", "--json")
     (same,) = alone.json["characteristics"]
     assert char["summary"]["points_signalled"] == char["points_signalled"] == same["points_signalled"] > 0
     assert char["limits"] == same["limits"]
+    # the log of a characteristic not in this month's pack is written on as it was, entries and all
+    seal = [e for e in logged if e["identity"].startswith("HF-300")]
+    assert seal and seal[0]["cause"] == "tool wear"
+    assert [e for e in read_action_log(tmp_path / "pack-2026-04.xlsx") if e["identity"].startswith("HF-300")] == seal
 
 
 def test_a_limits_file_for_nothing_here_is_an_error_and_a_partial_match_says_so(run_cli, tmp_path, march):
@@ -159,25 +168,6 @@ def test_the_action_log_is_carried_month_to_month(run_cli, tmp_path):
     again = [e for e in read_action_log(april) if e["found_in"] == "bore-2026-03.xlsx"]
     assert [e["cause"] for e in again[:2]] == ["gauge G-114 dropped", "under investigation"]
     assert again[0]["closed"] == "yes" and again[0]["first_label"] == closed["first_label"]
-
-
-def test_a_pack_keeps_the_log_of_characteristics_not_in_it(run_cli, tmp_path):
-    march, april = tmp_path / "2026-03", tmp_path / "2026-04"
-    march.mkdir()
-    april.mkdir()
-    month_book(march / "bore.xlsx", 3, seed=2, shift_from=18)
-    month_book(march / "seal.xlsx", 3, seed=4, part="HF-300", characteristic="seal groove", shift_from=10)
-    month_book(april / "bore.xlsx", 4, seed=5)  # no seal file this month: its log entries are kept as written
-    assert run_cli("pack", march, "-o", tmp_path / "pack-03.xlsx").code == 0
-    _fill_log(tmp_path / "pack-03.xlsx", {1: {"cause": "tool wear"}})
-    logged = read_action_log(tmp_path / "pack-03.xlsx")
-    assert logged[0]["cause"] == "tool wear"
-    assert run_cli("pack", april, "-o", tmp_path / "pack-04.xlsx", "--limits-from", tmp_path / "pack-03.xlsx",
-                   "--quiet").code == 0
-    again = read_action_log(tmp_path / "pack-04.xlsx")
-    seal = [e for e in logged if e["identity"].startswith("HF-300")]
-    assert seal and [e for e in again if e["identity"].startswith("HF-300")] == seal
-    assert any(e["cause"] == "tool wear" for e in again)
 
 
 def test_the_terminal_summary_names_points_events_and_warnings(run_cli, tmp_path, march):
