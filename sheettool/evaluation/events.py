@@ -17,8 +17,14 @@ LOG_FIELDS = ("cause", "action", "by", "date", "closed")  # what the technician 
 
 
 def identity_of(part: str, characteristic: str, sheet: str) -> str:
-    """A characteristic's identity: part, characteristic and sheet name joined by " / " (the empty ones left out)."""
-    return " / ".join(x.strip() for x in (part, characteristic, sheet) if x and x.strip())
+    """A characteristic's identity: part, characteristic and sheet name joined by " / " (the empty ones left out, and
+    a sheet named like its characteristic said once)."""
+    parts: list[str] = []
+    for text in (part, characteristic, sheet):
+        text = (text or "").strip()
+        if text and text.lower() not in (p.lower() for p in parts):
+            parts.append(text)
+    return " / ".join(parts)
 
 
 def identity_key(identity: str) -> str:
