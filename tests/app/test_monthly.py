@@ -12,6 +12,7 @@ import pytest
 import xlsxwriter
 
 from sheettool.workbook.action_log import ACTION_LOG_TAB, COLUMNS, read_action_log
+from tests.cli.test_json_schema import _valid
 
 A2_FIVE = 0.577  # X-bar chart factor for subgroups of 5 (ASTM E2587 table; tests/reference/published-values.md)
 
@@ -91,6 +92,7 @@ def test_month_named_packs_carry_count_as_the_evaluation_does_and_keep_the_log(r
     second = run_cli("pack", april, "-o", tmp_path / "pack-2026-04.xlsx", "--json",
                      "--limits-from", tmp_path / "pack-2026-03.xlsx")
     assert second.code == 0, second.err
+    _valid("pack", second.json)
     (char,) = second.json["characteristics"]
     assert char["carried"] == {"matched_by": "identity"}
     assert "too little data" not in char["summary"]["status"]  # carried limits are never too little data
@@ -164,6 +166,7 @@ def test_the_action_log_is_carried_month_to_month(run_cli, tmp_path):
         "gauge G-114 dropped", "recalibrated", "T. Lind", "2026-04-02", "yes", False)
     assert (still["cause"], still["open"]) == ("under investigation", True)
     assert char["events_open"] == sum(e["open"] for e in char["events"])
+    _valid("evaluate", second.json)  # the events, origin and carried keys keep the published contract
     # written again in April's log, so May reads them back once more: nothing written is lost
     again = [e for e in read_action_log(april) if e["found_in"] == "bore-2026-03.xlsx"]
     assert [e["cause"] for e in again[:2]] == ["gauge G-114 dropped", "under investigation"]
