@@ -200,8 +200,7 @@ def write_data_tab(out: BookWriter, tabs: list[Tab], layout: DataLayout, sheet: 
             "sheettool." + (" Statistics and limits are live formulas." if live else ""))
     for k, (tab, (_, first, end)) in enumerate(zip(tabs, layout.parts, strict=True)):
         told = note + _continued(layout, k)
-        _head(tab, layout, f"Data of {result.identity or ch.name}" + (f" ({k + 1} of {len(tabs)})" if layout.split
-                                                                     else ""), told)
+        _head(tab, layout, f"Data of {result.identity}" + (f" ({k + 1} of {len(tabs)})" if layout.split else ""), told)
         _rows(tab, layout, sheet, jobs, fmts, first, end)
         _table(tab, layout, read, f"{table}_{k + 1}" if k else table, end - first, f"data of {ch.name}")
     _said(out, layout, ch.dates)

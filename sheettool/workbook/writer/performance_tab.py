@@ -47,7 +47,7 @@ def write_performance_tab(out: BookWriter, tab: Tab, results: list[Characteristi
         grid = perf.curve or perf.shifts
         ws.set_column(col, col + 2, BLOCK_WIDTHS[0])
         ws.set_column(col + 3, col + 3, BLOCK_WIDTHS[3])
-        ws.write_url(head, col, cells.internal_link(eval_tab), fmt["link"], string=result.characteristic.name)
+        ws.write_url(head, col, cells.internal_link(eval_tab), fmt["link"], string=result.identity)
         ws.merge_range(head + 1, col, head + 1, col + 2, "", fmt["wrap"])
         ws.write_string(head + 1, col, perf.method, fmt["wrap"])
         for c, h in enumerate((shift_heading(perf), "ARL (points)", "ATS (hours)")):
