@@ -2,6 +2,8 @@
 to exclude, labels that name no setting and the Characteristic cell. Expected values are what each test wrote."""
 
 import datetime as dt
+import shutil
+from pathlib import Path
 
 import numpy as np
 import openpyxl
@@ -54,3 +56,10 @@ def test_notes_labels_and_the_characteristic_cell(tmp_path):
     assert sheet.characteristic.excluded.tolist().count(True) == 1
     assert any("label 'Gauge'" in m and "G-114" in m for m in messages)
     assert not any("label 'Part'" in m or "HF-220" in m.split("value")[0] for m in messages if "label" in m)
+
+
+def test_a_template_with_only_its_worked_example_says_so(run_cli, tmp_path):
+    template = tmp_path / "individuals.xlsx"
+    shutil.copyfile(Path(__file__).parents[2] / "templates" / "individuals.xlsx", template)
+    result = run_cli("evaluate", template, "--json")
+    assert result.code == 3 and "only the template's worked example (row 15) holds data" in result.err

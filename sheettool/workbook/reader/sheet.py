@@ -65,6 +65,9 @@ def _sheet_read(parts: SheetParts) -> SheetRead:
     examples = example_rows(parts.grid.rows, columns.first("note"), frame.data)
     if examples:
         frame = replace(frame, data=[r for r in frame.data if r not in examples])
+        if not frame.data:
+            raise InputError(f"only the template's worked example (row {examples[0] + 1}) holds data; type the "
+                             "readings in the rows below it")
     cells = value_cells(parts.grid, title, frame.data, columns.values)
     shape = subgroups(parts.grid, columns, cells, parts.resolved.get("subgroup_size"))
     out = exclusions(shape)
