@@ -25,9 +25,8 @@ def characteristic_lines(result: CharacteristicResult, read: tuple[Problem, ...]
                  else "false alarms per month not known (give the sampling interval and hours per month)")
     if result.requirements_check is not None:
         parts.append(_VERDICT[result.requirements_check.met])
-    carried = {"": "", "none": "from its own base period, none carried: "}.get(result.carried, "carried: ")
-    lines = [f"{result.identity or result.sheet}: " + "; ".join(parts),
-             f"  limits {carried}{result.limits_origin.words}"]
+    carried = {"": "limits set by", "none": "none carried: limits set by"}.get(result.carried, "limits carried, set by")
+    lines = [f"{result.identity}: " + "; ".join(parts), f"  {carried} {result.limits_origin.words}"]
     return lines + [f"  {p.severity}: {p.message}" + (f" ({p.cell})" if p.cell else "")
                     for p in (*read, *result.problems) if p.severity != "note"]
 

@@ -116,7 +116,7 @@ def test_a_limits_file_for_nothing_here_is_an_error_and_a_partial_match_says_so(
     both = run_cli("evaluate", tmp_path / "bore-2026-04.xlsx", tmp_path / "seal-2026-04.xlsx", "--limits-from", march,
                    "--quiet")
     assert both.code == 3  # the seal file failed; the bore file was written with March's limits
-    assert "limits carried: base subgroups 1-25" in both.err
+    assert "limits carried, set by base subgroups 1-25" in both.err
     folder = tmp_path / "april"
     folder.mkdir()
     month_book(folder / "seal.xlsx", 4, seed=4, part="HF-300", characteristic="seal groove")
