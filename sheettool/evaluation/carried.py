@@ -149,7 +149,7 @@ def match_entry(entries: dict[str, dict[str, Any] | None], identity: str, sheet:
     chosen = next((k for k in named if k in same), None)
     if chosen is not None:
         return Match(entries[chosen], "identity and file name")
-    entry = entries[named[0]] or {} if named else {}
+    entry = (entries[named[0]] or {}) if named else {}
     theirs = str(entry.get("identity") or "")
     if named and _compatible(identity_key(theirs), key):
         why = f"its identity was '{theirs}', this one is '{identity}'" if theirs else "it has no identity"
