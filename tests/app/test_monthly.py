@@ -77,6 +77,7 @@ def test_month_named_files_carry_by_identity_with_their_origin(run_cli, tmp_path
     assert char["limits_origin"]["carried_from"] == "review-2026-04.xlsx"
 
 
+@pytest.mark.slow
 def test_month_named_packs_carry_count_as_the_evaluation_does_and_keep_the_log(run_cli, tmp_path):
     march, april = tmp_path / "2026-03", tmp_path / "2026-04"
     march.mkdir()
@@ -107,6 +108,7 @@ def test_month_named_packs_carry_count_as_the_evaluation_does_and_keep_the_log(r
     assert [e for e in read_action_log(tmp_path / "pack-2026-04.xlsx") if e["identity"].startswith("HF-300")] == seal
 
 
+@pytest.mark.slow
 def test_a_limits_file_for_nothing_here_is_an_error_and_a_partial_match_says_so(run_cli, tmp_path, march):
     month_book(tmp_path / "seal-2026-04.xlsx", 4, seed=4, part="HF-300", characteristic="seal groove")
     result = run_cli("evaluate", tmp_path / "seal-2026-04.xlsx", "--limits-from", march)
