@@ -90,8 +90,9 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     ws.write_string(1, 0, "Go to:", fmt["label"])
     tab.row = 2
     tab.section("About this chart")
-    tab.fact("Characteristic", ch.name)
-    tab.fact("Identity", result.identity)
+    named = result.settings.get("characteristic")
+    tab.fact("Characteristic", str(named.value) if named is not None else ch.name)
+    tab.fact("Identity", f"{result.identity} (next month's limits and action log are matched by it)")
     tab.fact("Sheet read", result.sheet)
     tab.fact("Unit", ch.unit or "not given")
     tab.fact("Specification limits", _spec_words(result))
