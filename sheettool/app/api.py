@@ -13,6 +13,8 @@ from sheettool.base.problems import Problem
 if TYPE_CHECKING:
     from sheettool.core.design import DesignResult, Requirements, Sampling, SearchGrid
     from sheettool.core.design.candidates import Progress
+    from sheettool.evaluation.carried import Match
+    from sheettool.evaluation.results import Fitted
     from sheettool.settings import Setting
     from sheettool.workbook.report import EvaluationReport
     from sheettool.workbook.writer import WriterOptions
@@ -36,19 +38,25 @@ def file_digest(path: Path) -> tuple[str, int]:
 
 def evaluate_file(input_path: Path, output: Path | None = None,
                   settings: dict[str, Setting] | None = None, write: bool = True,
-                  carried: dict[str, dict[str, Any]] | None = None, carried_from: str = "",
-                  writer: WriterOptions | None = None) -> EvaluationReport:
+                  carried: dict[str, dict[str, Any] | None] | None = None, carried_from: str = "",
+                  writer: WriterOptions | None = None, source: str = "", log: list[dict[str, Any]] | None = None,
+                  require_match: bool = False) -> EvaluationReport:
     """Read a workbook, evaluate every characteristic in it and write the evaluated workbook.
 
     `settings` (e.g. from the command line) override the workbook's own; each sheet gets its own
     options from its settings sheet section and labelled cells. A sheet whose settings or data
-    cannot be evaluated is a problem; the others go on. carried: limits-block entries by sheet name
-    (from `read_limits_block`); a sheet with an entry gets those limits, a sheet without one its own
-    base period and a warning saying so. `writer` chooses live formulas and the fixed document date
-    of the output (see WriterOptions).
+    cannot be evaluated is a problem; the others go on. carried: limits-block entries (from
+    `read_limits_block`), matched to each characteristic by its identity (`match_entry`; `source` is
+    the file's name in the block, a pack's source label); a characteristic without one gets its own
+    base period and a warning saying so, and with `require_match` a file none of whose characteristics
+    matched is an InputError. log: the action-log entries of the earlier output, put back on the events
+    of the characteristic of the same identity. `writer` chooses live formulas and the fixed document
+    date of the output (see WriterOptions).
     """
     # imported here, as the design search is in design_schemes: each command loads only its own half
+    from sheettool.evaluation.carried import match_entry
     from sheettool.evaluation.evaluate import evaluate
+    from sheettool.evaluation.events import identity_of
     from sheettool.evaluation.options import options_for
     from sheettool.workbook.reader import read_workbook
     from sheettool.workbook.report import EvaluationReport, SheetEvaluation
@@ -61,18 +69,34 @@ def evaluate_file(input_path: Path, output: Path | None = None,
         sha, size = file_digest(input_path)
     except OSError as exc:
         raise InputError(f"{input_path}: cannot be read ({exc.strerror})") from None
-    sheets, problems = [], list(read.problems)
+    planned, problems = [], list(read.problems)
     for sheet in read.sheets:
-        if carried is not None and sheet.sheet not in carried:
-            source = carried_from or "the limits file"
-            problems.append(Problem("warning", f"no carried limits for this sheet in {source}; its limits come from "
-                                    "its own base period", input_path.name, sheet.sheet))
         try:
             options, used = options_for(sheet, read.settings, settings)
-            if carried is not None:
-                options = replace(options, carried=carried.get(sheet.sheet))
+        except ValueError as exc:
+            problems.append(Problem("error", str(exc), input_path.name, sheet.sheet))
+            continue
+        identity = identity_of(options.part, options.characteristic, sheet.sheet)
+        match = match_entry(carried, identity, sheet.sheet, source or input_path.name) if carried is not None else None
+        planned.append((sheet, options, used, match))
+    if require_match and carried is not None and planned and not any(m and m.entry for _, _, _, m in planned):
+        names = "; ".join(identity_of(o.part, o.characteristic, s.sheet) for s, o, _, _ in planned)
+        raise InputError(f"{input_path}: the limits file {carried_from} carries limits for none of its "
+                         f"characteristics ({names}); give the earlier output of this characteristic, or leave "
+                         "out --limits-from to set limits from a base period")
+    sheets = []
+    for sheet, options, used, match in planned:
+        try:
+            if match is not None:
+                options = replace(options, carried=match.entry)
             result = evaluate(sheet.characteristic, sheet.sheet, options)
-            sheets.append(SheetEvaluation(sheet, replace(result, settings=used, file=input_path.name)))
+            fitted = _with_log(result.fitted, log or [], input_path.name)
+            if match is not None and match.warning:
+                said = Problem("warning", f"{match.warning} (limits file {carried_from or 'given'})", sheet=sheet.sheet)
+                fitted = replace(fitted, problems=(*fitted.problems, said))
+            result = replace(result, settings=used, file=input_path.name, carried=_carried_words(match),
+                             fitted=fitted)
+            sheets.append(SheetEvaluation(sheet, result))
         except ValueError as exc:
             problems.append(Problem("error", str(exc), input_path.name, sheet.sheet))
     if not sheets:
@@ -84,6 +108,26 @@ def evaluate_file(input_path: Path, output: Path | None = None,
     if write:
         write_evaluated_workbook(report, out, writer)
     return report
+
+
+def _carried_words(match: Match | None) -> str:
+    """How the characteristic's carried limits were found: "" when none were asked for, "none" when none matched."""
+    if match is None:
+        return ""
+    return match.how if match.entry is not None or match.how else "none"
+
+
+def _with_log(fitted: Fitted, log: list[dict[str, Any]], file: str) -> Fitted:
+    """The fitted result with the action log's entries of its identity put back on its events."""
+    from sheettool.evaluation.events import attach_log, identity_key
+
+    key = identity_key(fitted.identity)
+    mine = [e for e in log if identity_key(str(e.get("identity") or "")) == key]
+    if not mine:
+        return fitted
+    dated = any(d is not None for d in fitted.characteristic.dates)
+    events, earlier = attach_log(list(fitted.events), mine, file, dated)
+    return replace(fitted, events=tuple(events), earlier_events=tuple(earlier))
 
 
 def design_schemes(requirements: Requirements, sampling: Sampling, grid: SearchGrid,

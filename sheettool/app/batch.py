@@ -300,10 +300,12 @@ class FileJob:
     path: Path
     source: str
     settings: dict[str, Setting]
-    carried: dict[str, dict[str, Any]] | None = None
+    carried: dict[str, dict[str, Any] | None] | None = None
     carried_from: str = ""
     output: Path | None = None
     writer: WriterOptions = field(default_factory=WriterOptions)
+    log: list[dict[str, Any]] = field(default_factory=list)  # the earlier output's action log
+    require_match: bool = False  # carried limits that match none of this file's characteristics are an error
 
 
 @dataclass
@@ -325,7 +327,8 @@ def evaluate_job(job: FileJob) -> FileOutcome:
                            code=InputError.exit_code)
     try:
         report = evaluate_file(job.path, job.output, job.settings, write=job.output is not None,
-                               carried=job.carried, carried_from=job.carried_from, writer=job.writer)
+                               carried=job.carried, carried_from=job.carried_from, writer=job.writer,
+                               source=job.source, log=job.log, require_match=job.require_match)
     except SheettoolError as exc:
         return FileOutcome(job, error=str(exc), code=exc.exit_code)
     except Exception as exc:  # the batch boundary: report it against the file and go on

@@ -16,7 +16,7 @@ from sheettool.core.design import RequirementsCheck
 from sheettool.core.estimated_limits import EstimatedLimitsReport
 from sheettool.core.runlength.results import Performance
 from sheettool.core.timing import SignalsAgainstChance
-from sheettool.evaluation.results import CharacteristicResult
+from sheettool.evaluation.results import CharacteristicResult, Event
 from sheettool.evaluation.summary import chance_of
 from sheettool.settings import Setting
 from sheettool.workbook.reader import SheetRead
@@ -101,15 +101,27 @@ def characteristic_json(result: CharacteristicResult) -> dict[str, Any]:
     """The JSON object of one characteristic."""
     fit = result.fit
     perf = result.performance
+    origin = result.limits_origin
     return {
         "name": result.characteristic.name,
+        "identity": result.identity,
         "sheet": result.sheet,
         "chart": fit.chart,
         "subgroups": result.characteristic.data.subgroups,
         "subgroup_size": fit.subgroup_size,
         "limits": {stat.name: limits_json(stat) for stat in fit.statistics},
-        "signals": [{"subgroup": s.subgroup, "statistic": s.statistic, "rule": s.rule} for s in result.signals],
+        "signals": [{"point": s.point, "label": s.label, "statistic": s.statistic, "rules": list(s.rules),
+                     "note": s.note} for s in result.signals],
+        "points_signalled": result.points_signalled,
+        "events": [event_json(e) for e in (*result.fitted.earlier_events, *result.events)],
+        "events_open": result.events_open,
         "limits_source": fit.limits_source,
+        "limits_origin": {"file": origin.file, "sheet": origin.sheet, "month": origin.month or None,
+                          "period": origin.period or None, "base": origin.base or None,
+                          "base_period_points": origin.subgroups, "how": origin.how or None,
+                          "carried_from": origin.carried_from or None},
+        "carried": None if not result.carried else {
+            "matched_by": None if result.carried == "none" else result.carried},
         "base_period_points": [int(i) + 1 for i in np.flatnonzero(fit.base)],
         "removed": list(fit.removed),
         "capability": capability_json(result.capability),
@@ -125,6 +137,14 @@ def chance_json(chance: SignalsAgainstChance) -> dict[str, Any]:
     """Points signalled beside the false alarms expected over the points plotted, and the chance of as many."""
     return {"points": chance.points, "points_signalled": chance.signalled,
             "false_alarms_expected": chance.expected, "chance_from_false_alarms": chance.probability}
+
+
+def event_json(event: Event) -> dict[str, Any]:
+    """One event: its points, the rules broken, the input's note and what the action log says of it."""
+    return {"first_point": event.first_point, "last_point": event.last_point, "points": list(event.points),
+            "first_label": event.first_label, "last_label": event.last_label, "rules": list(event.rules),
+            "note": event.note, "cause": event.cause, "action": event.action, "by": event.by, "date": event.date,
+            "closed": event.closed, "open": event.is_open, "found_in": event.found_in or None}
 
 
 def estimated_limits_json(rep: EstimatedLimitsReport | None) -> dict[str, Any] | None:

@@ -7,7 +7,7 @@ the reason, and the pack's exit code says that some inputs failed. Files left ou
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -24,7 +24,8 @@ from sheettool.app.batch import (
 from sheettool.app.outputs import check_output, same_file, write_failure
 from sheettool.base.errors import InputError, SheettoolError
 from sheettool.base.problems import Problem
-from sheettool.evaluation.summary import PackRow, Period, failed_row, pack_key, summary_row
+from sheettool.evaluation.events import identity_key
+from sheettool.evaluation.summary import PackRow, Period, failed_row, summary_row
 from sheettool.settings import Setting
 from sheettool.workbook.earlier_packs import TrendPoint
 from sheettool.workbook.reader.labels import SETTINGS_SHEET
@@ -56,6 +57,7 @@ class Pack:
     outcomes: list[FileOutcome]
     rows: list[PackRow]
     period: Period | None
+    kept_log: list[dict[str, Any]] = field(default_factory=list)  # earlier log entries of characteristics not here
 
     @property
     def evaluated(self) -> list[FileOutcome]:
@@ -81,12 +83,15 @@ class Pack:
 def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period | None = None,
                carried: dict[str, dict[str, Any]] | None = None, jobs: int = 1,
                progress: Progress | None = None, skip: tuple[Path, ...] = (), output: Path | None = None,
-               limits_file: Path | None = None, time_limit: float | None = DEFAULT_TIME_LIMIT) -> Pack:
+               limits_file: Path | None = None, time_limit: float | None = DEFAULT_TIME_LIMIT,
+               log: list[dict[str, Any]] | None = None) -> Pack:
     """Evaluate every workbook found in `paths` and summarise each characteristic over the period.
 
     output (the pack to be written) and limits_file are checked first: UsageError, before any work,
     when the output would replace an input or the limits file. An earlier output at the output's
     own name is passed over, as are the paths in `skip`. Each input has `time_limit` seconds.
+    carried (the limits block's entries) is matched to each characteristic by identity; when it matches
+    none of them the pack is an InputError. log: the earlier output's action-log entries.
     """
     roots = [p for p in map(Path, paths) if p.is_dir()]
     missing = [p for p in map(Path, paths) if not p.exists()]
@@ -99,14 +104,9 @@ def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period |
     if not found.files and not missing:
         left = "".join(f"; skipped {s.path}: {s.reason}" for s in found.skipped)
         raise InputError("no .xlsx or .xlsm workbook found in " + ", ".join(map(str, paths)) + left)
-    todo = []
-    for path in found.files:
-        source = source_label(path, roots)
-        mine = None
-        if carried is not None:
-            prefix = pack_key(source, "")
-            mine = {key[len(prefix):]: entry for key, entry in carried.items() if key.startswith(prefix)}
-        todo.append(FileJob(path, source, settings, mine, carried_from="the previous pack"))
+    carried_from = limits_file.name if limits_file is not None else "the previous pack"
+    todo = [FileJob(path, source_label(path, roots), settings, carried, carried_from, log=log or [])
+            for path in found.files]
     progress = progress or Progress(0, quiet=True)
     progress.expect(len(todo))
     outcomes = run_parallel(evaluate_job, todo, jobs, progress, lost_job, time_limit)
@@ -123,7 +123,13 @@ def build_pack(paths: list[Path], settings: dict[str, Setting], period: Period |
             tab += 1
         rows += [failed_row(source, sheet, reason) for sheet, reason in unread_sheets(outcome.report)]
     rows += [skipped_row(s, roots) for s in found.skipped]
-    return Pack(outcomes=outcomes, rows=rows, period=period)
+    if carried is not None and rows and all(r.carried in ("", "none") for r in rows if r.tab is not None) \
+            and any(r.tab is not None for r in rows):
+        raise InputError(f"{carried_from}: its limits match none of the characteristics found (by identity or file "
+                         "and sheet name); give the previous month's pack or output, or leave out --limits-from")
+    here = {identity_key(c.identity) for o in outcomes if o.report is not None for c in o.report.characteristics}
+    kept = [e for e in log or [] if identity_key(str(e.get("identity") or "")) not in here]
+    return Pack(outcomes=outcomes, rows=rows, period=period, kept_log=kept)
 
 
 def unread_sheets(report: EvaluationReport) -> list[tuple[str, str]]:
@@ -159,7 +165,7 @@ def write_pack(pack: Pack, path: Path, options: WriterOptions | None = None,
     OutputError (exit 4) with the real cause when it cannot be written, whatever layer fails.
     """
     try:
-        write_pack_workbook(pack.rows, pack.period, pack.sources, path, options, earlier)
+        write_pack_workbook(pack.rows, pack.period, pack.sources, path, options, earlier, pack.kept_log)
     except SheettoolError:
         raise
     except Exception as exc:

@@ -159,7 +159,7 @@ def carried_limits(task: WatchTask) -> tuple[dict[str, Any] | None, str, dict[st
 
 def signalled_points(report: EvaluationReport) -> int:
     """Points signalled: distinct signalled subgroups per characteristic (not rule hits), summed."""
-    return sum(len({s.subgroup for s in c.signals}) for c in report.characteristics)
+    return sum(c.points_signalled for c in report.characteristics)
 
 
 def problem_words(report: EvaluationReport) -> list[str]:

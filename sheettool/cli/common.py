@@ -19,6 +19,8 @@ from sheettool.settings import KNOWN_SETTINGS, Setting, setting_name
 if TYPE_CHECKING:
     from sheettool.workbook.writer import WriterOptions
 
+NOT_CARRIED = 6  # written, but carried limits were asked for and some characteristic found none
+
 # option -> setting name; each overrides the workbook's settings sheet and labelled cells.
 SETTING_OPTIONS = {"lsl": "lsl", "usl": "usl", "target": "target", "chart": "chart", "rules": "rules",
                    "interval": "interval_hours", "hours_per_month": "hours_per_month", "base_period": "base_period"}

@@ -8,7 +8,7 @@ from pathlib import Path
 
 from sheettool import TOOL_NAME, tool_json
 from sheettool.base.errors import InputError, UsageError
-from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, print_json, writer_options
+from sheettool.cli.common import NOT_CARRIED, add_evaluation_options, cli_settings, jobs, print_json, writer_options
 
 
 def add_arguments(p: argparse.ArgumentParser) -> None:
@@ -26,10 +26,14 @@ def run(args: argparse.Namespace) -> int:
 
     With several inputs the others go on when one fails; the exit code is then the highest failure's
     (3 or 4: never the pack's 5). Sheettool's own outputs among the inputs are skipped with a note.
+    With --limits-from, an input none of whose characteristics the limits file matches fails (3), and
+    outputs written where some characteristic found no carried limits exit NOT_CARRIED.
     """
     from sheettool.app.batch import FileJob, Progress, evaluate_job, lost_job, run_parallel
     from sheettool.app.json_form import report_json
     from sheettool.app.outputs import check_output, plan_outputs
+    from sheettool.cli.terminal import report_lines
+    from sheettool.workbook.action_log import read_action_log
     from sheettool.workbook.limits_block import read_limits_block
     from sheettool.workbook.reader import describe
 
@@ -42,6 +46,7 @@ def run(args: argparse.Namespace) -> int:
         check_output(args.output, read)
     settings = cli_settings(args)
     carried = read_limits_block(args.limits_file) if args.limits_file else None
+    log = read_action_log(args.limits_file) if args.limits_file else []
     inputs, skipped = _inputs(args.input)
     lines = [f"{path}: skipped, {why}" for path, why in skipped]
     if not inputs:
@@ -53,7 +58,8 @@ def run(args: argparse.Namespace) -> int:
         sys.stderr.write(f"{TOOL_NAME}: {line}\n")
     options = writer_options(args)
     todo = [FileJob(path, path.name, settings, carried, args.limits_file.name if args.limits_file else "",
-                    output, options) for path, (output, _) in zip(inputs, outputs, strict=True)]
+                    output, options, log=log, require_match=True)
+            for path, (output, _) in zip(inputs, outputs, strict=True)]
     if len(todo) == 1:
         outcomes = [evaluate_job(todo[0])]
     else:
@@ -67,8 +73,7 @@ def run(args: argparse.Namespace) -> int:
                          if s.origin != "default"]
                 sys.stderr.write(describe(sheet.read) + (f"; settings: {', '.join(given)}" if given else "") + "\n")
         if not args.json:
-            for result in outcome.report.characteristics:
-                sys.stderr.write(f"{result.sheet}: {len(result.signals)} signal(s)\n")
+            sys.stderr.write("".join(f"{line}\n" for line in report_lines(outcome.report)))
             sys.stderr.write(f"written: {outcome.report.output}\n")
     for outcome in outcomes:
         if outcome.error:
@@ -83,7 +88,9 @@ def run(args: argparse.Namespace) -> int:
                         "failed": [{"input": str(o.job.path), "message": o.error, "exit_code": o.code}
                                    for o in outcomes if o.report is None],
                         "skipped": [{"input": str(p), "message": why} for p, why in skipped]})
-    return max(o.code for o in outcomes)
+    code = max(o.code for o in outcomes)
+    uncarried = any(c.carried == "none" for o in outcomes if o.report for c in o.report.characteristics)
+    return code or (NOT_CARRIED if uncarried else 0)
 
 
 def _inputs(paths: list[Path]) -> tuple[list[Path], list[tuple[Path, str]]]:

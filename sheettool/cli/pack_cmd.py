@@ -13,7 +13,17 @@ from sheettool.app.json_form import characteristic_json, problem_json
 from sheettool.app.outputs import check_output
 from sheettool.app.pack import DEFAULT_TIME_LIMIT, Pack, Period, build_pack, write_pack
 from sheettool.base.errors import InputError, UsageError
-from sheettool.cli.common import add_evaluation_options, cli_settings, jobs, number, print_json, writer_options
+from sheettool.cli.common import (
+    NOT_CARRIED,
+    add_evaluation_options,
+    cli_settings,
+    jobs,
+    number,
+    print_json,
+    writer_options,
+)
+from sheettool.cli.terminal import report_lines
+from sheettool.workbook.action_log import read_action_log
 from sheettool.workbook.earlier_packs import read_earlier_pack
 from sheettool.workbook.limits_block import read_limits_block
 
@@ -37,7 +47,8 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    """Write the pack; 0 when everything was evaluated, SOME_FAILED when some inputs were not."""
+    """Write the pack; 0 when everything was evaluated, SOME_FAILED when some inputs were not, else NOT_CARRIED
+    when carried limits were asked for and some characteristic found none."""
     period = _period(args)
     settings = cli_settings(args)
     time_limit = number("--time-limit", args.time_limit, positive=True)
@@ -47,8 +58,9 @@ def run(args: argparse.Namespace) -> int:
     if args.earlier:
         check_output(args.output, [(p, "an earlier pack") for p in args.earlier])
     earlier = [read_earlier_pack(p) for p in args.earlier]
+    log = read_action_log(args.limits_file) if args.limits_file else []
     pack = build_pack(args.paths, settings, period, carried, jobs(args), Progress(0, quiet=args.quiet),
-                      output=args.output, limits_file=args.limits_file, time_limit=time_limit)
+                      output=args.output, limits_file=args.limits_file, time_limit=time_limit, log=log)
     if not pack.evaluated:
         raise InputError("nothing could be evaluated: " + "; ".join(r.reason for r in pack.rows))
     write_pack(pack, args.output, writer_options(args), earlier)
@@ -56,13 +68,17 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         print_json(pack_json(pack, args.output))
     else:
+        for source, report in pack.sources:
+            sys.stderr.write("".join(f"{source}: {line}\n" if not line.startswith(" ") else f"{line}\n"
+                                     for line in report_lines(report)))
         evaluated = sum(1 for r in pack.rows if r.tab is not None)
         sys.stderr.write(f"{evaluated} characteristic(s), {len(failed)} not evaluated; written: {args.output}\n")
         for row in failed:
             sys.stderr.write(f"  not evaluated: {row.reason}\n")
         for row in pack.skipped:
             sys.stderr.write(f"  skipped: {row.reason}\n")
-    return SOME_FAILED if failed else 0
+    uncarried = any("uncarried" in r.flags for r in pack.rows)
+    return SOME_FAILED if failed else NOT_CARRIED if uncarried else 0
 
 
 def pack_json(pack: Pack, output: Path) -> dict[str, Any]:
@@ -75,7 +91,8 @@ def pack_json(pack: Pack, output: Path) -> dict[str, Any]:
             row = next(rows)
             entry = characteristic_json(result)
             entry.update({"input": str(report.input), "input_sha256": report.input_sha256, "source": row.source,
-                          "summary": {"points_in_period": row.points, "signals_in_period": row.signals,
+                          "summary": {"points_in_period": row.points, "points_signalled": row.points_signalled,
+                                      "events": row.events, "events_open": row.events_open,
                                       "latest_signal": row.latest_signal or None, "status": row.status}})
             characteristics.append(entry)
         problems += [problem_json(p, outcome.job.source)

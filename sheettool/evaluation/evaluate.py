@@ -21,8 +21,9 @@ from sheettool.core.presets import DEFAULT_RULES
 from sheettool.core.rules import Rule, find_hits, parse_rules, standardized
 from sheettool.core.runlength.ewma import limits_as_drawn
 from sheettool.core.runlength.scheme import performance_of
-from sheettool.evaluation.carried import carried_parameters
+from sheettool.evaluation.carried import carried_origin, carried_parameters
 from sheettool.evaluation.checks import scheme_checks
+from sheettool.evaluation.events import events_of, identity_of
 from sheettool.evaluation.options import EvaluationOptions
 from sheettool.evaluation.results import Assessment, CharacteristicResult, Fitted, Signal
 
@@ -110,7 +111,7 @@ def fit_characteristic(characteristic: Characteristic, sheet: str,
     else:
         rules = parse_rules(options.rules)
     flat = fit.sigma_within == 0 and isinstance(characteristic.data, Measurements)  # limits on the center line
-    signals = [] if flat else find_signals(fit, rules, characteristic.labels)
+    signals = [] if flat else find_signals(fit, rules, characteristic.labels, characteristic.notes)
     capability = capability_of(characteristic, fit, bool(signals), options)
     carried_n = (options.carried or {}).get("subgroup_size")
     if carried_n is not None and carried_n != fit.subgroup_size and isinstance(characteristic.data, Measurements):
@@ -127,7 +128,10 @@ def fit_characteristic(characteristic: Characteristic, sheet: str,
         warn = note.startswith(("normality is doubtful", "the chart signals"))
         problems.append(Problem("warning" if warn else "note", f"capability: {note}", sheet=sheet))
     return Fitted(characteristic=characteristic, sheet=sheet, fit=fit, rules=rules, signals=signals,
-                  capability=capability, problems=tuple(problems))
+                  capability=capability, problems=tuple(problems),
+                  identity=identity_of(options.part, options.characteristic, sheet),
+                  events=tuple(events_of(signals, characteristic.labels, characteristic.notes)),
+                  carried_origin=carried_origin(options.carried) if options.carried is not None else None)
 
 
 def assess(fitted: Fitted, options: EvaluationOptions | None = None) -> Assessment:
@@ -161,26 +165,25 @@ def capability_of(characteristic: Characteristic, fit: ChartFit, signals: bool,
                               options.confidence, stable=not signals, sigma_method=method)
 
 
-def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str]) -> list[Signal]:
-    """Apply the rules to the location chart and the limit rule alone to a spread chart, in standard errors.
+def find_signals(fit: ChartFit, rules: list[Rule], labels: list[str], notes: list[str] | None = None
+                 ) -> list[Signal]:
+    """The signalled points: per statistic, each point with every rule it broke (the location chart under the
+    rules, a spread chart under its limits alone, in standard errors), and the input's note of its subgroup.
 
     Pattern rules assume normal, independent points: a subgroup range or standard deviation is skewed, and
     successive moving ranges share a reading, so on a spread chart only a point beyond a limit signals.
     """
-    signals: list[Signal] = []
+    found: dict[tuple[int, str], list[Rule]] = {}
     for stat in fit.statistics:
         stat_rules = list(SPREAD_RULES) if stat.name in SPREAD_STATISTICS else rules
         for hit in find_hits(standardized(stat.values, stat.center, stat.sigma, stat_rules), stat_rules):
-            signals.append(Signal(
-                subgroup=hit.point + 1,
-                label=labels[hit.point],
-                statistic=stat.name,
-                rule=hit.rule.text,
-                words=hit.rule.words,
-                points=tuple(p + 1 for p in hit.points),
-            ))
-    signals.sort(key=lambda s: (s.subgroup, s.statistic))
-    return signals
+            broken = found.setdefault((hit.point, stat.name), [])
+            if hit.rule not in broken:
+                broken.append(hit.rule)
+    order = {s.name: i for i, s in enumerate(fit.statistics)}
+    return [Signal(point=i + 1, label=labels[i], statistic=name, rules=tuple(r.text for r in broken),
+                   note=notes[i] if notes else "")
+            for (i, name), broken in sorted(found.items(), key=lambda kv: (kv[0][0], order[kv[0][1]]))]
 
 
 # the spread charts of X-bar and R, X-bar and S, individuals and moving range

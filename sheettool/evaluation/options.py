@@ -40,6 +40,8 @@ class EvaluationOptions:
     interval_hours: float | None = None
     hours_per_month: float | None = None
     requirements: dict[str, float] = field(default_factory=dict)  # see core.design.REQUIREMENT_KEYS
+    part: str = ""  # with the characteristic and the sheet name: the identity carried limits are matched by
+    characteristic: str = ""
 
     def chart_parameters(self, chart: str) -> dict[str, float]:
         """The chart's own parameters these options set, by name: lambda and L of the EWMA; k, h and the

@@ -6,7 +6,10 @@ behaves and what the extra checks found; `CharacteristicResult` is made of both 
 
 from __future__ import annotations
 
+import datetime as dt
 from dataclasses import dataclass, field
+
+import numpy as np
 
 from sheettool.base.problems import Problem
 from sheettool.core.capability import AttributeRate, Capability
@@ -19,19 +22,95 @@ from sheettool.core.rules import Rule
 from sheettool.core.runlength.results import Performance, ShiftArl
 from sheettool.settings import Setting
 
-__all__ = ["Assessment", "CharacteristicResult", "Fitted", "Performance", "ShiftArl", "Signal"]
+__all__ = ["Assessment", "CharacteristicResult", "Event", "Fitted", "LimitsOrigin", "Performance", "ShiftArl", "Signal"]
 
 
 @dataclass(frozen=True)
 class Signal:
-    """A rule's pattern completed at a plotted point (positions are 1-based)."""
+    """A plotted point that broke one or more rules: its position (from 1) on one statistic, the rules (in the
+    grammar's spelling, in the order of the rules in use) and the input's note for its subgroup."""
 
-    subgroup: int
+    point: int
     label: str
     statistic: str
-    rule: str
-    words: str
+    rules: tuple[str, ...]
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class Event:
+    """Consecutive signalled points taken together: what a technician looks into once.
+
+    points: the signalled positions (a point signalled on two statistics counts once); rules: "statistic: rule"
+    in the order met; note: the input's notes of those subgroups. The action-log fields are what the technician
+    wrote (cause, action, by, date, closed); `found_in` names the input the event was first found in.
+    """
+
+    first_point: int
+    last_point: int
     points: tuple[int, ...]
+    rules: tuple[str, ...]
+    note: str = ""
+    first_label: str = ""
+    last_label: str = ""
+    cause: str = ""
+    action: str = ""
+    by: str = ""
+    date: str = ""
+    closed: str = ""
+    found_in: str = ""  # the input file the event was first found in ("" for this evaluation's)
+
+    @property
+    def is_open(self) -> bool:
+        """Open until the technician writes something in "closed" other than no."""
+        return self.closed.strip().lower() in ("", "no", "n", "open")
+
+
+@dataclass(frozen=True)
+class LimitsOrigin:
+    """Where a characteristic's limits were set: the file, sheet and month, and the base subgroups (their positions
+    and how many). Carried limits keep the origin of the month that set them; `carried_from` names the output they
+    were last read from ("" when they were set in this evaluation)."""
+
+    file: str
+    sheet: str
+    month: str = ""  # YYYY-MM of the base subgroups' dates (or "FIRST to LAST" across months); "" without dates
+    period: str = ""  # the base subgroups' first and last label or date
+    base: str = ""  # their positions, e.g. "1-20, 22-25"
+    subgroups: int = 0
+    how: str = ""  # the limits' source in words where no base subgroups set them (standard values)
+    carried_from: str = ""
+
+    @property
+    def words(self) -> str:
+        """The origin in one line, e.g. "base subgroups 1-25 (25 subgroups, 2026-03) of bore-2026-03.xlsx, sheet
+        Bore"."""
+        when = ", ".join(x for x in (f"{self.subgroups} subgroups" if self.subgroups else "", self.month,
+                                      self.period) if x)
+        text = (f"base subgroups {self.base}" + (f" ({when})" if when else "")) if self.base else (
+            self.how or "an earlier evaluation")
+        text += f" of {self.file or 'an earlier workbook'}" + (f", sheet {self.sheet}" if self.sheet else "")
+        return text + (f"; carried from {self.carried_from}" if self.carried_from else "")
+
+
+def spans(mask: np.ndarray) -> str:
+    """Positions (from 1) of a mask as compact ranges, e.g. "1-21, 23-30"; "" for none."""
+    idx = (np.flatnonzero(mask) + 1).tolist()
+    parts: list[list[int]] = []
+    for i in idx:
+        if parts and i == parts[-1][1] + 1:
+            parts[-1][1] = i
+        else:
+            parts.append([i, i])
+    return ", ".join(f"{a}-{b}" if b > a else f"{a}" for a, b in parts)
+
+
+def months(dates: list[dt.datetime]) -> str:
+    """The month of the dates as YYYY-MM, or "FIRST to LAST" when they span months; "" without dates."""
+    if not dates:
+        return ""
+    first, last = f"{min(dates):%Y-%m}", f"{max(dates):%Y-%m}"
+    return first if first == last else f"{first} to {last}"
 
 
 @dataclass(frozen=True)
@@ -45,6 +124,32 @@ class Fitted:
     signals: list[Signal]
     capability: Capability | AttributeRate | None = None
     problems: tuple[Problem, ...] = ()
+    identity: str = ""  # part, characteristic and sheet: what carried limits and the action log are matched by
+    events: tuple[Event, ...] = ()  # this evaluation's events, with what the action log wrote of them
+    earlier_events: tuple[Event, ...] = ()  # events of earlier months read back from the action log
+    carried_origin: LimitsOrigin | None = None  # where carried limits were first set; None when set here
+
+    @property
+    def points_signalled(self) -> int:
+        """How many plotted positions signalled (on any statistic): what every count of signals counts."""
+        return len({s.point for s in self.signals})
+
+    @property
+    def events_open(self) -> int:
+        """Events not closed in the action log, this month's and earlier ones."""
+        return sum(e.is_open for e in (*self.events, *self.earlier_events))
+
+    def origin_in(self, file: str) -> LimitsOrigin:
+        """Where the limits were set, read from `file`: carried limits keep their first origin."""
+        if self.carried_origin is not None:
+            return self.carried_origin
+        base = np.asarray(self.fit.base, dtype=bool)
+        ch = self.characteristic
+        chosen = np.flatnonzero(base)
+        dates = [d for d in (ch.dates[i] for i in chosen) if isinstance(d, dt.datetime)]
+        period = f"{ch.labels[chosen[0]]} to {ch.labels[chosen[-1]]}" if chosen.size and not dates else ""
+        return LimitsOrigin(file=file, sheet=self.sheet, month=months(dates), period=period, base=spans(base),
+                            subgroups=int(chosen.size), how="" if chosen.size else self.fit.limits_source)
 
 
 @dataclass(frozen=True)
@@ -67,6 +172,7 @@ class CharacteristicResult:
     assessment: Assessment
     settings: dict[str, Setting] = field(default_factory=dict)
     file: str = ""
+    carried: str = ""  # how carried limits were matched ("identity", "file name"...); "none": asked, none found
 
     @property
     def characteristic(self) -> Characteristic:
@@ -92,6 +198,31 @@ class CharacteristicResult:
     def signals(self) -> list[Signal]:
         """The signals found."""
         return self.fitted.signals
+
+    @property
+    def identity(self) -> str:
+        """Part, characteristic and sheet, as matched across months."""
+        return self.fitted.identity
+
+    @property
+    def limits_origin(self) -> LimitsOrigin:
+        """Where the limits were set: carried limits keep their first origin; limits set here name this file."""
+        return self.fitted.origin_in(self.file)
+
+    @property
+    def events(self) -> tuple[Event, ...]:
+        """Runs of consecutive signalled points, with the action log's entries."""
+        return self.fitted.events
+
+    @property
+    def points_signalled(self) -> int:
+        """Plotted positions that signalled."""
+        return self.fitted.points_signalled
+
+    @property
+    def events_open(self) -> int:
+        """Events not closed, this month's and earlier ones."""
+        return self.fitted.events_open
 
     @property
     def capability(self) -> Capability | AttributeRate | None:

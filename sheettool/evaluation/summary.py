@@ -23,6 +23,7 @@ STATUS_WORDS = {
     "signals": "signals to review",
     "capability": "below capability target",
     "little": "too little data",
+    "uncarried": "no carried limits found",
     "failed": "not evaluated",
 }
 
@@ -75,7 +76,9 @@ class PackRow:
     characteristic: str
     chart: str = ""  # the chart's name in words, e.g. "individuals and moving range"
     points: int = 0
-    signals: int = 0
+    points_signalled: int = 0
+    events: int = 0
+    events_open: int = 0
     latest_signal: str = ""
     cpk: float | None = None
     cpk_low: float | None = None
@@ -87,6 +90,7 @@ class PackRow:
     flags: list[str] = field(default_factory=list)
     chance: SignalsAgainstChance | None = None  # the period's points signalled against false alarms alone
     center: float | None = None  # the location chart's center line (at its first point)
+    carried: str = ""  # how carried limits were matched (see CharacteristicResult.carried)
     tab: int | None = None  # position of the characteristic's evaluation tab in the pack
 
 
@@ -101,13 +105,16 @@ def period_points(result: CharacteristicResult, period: Period | None) -> np.nda
 def summary_row(source: str, result: CharacteristicResult, period: Period | None) -> PackRow:
     """The summary of one evaluated characteristic over the period."""
     inside = period_points(result, period)
-    signals = [s for s in result.signals if inside[s.subgroup - 1]]
-    row = PackRow(source=source, sheet=result.sheet, characteristic=result.characteristic.name,
-                  chart=CHART_KINDS[result.fit.chart].title, points=int(inside.sum()), signals=len(signals))
+    signals = [s for s in result.signals if inside[s.point - 1]]
+    events = [e for e in result.events if inside[np.asarray(e.points) - 1].any()]
+    row = PackRow(source=source, sheet=result.sheet, characteristic=result.identity or result.characteristic.name,
+                  chart=CHART_KINDS[result.fit.chart].title, points=int(inside.sum()),
+                  points_signalled=len({s.point for s in signals}), events=len(events),
+                  events_open=result.events_open, carried=result.carried)
     if signals:
-        last = max(signals, key=lambda s: s.subgroup)
-        row.latest_signal = f"point {last.subgroup} ({last.label})" if last.label != str(last.subgroup) \
-            else f"point {last.subgroup}"
+        last = max(signals, key=lambda s: s.point)
+        row.latest_signal = f"point {last.point} ({last.label})" if last.label != str(last.point) \
+            else f"point {last.point}"
     cap = result.capability
     if isinstance(cap, Capability) and cap.cpk is not None:
         row.cpk = cap.cpk
@@ -118,10 +125,14 @@ def summary_row(source: str, result: CharacteristicResult, period: Period | None
     row.arl_in_control = perf.arl_in_control if np.isfinite(perf.arl_in_control) else None
     row.false_alarms_per_month = perf.false_alarms_per_month
     row.center = float(result.fit.statistics[0].center[0]) if result.fit.statistics else None
-    row.chance = signals_against_chance(row.points, len({s.subgroup for s in signals}), perf.arl_in_control)
-    base = int(result.fit.base.sum())
-    reasons = []
-    if base < MIN_BASE_SUBGROUPS:
+    row.chance = signals_against_chance(row.points, row.points_signalled, perf.arl_in_control)
+    origin, reasons = result.limits_origin, []
+    if result.carried == "none":
+        row.flags.append("uncarried")
+        reasons.append("carried limits were asked for but none matched this characteristic: limits from its own "
+                       "base period")
+    base = origin.subgroups  # carried limits: the subgroups that first set them
+    if not origin.how and base < MIN_BASE_SUBGROUPS:
         row.flags.append("little")
         reasons.append(f"limits from {base} subgroups, fewer than {MIN_BASE_SUBGROUPS}")
     if signals:
@@ -137,14 +148,9 @@ def summary_row(source: str, result: CharacteristicResult, period: Period | None
     return row
 
 
-def points_signalled(result: CharacteristicResult) -> int:
-    """Distinct plotted points with at least one signal (a point breaking two rules counts once)."""
-    return len({s.subgroup for s in result.signals})
-
-
 def chance_of(result: CharacteristicResult) -> SignalsAgainstChance:
     """All the points' signals against the false alarms the scheme expects for that many points."""
-    return signals_against_chance(result.characteristic.data.subgroups, points_signalled(result),
+    return signals_against_chance(result.characteristic.data.subgroups, result.points_signalled,
                                   result.performance.arl_in_control)
 
 

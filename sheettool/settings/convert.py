@@ -20,7 +20,7 @@ from sheettool.settings.typed_text import number_text
 _NUMBERS = {"lsl", "usl", "target", "interval_hours", "hours_per_month", "mean", "sigma", "p0", "c0",
             "confidence", *PARAMETER_SETTINGS, *REQUIREMENT_KEYS}
 _IN_HOURS = {"interval_hours", "ats_hours"}  # a value may say "30 min"
-_TEXTS = {"unit", "part", "base_period"}
+_TEXTS = {"unit", "part", "characteristic", "base_period"}
 _WITH_UNIT = re.compile(r"^\s*([+-]?[\d.,]+(?:[eE][+-]?\d+)?)\s*([A-Za-zµμ°%/]{0,8})\s*$")
 _MINUTES = {"min", "mins", "minute", "minutes", "m"}
 _HOURS = {"", "h", "hr", "hrs", "hour", "hours"}

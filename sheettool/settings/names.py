@@ -45,6 +45,8 @@ KNOWN_SETTINGS: dict[str, str] = {
                   "(yes/no; sheettool watch)",
 }
 KNOWN_SETTINGS["part"] = "part number or name, as written above the header"
+KNOWN_SETTINGS["characteristic"] = ("the characteristic measured (with the part and sheet, what identifies it "
+                                    "month to month)")
 # What the monitoring scheme must achieve (the keys of sheettool.core.design.REQUIREMENT_KEYS).
 KNOWN_SETTINGS.update({
     "arl_in_control": "required in-control ARL (points between false alarms, at least)",

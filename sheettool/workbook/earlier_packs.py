@@ -21,8 +21,9 @@ from sheettool.evaluation.summary import pack_key
 from sheettool.workbook.limits_block import read_limits_block
 
 SUMMARY_SHEET = "Review summary"
-HEADS = {"source": "Source file", "sheet": "Sheet", "points": "Points in period", "signals": "Signals",
+HEADS = {"source": "Source file", "sheet": "Sheet", "points": "Points in period", "signals": "Points signalled",
          "cpk": "Cpk", "expected": "False alarms expected"}
+EARLIER_HEADS = {"Signals": "Points signalled"}  # packs written before signals were counted as points
 
 
 @dataclass(frozen=True)
@@ -61,7 +62,7 @@ def read_earlier_pack(path: Path) -> dict[str, TrendPoint]:
         found: dict[str, TrendPoint] = {}
         for row in rows:
             if not columns:
-                heads = [str(v) if v is not None else "" for v in row]
+                heads = [EARLIER_HEADS.get(str(v), str(v)) if v is not None else "" for v in row]
                 if HEADS["source"] in heads and HEADS["sheet"] in heads:
                     columns = {k: heads.index(h) for k, h in HEADS.items() if h in heads}
                 continue

@@ -130,8 +130,9 @@ def _nesting(text: str) -> int:
     return deepest
 
 
-def read_limits_block(path: Path) -> dict[str, dict[str, Any]]:
-    """Entries by sheet name from an evaluated workbook's limits block; InputError naming the file."""
+def earlier_sheet(path: Path, sheet: str, width: int, most: int) -> list[tuple[Any, ...]] | None:
+    """The first `most` rows (`width` cells each) of a sheet of an earlier sheettool output, None when it has no
+    such sheet; InputError naming the file when it is missing or cannot be read."""
     path = Path(path)
     if not path.is_file():
         raise InputError(f"{path}: file not found; --limits-from needs an earlier sheettool output")
@@ -140,18 +141,23 @@ def read_limits_block(path: Path) -> dict[str, dict[str, Any]]:
     except (zipfile.BadZipFile, InvalidFileException, KeyError, OSError, ValueError) as exc:
         raise InputError(f"{path}: not a readable .xlsx workbook ({type(exc).__name__})") from None
     try:
-        if LIMITS_SHEET not in book.sheetnames:
-            raise InputError(f"{path}: no sheettool limits block (sheet '{LIMITS_SHEET}'); give a workbook "
-                             "that sheettool wrote, or leave out --limits-from")
-        sheet = book[LIMITS_SHEET].iter_rows(max_col=4, values_only=True)
-        rows = [tuple(r) for r in itertools.islice(sheet, MAX_ENTRIES + 3)]  # a row past the limit is refused
-    except InputError:
-        raise
+        if sheet not in book.sheetnames:
+            return None
+        return [tuple(r) for r in itertools.islice(book[sheet].iter_rows(max_col=width, values_only=True), most)]
     except Exception as exc:  # a damaged sheet part fails in many ways inside openpyxl
-        raise InputError(f"{path}: sheet '{LIMITS_SHEET}' cannot be read ({type(exc).__name__}); give the "
+        raise InputError(f"{path}: sheet '{sheet}' cannot be read ({type(exc).__name__}); give the "
                          "workbook as sheettool wrote it") from None
     finally:
         book.close()
+
+
+def read_limits_block(path: Path) -> dict[str, dict[str, Any]]:
+    """Entries by sheet name from an evaluated workbook's limits block; InputError naming the file."""
+    path = Path(path)
+    rows = earlier_sheet(path, LIMITS_SHEET, 4, MAX_ENTRIES + 3)  # a row past the limit is refused
+    if rows is None:
+        raise InputError(f"{path}: no sheettool limits block (sheet '{LIMITS_SHEET}'); give a workbook "
+                         "that sheettool wrote, or leave out --limits-from")
     try:
         entries = parse_limits_rows(rows)
     except BlockError as exc:

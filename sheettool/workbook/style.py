@@ -169,6 +169,9 @@ def formats(book: Workbook, decimals: int = 4) -> Formats:
         "lead": book.add_format({"bold": True, "font_color": SLATE, "text_wrap": True, "valign": "top"}),
         "link": book.add_format({"font_color": LINK, "underline": 1}),
         "link_wrap": book.add_format({"font_color": LINK, "underline": 1, "text_wrap": True, "valign": "top"}),
+        "entry": book.add_format({"text_wrap": True, "valign": "top", "border": 1, "border_color": HAIRLINE,
+                                  "bg_color": "#FFFFFF", "locked": False}),  # a cell the technician fills in,
+        # left open when --protect locks the sheets
     }
     for d in range(0, 11):
         fmt[f"dec{d}"] = book.add_format({"num_format": number_format(d), "valign": "top"})

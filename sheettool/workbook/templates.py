@@ -88,7 +88,7 @@ def write_template(spec: TemplateSpec, path: Path) -> None:
         "1. Fill the labelled cells on the left; leave empty what does not apply.",
         *[f"{i}. {text}" for i, text in enumerate(spec.instructions, start=2)],
         f"{len(spec.instructions) + 2}. To keep a row out of the limits, write 'exclude' in its note.",
-        f"{len(spec.instructions) + 3}. The first row is a worked example: overwrite it or leave it (it is excluded).",
+        f"{len(spec.instructions) + 3}. The first row is a worked example: overwrite it or leave it (never evaluated).",
         f"Rules: {', '.join(PRESETS)} (sheettool evaluate --help says what each holds) or rules like 1/1>3,2/3>2.",
         "Base period, the rows that set the limits: all, first N (e.g. first 25) or dates 2026-11-01..2026-11-15.",
         f"Evaluate with:  {TOOL_NAME} evaluate THIS-FILE.xlsx",

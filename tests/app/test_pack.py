@@ -73,11 +73,11 @@ def test_pack_rows_errors_and_exit_code(run_cli, folder, tmp_path):
     # The summary's numbers equal the per-characteristic JSON.
     for char in data["characteristics"]:
         row = next(r for r in rows if (r[0], r[1]) == (char["source"], char["sheet"]))
-        assert row[5] == len(char["signals"])
-        assert row[10] == pytest.approx(char["performance"]["arl_in_control"], rel=1e-12)
+        assert row[5] == char["points_signalled"] == len({s["point"] for s in char["signals"]})
+        assert row[11] == pytest.approx(char["performance"]["arl_in_control"], rel=1e-12)
         cpk = (char["capability"] or {}).get("cpk")  # an attribute chart has a rate, no Cpk
-        assert row[7] == (pytest.approx(cpk, rel=1e-12) if cpk is not None else None)
-        assert row[12] == char["summary"]["status"]
+        assert row[8] == (pytest.approx(cpk, rel=1e-12) if cpk is not None else None)
+        assert row[13] == char["summary"]["status"]
     # The chart in words on the summary, its code in the JSON.
     words = {r[1]: r[3] for r in rows if r[1]}
     assert words["Crimp force"] == "individuals and moving range" and words["Bore diameter"] == "X-bar and R"
@@ -170,7 +170,7 @@ def test_trends_across_earlier_packs(run_cli, tmp_path):
     # each pack's own figures: points in its period (10 in October, 30 in November), its signals and Cpk
     char = done.json["characteristics"][0]
     assert (earlier[3], now[3]) == (10, char["summary"]["points_in_period"])
-    assert now[4] == char["summary"]["signals_in_period"]
+    assert now[4] == char["summary"]["points_signalled"]
     assert now[1] == pytest.approx(char["limits"]["mean"]["center"], rel=1e-12) == earlier[1]
     assert now[5] == pytest.approx(30 / char["performance"]["arl_in_control"], rel=1e-9)  # points / ARL0
     # a file that is not a pack is refused in one line naming it

@@ -93,7 +93,7 @@ def test_an_unreadable_sheet_in_a_good_workbook_is_a_row(run_cli, tmp_path):
     assert [c["sheet"] for c in result.json["characteristics"]] == ["Bore"]
     (failed,) = result.json["failed"]
     assert (failed["source"], failed["sheet"]) == ("mixed.xlsx", "Remarks") and "no numeric data" in failed["message"]
-    assert [(r[0], r[1], r[12]) for r in _summary_rows(out)][-1] == ("mixed.xlsx", "Remarks", "not evaluated")
+    assert [(r[0], r[1], r[13]) for r in _summary_rows(out)][-1] == ("mixed.xlsx", "Remarks", "not evaluated")
     # evaluate keeps its own rule: a bad sheet among good ones is a problem, not an exit
     assert run_cli("evaluate", folder / "mixed.xlsx", "-o", tmp_path / "e.xlsx").code == 0
 

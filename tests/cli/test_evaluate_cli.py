@@ -24,11 +24,11 @@ def test_demo_end_to_end(run_cli, demo_copy, tmp_path):
     assert list(chars) == ["Bore diameter", "Leak test", "Crimp force"]
     char = chars["Bore diameter"]
     assert char["chart"] == "xbar-r" and char["subgroup_size"] == 5 and char["subgroups"] == 30
-    assert any(s["statistic"] == "mean" and s["subgroup"] >= 22 for s in char["signals"])
+    assert any(s["statistic"] == "mean" and s["point"] >= 22 for s in char["signals"])
     # signals against chance: the distinct points signalled beside points / in-control ARL false alarms expected;
     # reference for the tail: scipy.stats.poisson
     chance = char["signals_against_chance"]
-    assert chance["points_signalled"] == len({s["subgroup"] for s in char["signals"]}) and chance["points"] == 30
+    assert chance["points_signalled"] == len({s["point"] for s in char["signals"]}) and chance["points"] == 30
     assert chance["false_alarms_expected"] == pytest.approx(30 / char["performance"]["arl_in_control"], rel=1e-12)
     assert chance["chance_from_false_alarms"] == pytest.approx(
         stats.poisson.sf(chance["points_signalled"] - 1, chance["false_alarms_expected"]), rel=1e-9)
@@ -57,13 +57,13 @@ def test_demo_leak_test_and_crimp_force_sheets(run_cli, demo_copy, tmp_path):
     # the leak rate rises from 1.5% to 5% at shift 28 and the chart signals after it (with this seed only after it).
     leak = chars["Leak test"]
     assert leak["chart"] == "p" and leak["base_period_points"] == list(range(1, scenario.LEAK_BASE + 1))
-    assert leak["signals"] and all(s["subgroup"] >= scenario.LEAK_RISE_AT for s in leak["signals"])
+    assert leak["signals"] and all(s["point"] >= scenario.LEAK_RISE_AT for s in leak["signals"])
     # p-bar of about 24 x 200 units at 1.5%: standard error about 0.0018, so within 0.006 (3 standard errors)
     assert leak["limits"]["proportion"]["center"] == pytest.approx(scenario.LEAK_RATE, abs=0.006)
     # Crimp force: one reading per lot -> individuals and moving range; the force drops at the die regrind
     crimp = chars["Crimp force"]
     assert crimp["chart"] == "individuals" and crimp["subgroup_size"] == 1 and crimp["subgroups"] == scenario.CRIMP_LOTS
-    assert any(s["statistic"] == "individual" and s["subgroup"] >= scenario.CRIMP_DROP_AT for s in crimp["signals"])
+    assert any(s["statistic"] == "individual" and s["point"] >= scenario.CRIMP_DROP_AT for s in crimp["signals"])
     assert crimp["capability"]["lsl"] == scenario.CRIMP_LSL and crimp["capability"]["usl"] == scenario.CRIMP_USL
     # the bore's requirements come from its labelled cells
     req = chars["Bore diameter"]["requirements"]

@@ -116,7 +116,7 @@ def test_the_schema_rejects_what_the_contract_does_not_hold(demo_json):
     missing = copy.deepcopy(demo_json)
     del missing["problems"][0]["severity"]
     wrong = copy.deepcopy(demo_json)
-    wrong["characteristics"][0]["signals"][0]["subgroup"] = "5"
+    wrong["characteristics"][0]["signals"][0]["point"] = "5"
     unknown_setting = copy.deepcopy(demo_json)
     unknown_setting["characteristics"][0]["settings"]["colour"] = {"value": "red", "origin": "default"}
     for doc in (stray, missing, wrong, unknown_setting):

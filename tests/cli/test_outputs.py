@@ -122,7 +122,7 @@ def test_last_months_pack_in_the_folder_is_skipped(run_cli, tmp_path):
     plain = run_cli("pack", folder, "-o", tmp_path / "again.xlsx")
     assert f"skipped: {folder / 'october-pack.xlsx'}: an output of sheettool" in plain.err
     summary = list(openpyxl.load_workbook(tmp_path / "again.xlsx")["Review summary"].iter_rows(values_only=True))
-    assert ("october-pack.xlsx", "skipped") in [(r[0], r[12]) for r in summary]
+    assert ("october-pack.xlsx", "skipped") in [(r[0], r[13]) for r in summary]
     # writing the new pack over the earlier one in the same folder is a re-run, not an input overwritten
     assert run_cli("pack", folder, "-o", folder / "october-pack.xlsx").code == 0
 

@@ -42,8 +42,8 @@ def test_ewma_of_individuals_signals_on_a_shift():
     result = _run(values, chart="ewma", standard={"mean": 0.0, "sigma": 1.0})
     (stat,) = result.fit.statistics
     beyond = np.flatnonzero(stat.values > stat.ucl) + 1
-    assert beyond.size and {s.subgroup for s in result.signals} == set(beyond.tolist())
-    assert all(s.subgroup > 10 for s in result.signals)
+    assert beyond.size and {s.point for s in result.signals} == set(beyond.tolist())
+    assert all(s.point > 10 for s in result.signals)
 
 
 def test_cusum_hand_worked_sequence():
@@ -58,7 +58,7 @@ def test_cusum_hand_worked_sequence():
     assert up.values == pytest.approx(upper, abs=1e-12)
     assert low.values == pytest.approx(lower, abs=1e-12)
     assert up.ucl[0] == low.ucl[0] == 5.0
-    assert [(s.subgroup, s.statistic) for s in result.signals] == [(9, "cusum_lower")]
+    assert [(s.point, s.statistic) for s in result.signals] == [(9, "cusum_lower")]
     assert result.fit.parameters == {"k": 0.5, "h": 5.0, "reference": 10.0, "n": 1.0}
 
 

@@ -40,7 +40,7 @@ def test_first_n_sets_the_limits_and_later_points_use_them():
     assert mean.ucl == pytest.approx(np.full(30, alone.fit.statistics[0].ucl[0]), rel=1e-12)
     assert result.fit.base.tolist() == [True] * 25 + [False] * 5
     assert result.fit.limits_source == "base period: the first 25 subgroups (points 1-25)"
-    assert {s.subgroup for s in result.signals} >= set(range(26, 31))
+    assert {s.point for s in result.signals} >= set(range(26, 31))
 
 
 def test_date_range_and_excluded_subgroups():
@@ -166,14 +166,16 @@ def test_cli_limits_from_an_earlier_output(run_cli, tmp_path):
     char = next(c for c in out.json["characteristics"] if c["sheet"] == "Bore diameter")
     assert char["limits_source"].startswith("carried from nov-evaluated.xlsx")
     assert char["base_period_points"] == []
-    # a sheet the block does not know: its own base period and a problem saying so
+    assert char["carried"] == {"matched_by": "identity"}
+    # a sheet the block does not know: its own base period, a problem saying so and exit 6 (written, not carried)
     book = openpyxl.load_workbook(december)
     book.active.title = "Outer diameter"
     book.save(december)
     out = run_cli("evaluate", december, "-o", tmp_path / "dec2.xlsx", "--limits-from", evaluated, "--json")
-    assert out.code == 0
-    assert out.json["characteristics"][0]["limits_source"].startswith("base period")
-    assert any("no carried limits for this sheet" in p["message"] for p in out.json["problems"])
+    assert out.code == 6
+    outer = next(c for c in out.json["characteristics"] if c["sheet"] == "Outer diameter")
+    assert outer["limits_source"].startswith("base period") and outer["carried"] == {"matched_by": None}
+    assert any("no carried limits for identity" in p["message"] for p in out.json["problems"])
 
 
 def test_limits_file_without_block_or_unknown_version(run_cli, tmp_path):

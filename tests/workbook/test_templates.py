@@ -75,6 +75,7 @@ def test_filled_template_evaluates(run_cli, tmp_path, name, kind, chart):
     assert result.code == 0, result.err
     (char,) = result.json["characteristics"]
     assert char["chart"] == chart
-    assert char["subgroups"] == 26  # the worked row is plotted ...
-    assert char["read"]["excluded"][0]["note"] == "worked example - exclude"  # ... but kept out of the limits
+    assert char["subgroups"] == 25  # the worked row is never evaluated nor plotted ...
+    assert char["read"]["first_row"] > char["read"]["header_row"] + 1 and not char["read"]["excluded"]
     assert len(char["base_period_points"]) == 25
+    assert any("worked example was left out" in p["message"] for p in result.json["problems"])  # ... and said

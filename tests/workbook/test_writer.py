@@ -37,8 +37,8 @@ def _xml(path: Path, pattern: str) -> dict[str, str]:
 def test_tabs_in_order_and_hidden_helpers(built):
     book = openpyxl.load_workbook(built)
     assert book.sheetnames == ["Sleeve length summary", "Sleeve length chart", "Seal leaks summary", "Seal leaks chart",
-                               "Scheme performance", "Sleeve length data", "Seal leaks data", "Method and audit",
-                               "limits-block", "chart-lines"]
+                               "Action log", "Scheme performance", "Sleeve length data", "Seal leaks data",
+                               "Method and audit", "limits-block", "chart-lines"]
     assert book["limits-block"].sheet_state == "hidden" and book["chart-lines"].sheet_state == "hidden"
     assert all(book[n].sheet_state == "visible" for n in book.sheetnames[:8])
 

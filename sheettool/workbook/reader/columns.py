@@ -26,9 +26,10 @@ _KEY = re.compile(r"(\b(subgroup|sample|lot|batch|point|shift|serial|id|no|nr|nu
                   re.IGNORECASE)
 _OPERATOR = re.compile(r"\b(operator|inspector|setter|checked by|by|initials|name)\b", re.IGNORECASE)
 _TIME = re.compile(r"\b(time|hour|clock)\b", re.IGNORECASE)
-UNIT_WORD = re.compile(r"^[(\[]?\s*(mm|µm|μm|um|cm|m|in|inch|inches|thou|mil|g|kg|mg|n|kn|nm|n·m|°c|°f|c|f|%|"
-                       r"bar|mbar|psi|pa|kpa|mpa|s|ms|min|h|v|mv|a|ma|ohm|ω|ra|rz|deg|°|mm/s|l|ml|units?)\s*[)\]]?$",
-                       re.IGNORECASE)
+UNIT_WORD = re.compile(r"^[(\[]?\s*(mm|µm|μm|um|cm|m|in|inch|inches|thou|mil|ft|g|kg|mg|lb|oz|n|kn|nm|n·m|n\.m|kgf|lbf|"
+                       r"°c|°f|c|f|k|%|%rh|ppm|ppb|bar|mbar|psi|pa|kpa|mpa|hpa|s|ms|µs|min|h|hz|khz|rpm|v|mv|kv|a|ma|"
+                       r"w|kw|j|ohm|ω|kω|ra|rz|deg|°|mm/s|m/s|l|ml|l/min|ml/min|mg/l|g/l|cp|mpa·s|db|ph|lux|hrc|hv|hb|"
+                       r"shore a|shore d|nmm|g/m²|gsm|units?)\s*[)\]]?$", re.IGNORECASE)
 _UNIT_IN_HEADER = re.compile(r"[(\[]\s*([^()\[\]]{1,8}?)\s*[)\]]\s*$")
 
 
@@ -117,12 +118,24 @@ def column_role(name: str, counts: np.ndarray, values: list[object]) -> str:
             return "key"
         if _KEY.search(name) and whole and not re.search(r"\d\s*$", name):
             return "key"
+        if counts_up(values):  # 1, 2, 3, ... numbering samples, parts or lots, whatever the header says
+            return "key"
         return "measurement"
     if _OPERATOR.search(name):
         return "operator"
     if _KEY.search(name):
         return "key"
     return "text"
+
+
+COUNTER_LENGTH = 5  # consecutive whole numbers, one apart, that make a column a counter rather than readings
+
+
+def counts_up(values: list[object]) -> bool:
+    """True for a column whose numbers are consecutive whole numbers one apart (1, 2, 3, ... or 1001, 1002, ...):
+    it numbers the samples, parts, bottles or lots; a reading never climbs by exactly one, row after row."""
+    numbers = np.array([x for x in (number_of(v) for v in values) if x is not None], dtype=float)
+    return bool(numbers.size >= COUNTER_LENGTH and np.all(np.diff(numbers) == 1) and float(numbers[0]).is_integer())
 
 
 def unit_of(names: list[str], rows: list[list[object]], units_row: int | None, columns: list[int]) -> str:

@@ -27,6 +27,13 @@ LATEST_AHEAD = dt.timedelta(days=365)  # nor more than this after the time of th
 ROWS_NAMED = 50  # rows named in one problem, the rest counted
 EXCLUDE_WORDS = re.compile(r"\b(exclude[ds]?|excluding|ignore[ds]?|omit(?:s|ted)?|discard(?:s|ed)?|"
                            r"do not use|don'?t use)\b", re.IGNORECASE)
+# Notes that read like a reason to keep a subgroup out of the limits (a special cause, a measuring fault) but lack an
+# exclusion word: the subgroup stays in, with a hint.
+REASON_WORDS = re.compile(r"\b(gauge|gage|dropped|broken|damaged|faulty|wrong|mistake|error|mix-?up|mixed up|"
+                          r"recalibrat\w*|out of calibration|quarantin\w*|scrap(?:ped)?|set-?up|trial|test piece|"
+                          r"power (?:cut|failure)|outage|crash(?:ed)?|contaminat\w*|spill(?:ed)?|re-?measured?)\b",
+                          re.IGNORECASE)
+WORKED_EXAMPLE = re.compile(r"^\s*worked example\b", re.IGNORECASE)  # the templates' first row, never data
 
 
 @dataclass
@@ -36,6 +43,15 @@ class Exclusions:
     excluded: np.ndarray  # bool, one per subgroup
     notes: list[str]  # the subgroups' notes, with the reason where the size keeps one out
     short: int  # subgroups with fewer readings than the largest
+    reasons: list[int]  # subgroups (0-based) kept in whose note reads like a reason to keep them out
+
+
+def example_rows(rows: list[list[object]], note: int | None, data: list[int]) -> list[int]:
+    """The data rows (0-based) whose note marks a template's worked example: never evaluated, never plotted."""
+    if note is None:
+        return []
+    return [r for r in data if note < len(rows[r]) and isinstance(rows[r][note], str)
+            and WORKED_EXAMPLE.match(rows[r][note])]
 
 
 @dataclass
@@ -61,7 +77,8 @@ def exclusions(shape: Subgroups) -> Exclusions:
         for i in np.flatnonzero(few & ~excluded):
             notes[i] = "; ".join(x for x in (notes[i], f"only {sizes[i]} reading: kept out of the limits") if x)
         excluded |= few
-    return Exclusions(excluded=excluded, notes=notes, short=short)
+    reasons = [i for i, n in enumerate(shape.notes) if not excluded[i] and REASON_WORDS.search(n)]
+    return Exclusions(excluded=excluded, notes=notes, short=short, reasons=reasons)
 
 
 def account(raw: RawSheet, frame: Frame, columns: Columns, cells: ValueCells) -> Account:
@@ -143,6 +160,11 @@ def _subgroup_problems(shape: Subgroups, out: Exclusions) -> list[tuple[str, str
         shown = ", ".join(shape.labels[i] for i in np.flatnonzero(out.excluded)[:10])
         found.append(("note", f"{int(out.excluded.sum())} subgroup(s) kept out of the limits by their note or size "
                       f"(still plotted): {shown}"))
+    if out.reasons:
+        shown = "; ".join(f"{shape.labels[i]}: '{shape.notes[i]}'" for i in out.reasons[:10])
+        found.append(("warning", f"{len(out.reasons)} subgroup(s) have a note that reads like a reason to keep them "
+                      f"out of the limits, but they stay in ({shown}); write 'exclude' in such a note to keep the "
+                      "subgroup out of the limits (it is still plotted)"))
     if shape.data.subgroups < 20:
         found.append(("note", f"only {shape.data.subgroups} subgroups: 20 or more are usual before limits are "
                       "trusted"))

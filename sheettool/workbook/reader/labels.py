@@ -17,6 +17,8 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass, field
 
+from openpyxl.utils import get_column_letter
+
 from sheettool.base.problems import Problem
 from sheettool.settings import Setting, earlier_label_note, label_key, setting_name
 from sheettool.settings.convert import convert
@@ -124,3 +126,27 @@ def read_settings_sheet(rows: list[list[object]], title: str) -> tuple[SettingsS
             if note := earlier_label_note(text):
                 problems.append(Problem("note", note, sheet=title, cell=f"row {r}"))
     return sheet, problems
+
+
+def unknown_labels(title: str, rows: list[list[object]], above: int) -> list[Problem]:
+    """Labels above the header that name no setting (a short text cell with a value to its right, neither of them a
+    known label nor the value of one): said, so that a value typed beside them is not silently ignored."""
+    found: list[Problem] = []
+    for r in range(min(above, len(rows))):
+        row = rows[r]
+        values = set()  # columns holding the value of a label on the left
+        for c, value in enumerate(row):
+            if c in values or not isinstance(value, str) or not value.strip() or len(value) > 40 \
+                    or _INLINE.match(value):
+                continue
+            right = row[c + 1] if c + 1 < len(row) else None
+            if setting_name(value) is not None:
+                values.add(c + 1)
+                continue
+            if _blank(right) or (isinstance(right, str) and setting_name(right) is not None):
+                continue
+            values.add(c + 1)
+            found.append(Problem("note", f"the label '{value.strip()}' names no setting sheettool knows, so its "
+                                 f"value '{right}' was not used (the settings are listed in the reading guide)",
+                                 sheet=title, cell=f"{get_column_letter(c + 1)}{r + 1}"))
+    return found

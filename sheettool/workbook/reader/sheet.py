@@ -4,7 +4,7 @@ the subgroups in the sheet's layout, and the findings; each step is a module of 
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from sheettool.base.errors import InputError
 from sheettool.base.problems import Problem
@@ -13,9 +13,9 @@ from sheettool.settings import Setting
 from sheettool.settings.convert import merge
 from sheettool.workbook.reader.cell_grid import CellGrid, cell_grid, fill_merged, value_cells
 from sheettool.workbook.reader.columns import Columns, columns_meaning, sheet_columns, unit_of
-from sheettool.workbook.reader.findings import account, exclusions, problems
+from sheettool.workbook.reader.findings import account, example_rows, exclusions, problems
 from sheettool.workbook.reader.header import Frame, find_header, frame_of
-from sheettool.workbook.reader.labels import labelled_settings
+from sheettool.workbook.reader.labels import labelled_settings, unknown_labels
 from sheettool.workbook.reader.layouts import subgroups
 from sheettool.workbook.reader.model import SheetRead
 from sheettool.workbook.reader.raw_sheet import RawSheet
@@ -63,6 +63,12 @@ def _reader_settings(*layers: dict[str, Setting]) -> dict[str, Setting]:
 def _sheet_read(parts: SheetParts) -> SheetRead:
     """The subgroups, their exclusions and the findings, put together as a SheetRead."""
     title, frame, columns = parts.raw.title, parts.frame, parts.columns
+    examples = example_rows(parts.grid.rows, columns.first("note"), frame.data)
+    if examples:
+        frame = replace(frame, data=[r for r in frame.data if r not in examples])
+        if not frame.data:
+            raise InputError(f"only the template's worked example (row {examples[0] + 1}) holds data; type the "
+                             "readings in the rows below it")
     cells = value_cells(parts.grid, title, frame.data, columns.values)
     shape = subgroups(parts.grid, columns, cells, parts.resolved.get("subgroup_size"))
     out = exclusions(shape)
@@ -78,7 +84,9 @@ def _sheet_read(parts: SheetParts) -> SheetRead:
         readings=shape.readings, blanks=cells.blanks, blank_rows=frame.blank_rows, not_numbers=seen.not_numbers,
         hidden_rows=seen.hidden_rows, hidden_columns=seen.hidden_columns, short_subgroups=out.short,
         units_row=_one_based(frame.units_row), formulas_without_value=seen.formulas_without_value,
-        problems=[*parts.renamed, *problems(title, seen, shape, out)],
+        problems=[*parts.renamed, *problems(title, seen, shape, out)] + [
+            Problem("note", "the template's worked example was left out: it is not data", sheet=title,
+                    cell=f"row {r + 1}") for r in examples] + unknown_labels(title, parts.grid.rows, frame.header or 0),
     )
 
 

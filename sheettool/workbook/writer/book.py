@@ -1,8 +1,8 @@
 """Assemble the evaluated workbook: tab order and names, document properties, atomic write.
 
-Tabs, in order: per characteristic its one-page summary and its evaluation tab, the scheme-performance
-tab, the data tabs of each characteristic, the method and audit tab, then the hidden limits block and
-chart-lines tabs.
+Tabs, in order: per characteristic its one-page summary and its evaluation tab, the action log, the
+scheme-performance tab, the data tabs of each characteristic, the method and audit tab, then the hidden limits
+block and chart-lines tabs.
 """
 
 from __future__ import annotations
@@ -27,8 +27,10 @@ from sheettool.base.errors import OutputError
 from sheettool.base.problems import Problem
 from sheettool.evaluation.carried import limits_entry
 from sheettool.evaluation.results import CharacteristicResult
+from sheettool.workbook.action_log import ACTION_LOG_TAB
 from sheettool.workbook.limits_block import LIMITS_SHEET, limits_rows
 from sheettool.workbook.report import EvaluationReport, SheetEvaluation
+from sheettool.workbook.writer.action_log_tab import write_action_log_tab
 from sheettool.workbook.writer.book_writer import NOTES_TAB, PERFORMANCE_TAB, BookWriter
 from sheettool.workbook.writer.cells import PageHeading
 from sheettool.workbook.writer.data_tab import data_tab_count, plan_data_tab, write_data_tab
@@ -203,10 +205,12 @@ def write_evaluated_workbook(report: EvaluationReport, path: Path, options: Writ
 
 
 def write_workbook(reports: list[EvaluationReport], path: Path, options: WriterOptions | None = None,
-                   summary: Summary | None = None, block_keys: list[str] | None = None) -> None:
+                   summary: Summary | None = None, block_keys: list[str] | None = None,
+                   kept_log: list[dict[str, str]] | None = None) -> None:
     """Write the evaluated workbook of one or more inputs (a pack) atomically, never over an input.
 
-    block_keys names each characteristic in the limits block (default: its sheet name).
+    block_keys names each characteristic in the limits block (default: its sheet name); kept_log holds the earlier
+    action log's entries of characteristics not evaluated this time, written on unchanged.
     """
     options = options or WriterOptions()
     path = Path(path)
@@ -219,13 +223,14 @@ def write_workbook(reports: list[EvaluationReport], path: Path, options: WriterO
     stamp = stamp_for(options.timestamp)
 
     def build(tmp: str) -> None:
-        fixed = (NOTES_TAB, LIMITS_SHEET, PERFORMANCE_TAB, LINES_SHEET) + ((summary.name,) if summary else ())
+        fixed = (NOTES_TAB, LIMITS_SHEET, PERFORMANCE_TAB, LINES_SHEET, ACTION_LOG_TAB) + (
+            (summary.name,) if summary else ())
         out = BookWriter(tmp, live=options.formulas, reserved=fixed, file=path.name)
         out.locked = options.protect is not None
         with out.catching():
             _properties(out, reports, stamp)
             out.book.set_calc_mode("auto")
-            _tabs(out, reports, stamp, summary, block_keys or [])
+            _tabs(out, reports, stamp, summary, block_keys or [], kept_log or [])
             if options.protect is not None:
                 out.protect(options.protect)
             out.close()
@@ -248,9 +253,9 @@ def _properties(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp) 
 
 
 def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summary: Summary | None,
-          block_keys: list[str]) -> None:
+          block_keys: list[str], kept_log: list[dict[str, str]]) -> None:
     """Add the tabs in their order, then write each: per characteristic its one-page summary and evaluation tab,
-    then scheme performance, the data tabs, the audit and the hidden tabs."""
+    then the action log, scheme performance, the data tabs, the audit and the hidden tabs."""
     sheets = [sheet for report in reports for sheet in report.sheets]
     owners = [report for report in reports for _ in report.sheets]
     tells = _told_apart(sheets, owners)
@@ -265,6 +270,7 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
     for page, chart, _ in names:
         page_tabs.append(out.add_tab(page))
         eval_tabs.append(out.add_tab(chart))
+    log_tab = out.add_tab(ACTION_LOG_TAB)
     performance_tab = out.add_tab(PERFORMANCE_TAB)
     data_tabs = [[out.add_tab(data) for data in datas] for _, _, datas in names]
     notes_tab = out.add_tab(NOTES_TAB)
@@ -295,6 +301,7 @@ def _tabs(out: BookWriter, reports: list[EvaluationReport], stamp: Stamp, summar
         sections = [Section(chart.removesuffix(" chart"), page_facts(sheet, report).source, (page, chart, datas[0]))
                     for (page, chart, datas), sheet, report in zip(names, sheets, owners, strict=True)]
         summary.write(out, summary_tab, sections, replace(whole, what="review summary"))
+    write_action_log_tab(log_tab, results, replace(whole, what="action log"), kept_log)
     write_performance_tab(out, performance_tab, results, tab_names, replace(whole, what="scheme performance"))
     _hand_back(reports[0].problems, out.found())
     write_notes_tab(out, notes_tab, reports, stamp, as_values, tab_names, replace(whole, what="method and audit"))

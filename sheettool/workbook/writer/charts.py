@@ -204,7 +204,7 @@ def control_chart(out: BookWriter, layout: DataLayout, sc: StatColumns, zones: b
         add("kept out of the limits", lines.ref(lines.add(f"{stat.label}: kept out",
                                                           _cells(np.where(kept_out, stat.values, np.nan)))),
             "excluded")
-    hits = sorted({s.subgroup - 1 - win.first for s in signals if s.subgroup > win.first})
+    hits = sorted({s.point - 1 - win.first for s in signals if s.point > win.first})
     if hits:  # drawn last: on top of every other series
         marked = np.full(m, np.nan)
         marked[hits] = stat.values[hits]

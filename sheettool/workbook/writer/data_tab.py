@@ -200,7 +200,7 @@ def write_data_tab(out: BookWriter, tabs: list[Tab], layout: DataLayout, sheet: 
             "sheettool." + (" Statistics and limits are live formulas." if live else ""))
     for k, (tab, (_, first, end)) in enumerate(zip(tabs, layout.parts, strict=True)):
         told = note + _continued(layout, k)
-        _head(tab, layout, f"Data of {ch.name}" + (f" ({k + 1} of {len(tabs)})" if layout.split else ""), told)
+        _head(tab, layout, f"Data of {result.identity}" + (f" ({k + 1} of {len(tabs)})" if layout.split else ""), told)
         _rows(tab, layout, sheet, jobs, fmts, first, end)
         _table(tab, layout, read, f"{table}_{k + 1}" if k else table, end - first, heading)
     _said(out, layout, ch.dates)
@@ -288,7 +288,7 @@ def _rows(tab: Tab, layout: DataLayout, sheet: SheetEvaluation,
             ws.write_string(r, flags_col, flags[i], fmt["copied_text"])
     for name, sc in layout.stats.items():
         values = sc.stat.values
-        for i in sorted({s.subgroup - 1 for s in result.signals if s.statistic == name}):
+        for i in sorted({s.point - 1 for s in result.signals if s.statistic == name}):
             if first <= i < end:
                 cells.number(ws, i + shift, sc.signal, float(values[i]), fmts[1])
 
@@ -327,7 +327,7 @@ def _signal_flags(result: CharacteristicResult) -> dict[int, str]:
     labels = {s.name: s.label for s in result.fit.statistics}
     out: dict[int, list[str]] = {}
     for s in result.signals:
-        out.setdefault(s.subgroup - 1, []).append(f"{labels.get(s.statistic, s.statistic)}: {s.rule}")
+        out.setdefault(s.point - 1, []).append(f"{labels.get(s.statistic, s.statistic)}: {', '.join(s.rules)}")
     return {i: "; ".join(v) for i, v in out.items()}
 
 

@@ -12,7 +12,7 @@ from sheettool.core.capability import AttributeRate
 from sheettool.core.charts import CHART_KINDS
 from sheettool.core.data import Measurements
 from sheettool.core.limits import BASE_WORDS
-from sheettool.evaluation.results import CharacteristicResult
+from sheettool.evaluation.results import CharacteristicResult, spans
 from sheettool.workbook import style
 from sheettool.workbook.writer import cells, charts, formulas
 from sheettool.workbook.writer.book_writer import BookWriter
@@ -35,21 +35,6 @@ class EvaluationWritten:
     as_values: list[str] = field(default_factory=list)
 
 
-def _spans(mask: np.ndarray) -> str:
-    """Subgroup positions of a mask as compact ranges, e.g. 1-21, 23-30."""
-    idx = np.flatnonzero(mask) + 1
-    if idx.size == 0:
-        return "none"
-    parts, start, prev = [], idx[0], idx[0]
-    for i in idx[1:]:
-        if i != prev + 1:
-            parts.append(f"{start}-{prev}" if prev > start else f"{start}")
-            start = i
-        prev = i
-    parts.append(f"{start}-{prev}" if prev > start else f"{start}")
-    return ", ".join(parts)
-
-
 def _spec_words(result: CharacteristicResult) -> str:
     given = spec_of(result).lines()
     return ", ".join(f"{k} {v:g}" for k, v in given) if given else "none given"
@@ -62,7 +47,8 @@ def _counts(result: CharacteristicResult) -> str:
     if isinstance(ch.data, Measurements):
         parts.append(f"{int(ch.data.sizes.sum())} readings")
     parts.append(f"{int(np.sum(ch.excluded))} excluded from the limits by a note or their size")
-    parts.append(f"{len(result.signals)} signal(s)")
+    parts.append(f"{result.points_signalled} point(s) signalled in {len(result.events)} event(s), "
+                 f"{result.events_open} open")
     return ", ".join(parts)
 
 
@@ -87,15 +73,20 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     ws.write_string(1, 0, "Go to:", fmt["label"])
     tab.row = 1 + len(targets)
     tab.section("About this chart")
-    tab.fact("Characteristic", ch.name)
+    named = result.settings.get("characteristic")
+    tab.fact("Characteristic", str(named.value) if named is not None else ch.name)
+    tab.fact("Identity", f"{result.identity} (next month's limits and action log are matched by it)")
     tab.fact("Sheet read", result.sheet)
     tab.fact("Unit", ch.unit or "not given")
     tab.fact("Specification limits", _spec_words(result))
     counted = not isinstance(ch.data, Measurements)
     tab.fact("Chart", chart_words(result, about.words))
     source, base_set = fit.limits_source, fit.limits_source.startswith(BASE_WORDS)
-    tab.fact("Base period" if base_set else "Limits set by", source.removeprefix(BASE_WORDS) if base_set else source)
-    tab.fact("Points that set the limits", _spans(np.asarray(fit.base, dtype=bool)), wrap=True)
+    tab.fact("Base period" if base_set else "Limits set by", source.removeprefix(BASE_WORDS) if base_set else source,
+             wrap=True)
+    tab.fact("Origin of the limits", result.limits_origin.words, wrap=True)
+    tab.fact("Points that set the limits", spans(np.asarray(fit.base, dtype=bool)) or "none in this workbook",
+             wrap=True)
     if not counted:  # a p, np, c or u chart's limits come from its rate alone
         tab.fact("Sigma within, base period", f"{fit.sigma_within:.6g} ({fit.sigma_words})")
     kind = CHART_KINDS[fit.chart]()
@@ -203,27 +194,33 @@ def _limits_table(out: BookWriter, tab: Tab, result: CharacteristicResult, layou
         tab.row = const_row + 1 + len(const_at)
 
 
+SIGNAL_COLUMNS = ("Point", "Label", "Statistic", "Rules broken", "Note in the input")
+
+
 def _signals(tab: Tab, result: CharacteristicResult, table: str) -> None:
+    """One row per signalled point and statistic: the rules it broke and the input's note of its subgroup."""
     ws = tab.ws
-    tab.section(f"Signals ({len(result.signals)})")
+    tab.section(f"Points signalled ({result.points_signalled}, in {len(result.events)} event(s): see the Action log)")
     if not result.signals:
-        ws.write_string(tab.row, 0, "No signals under the rules in use.")
+        ws.write_string(tab.row, 0, "No point signalled under the rules in use.")
         tab.row += 1
         return
     labels = {s.name: s.label for s in result.fit.statistics}
     top = tab.row
     for i, s in enumerate(result.signals, start=1):
-        ws.write_number(top + i, 0, s.subgroup, tab.fmt["point"])
+        rules = "; ".join(s.rules)  # what each rule looks for is under "Rules in use" above
+        ws.write_number(top + i, 0, s.point, tab.fmt["point"])
         ws.write_string(top + i, 1, s.label)
         ws.write_string(top + i, 2, labels.get(s.statistic, s.statistic))
-        ws.write_string(top + i, 3, s.rule)
-        ws.write_string(top + i, 4, s.words)
+        ws.write_string(top + i, 3, rules, tab.fmt["wrap"])
+        ws.write_string(top + i, 4, s.note, tab.fmt["note"])
+        tab.fit(rules, style.EVAL_COLUMNS[3], row=top + i)
+        tab.fit([rules, s.note], style.EVAL_COLUMNS[4], per_line=style.EVAL_COLUMNS[4] - 4, row=top + i)
     tab.ws.repeat_rows(top)
     ws.add_table(top, 0, top + len(result.signals), 4, {
         "name": table,
         "style": "Table Style Light 1",
-        "columns": [{"header": h, "header_format": tab.fmt["head"]}
-                    for h in ("Point", "Label", "Chart", "Rule", "What the rule looks for")]})
+        "columns": [{"header": h, "header_format": tab.fmt["head"]} for h in SIGNAL_COLUMNS]})
     tab.row = top + len(result.signals) + 1
 
 

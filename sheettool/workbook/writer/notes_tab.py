@@ -81,7 +81,7 @@ def write_notes_tab(out: BookWriter, tab: Tab, reports: list[EvaluationReport], 
     line("Caution", CAUTION, "caution")
     for result, eval_tab in zip(results, eval_tabs, strict=True):
         tab.text(0, "Chart tab", "label")
-        ws.write_url(tab.row, 1, cells.internal_link(eval_tab), fmt["link"], string=result.characteristic.name)
+        ws.write_url(tab.row, 1, cells.internal_link(eval_tab), fmt["link"], string=result.identity)
         tab.row += 1
     for report in reports:
         section("Input" if len(reports) == 1 else f"Input: {report.input.name}")

@@ -16,25 +16,27 @@ from sheettool.workbook.writer.notes_tab import CAUTION
 from sheettool.workbook.writer.tab import Tab
 
 SUMMARY_TAB = "Review summary"
-COLUMNS = ("Source file", "Sheet", "Characteristic", "Chart", "Points in period", "Signals", "Latest signal",
-           "Cpk", "Cpk low", "Cpk high", "In-control ARL", "False alarms per month", "Status",
-           "False alarms expected", "Chance from false alarms alone", "Reason")
-WIDTHS = (20, 14, 16, 12, 8, 8, 17, 6, 6, 6, 9, 9, 16, 9, 10, 31)
+COLUMNS = ("Source file", "Sheet", "Characteristic", "Chart", "Points in period", "Points signalled",
+           "Events open", "Latest signal", "Cpk", "Cpk low", "Cpk high", "In-control ARL", "False alarms per month",
+           "Status", "False alarms expected", "Chance from false alarms alone", "Reason")
+WIDTHS = (18, 13, 15, 12, 8, 8, 7, 15, 6, 6, 6, 9, 9, 15, 9, 10, 31)
 
 
 def write_pack_workbook(rows: list[PackRow], period: Period | None, evaluated: list[tuple[str, EvaluationReport]],
                         path: Path, options: WriterOptions | None = None,
-                        earlier: list[dict[str, TrendPoint]] | None = None) -> None:
+                        earlier: list[dict[str, TrendPoint]] | None = None,
+                        kept_log: list[dict[str, str]] | None = None) -> None:
     """Write the pack: summary, contents and (with earlier packs) trends first, then every characteristic's tabs,
-    then one audit for all.
+    then one audit for all; `kept_log` holds earlier action-log entries of characteristics not in this pack.
 
-    evaluated: (source label, report) of every input that was evaluated, in the order of the summary rows.
+    evaluated: (source label, report) of every input that was evaluated, in the order of the summary rows;
+    kept_log: the earlier action log's entries of characteristics not in this pack (written on unchanged).
     """
     reports = [report for _, report in evaluated]
     keys = [pack_key(source, r.sheet) for source, report in evaluated for r in report.characteristics]
     summary = Summary(SUMMARY_TAB, lambda out, tab, sections, heading: _write_summary(
         out, tab, rows, period, sections, heading, earlier or []))
-    write_workbook(reports, path, options, summary, block_keys=keys)
+    write_workbook(reports, path, options, summary, block_keys=keys, kept_log=kept_log)
 
 
 def _write_summary(out: BookWriter, tab: Tab, rows: list[PackRow], period: Period | None, sections: list[Section],
@@ -42,9 +44,11 @@ def _write_summary(out: BookWriter, tab: Tab, rows: list[PackRow], period: Perio
     ws, fmt = tab.ws, tab.fmt
     ws.write_string(0, 0, "Review summary", fmt["title"])
     words = f"points dated {period.label}" if period else "all points of each workbook"
-    ws.write_string(1, 0, f"Period: {words}. Limits: each characteristic's base period, or the limits carried "
-                          "from the previous pack where given (see each chart tab). The contents follow the "
-                          "table.", fmt["text"])
+    carried = [r for r in rows if r.tab is not None and "uncarried" not in r.flags and r.carried]
+    limits = (f"carried for {len(carried)} of {sum(r.tab is not None for r in rows)} characteristics (matched by "
+              "identity; see each chart tab), the others from their own base period") if any(
+        r.carried for r in rows) else "each characteristic's own base period"
+    ws.write_string(1, 0, f"Period: {words}. Limits: {limits}. The contents follow the table.", fmt["text"])
     counts = {word: sum(1 for r in rows if word in r.status.split("; ")) for word in STATUS_WORDS.values()}
     ws.write_string(2, 0, "; ".join(f"{n} {word}" for word, n in counts.items() if n) or "nothing evaluated",
                     fmt["label"])
@@ -67,21 +71,21 @@ def _write_summary(out: BookWriter, tab: Tab, rows: list[PackRow], period: Perio
             ws.write_string(i, 2, row.characteristic, fmt["wrap"])
         ws.write_string(i, 3, row.chart, fmt["wrap"])
         if row.tab is not None:
-            ws.write_number(i, 4, row.points, fmt["count"])
-            ws.write_number(i, 5, row.signals, fmt["count"])
-        ws.write_string(i, 6, row.latest_signal, fmt["note"])
-        for col, value in ((7, row.cpk), (8, row.cpk_low), (9, row.cpk_high)):
+            for col, value in ((4, row.points), (5, row.points_signalled), (6, row.events_open)):
+                ws.write_number(i, col, value, fmt["count"])
+        ws.write_string(i, 7, row.latest_signal, fmt["note"])
+        for col, value in ((8, row.cpk), (9, row.cpk_low), (10, row.cpk_high)):
             cells.number(ws, i, col, value, fmt["dec2"])
-        cells.number(ws, i, 10, row.arl_in_control, fmt["arl"])
-        cells.number(ws, i, 11, row.false_alarms_per_month, fmt["dec2"])
-        ws.write_string(i, 12, row.status, fmt["warn_wrap"] if row.flags else fmt["wrap"])
+        cells.number(ws, i, 11, row.arl_in_control, fmt["arl"])
+        cells.number(ws, i, 12, row.false_alarms_per_month, fmt["dec2"])
+        ws.write_string(i, 13, row.status, fmt["warn_wrap"] if row.flags else fmt["wrap"])
         if row.chance is not None:
-            cells.number(ws, i, 13, row.chance.expected, fmt["dec2"])
-            cells.number(ws, i, 14, row.chance.probability, fmt["chance"])
+            cells.number(ws, i, 14, row.chance.expected, fmt["dec2"])
+            cells.number(ws, i, 15, row.chance.probability, fmt["chance"])
         if len(columns) == len(COLUMNS):
-            ws.write_string(i, 15, row.reason, fmt["wrap"])
-        texts = [(row.source, 0), (row.sheet, 1), (row.characteristic, 2), (row.chart, 3), (row.latest_signal, 6),
-                 (row.status, 12), (row.reason, 15)]
+            ws.write_string(i, 16, row.reason, fmt["wrap"])
+        texts = [(row.source, 0), (row.sheet, 1), (row.characteristic, 2), (row.chart, 3), (row.latest_signal, 7),
+                 (row.status, 13), (row.reason, 16)]
         tab.height(max(style.row_height(t, WIDTHS[c] - 1) for t, c in texts if c < len(columns)), i)
     for col, width in enumerate(WIDTHS[:len(columns)]):
         ws.set_column(col, col, width)
@@ -125,7 +129,7 @@ def _contents(tab: Tab, sections: list[Section], last: int) -> None:
 
 
 TRENDS_PER_PAGE = 4
-TREND_HEADS = ("Pack of", "Center line", "Cpk", "Points", "Signals observed", "False alarms expected")
+TREND_HEADS = ("Pack of", "Center line", "Cpk", "Points", "Points signalled", "False alarms expected")
 
 
 def _trends(out: BookWriter, tab: Tab, rows: list[PackRow], sections: list[Section],
@@ -136,7 +140,7 @@ def _trends(out: BookWriter, tab: Tab, rows: list[PackRow], sections: list[Secti
     tab.across(0, last, "Trends across packs", "section")
     tab.row += 1
     ws.write_string(tab.row, 0, "Each characteristic as the earlier packs given with --earlier and this one saw it: "
-                    "signals observed against the false alarms its scheme expected over the period's points.",
+                    "points signalled against the false alarms its scheme expected over the period's points.",
                     fmt["text"])
     tab.row += 2
     breaks = list(tab.ws.hbreaks)
@@ -145,7 +149,7 @@ def _trends(out: BookWriter, tab: Tab, rows: list[PackRow], sections: list[Secti
             breaks.append(tab.row)  # whole blocks to a printed page: no chart cut by a page's edge
         key = pack_key(row.source, row.sheet)
         history = sorted((e[key] for e in earlier if key in e), key=lambda p: p.when)
-        now = TrendPoint(today, row.center, row.cpk, float(row.points), float(row.signals),
+        now = TrendPoint(today, row.center, row.cpk, float(row.points), float(row.points_signalled),
                          row.chance.expected if row.chance is not None else None)
         points = [*history, now]
         section = sections[row.tab]
@@ -163,7 +167,7 @@ def _trends(out: BookWriter, tab: Tab, rows: list[PackRow], sections: list[Secti
                 cells.number(ws, i, c, value, fmt[role])
         end = top + len(points)
         chart = out.line_chart()
-        for col, name, role in ((4, "signals observed", "values"), (5, "false alarms expected", "limit")):
+        for col, name, role in ((4, "points signalled", "values"), (5, "false alarms expected", "limit")):
             chart.add_series({"name": name, "categories": cells.column_range(tab.name, 0, top + 1, end),
                               "values": cells.column_range(tab.name, col, top + 1, end),
                               **style.series_look(role, len(points))})
