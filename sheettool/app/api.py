@@ -89,7 +89,10 @@ def evaluate_file(input_path: Path, output: Path | None = None,
         try:
             if match is not None:
                 options = replace(options, carried=match.entry)
-            result = evaluate(sheet.characteristic, sheet.sheet, options)
+            named = sheet.characteristic  # a Characteristic cell or setting names it; else its sheet does
+            if options.characteristic:
+                named = replace(named, name=options.characteristic)
+            result = evaluate(named, sheet.sheet, options)
             fitted = _with_log(result.fitted, log or [], input_path.name)
             if match is not None and match.warning:
                 said = Problem("warning", f"{match.warning} (limits file {carried_from or 'given'})", sheet=sheet.sheet)

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import datetime as dt
 import math
+import re
 import zipfile
 from dataclasses import dataclass
 from pathlib import Path
@@ -17,12 +18,14 @@ import openpyxl
 from openpyxl.utils.exceptions import InvalidFileException
 
 from sheettool.base.errors import InputError
+from sheettool.evaluation.events import identity_key
 from sheettool.evaluation.summary import pack_key
 from sheettool.workbook.limits_block import read_limits_block
 
 SUMMARY_SHEET = "Review summary"
-HEADS = {"source": "Source file", "sheet": "Sheet", "points": "Points in period", "signals": "Points signalled",
-         "cpk": "Cpk", "expected": "False alarms expected"}
+HEADS = {"source": "Source file", "sheet": "Sheet", "characteristic": "Characteristic", "points": "Points in period",
+         "signals": "Points signalled", "cpk": "Cpk", "expected": "False alarms expected"}
+_PERIOD = re.compile(r"^Period: points dated (\S+?)\.")  # the summary's second line names the pack's period
 EARLIER_HEADS = {"Signals": "Points signalled"}  # packs written before signals were counted as points
 
 
@@ -45,7 +48,8 @@ def _number(value: object) -> float | None:
 
 
 def read_earlier_pack(path: Path) -> dict[str, TrendPoint]:
-    """The trend points of an earlier pack by characteristic key (`pack_key`); InputError naming the file."""
+    """The trend points of an earlier pack by source and sheet (`pack_key`) and by identity (see `earlier_point`), each
+    dated by the pack's period where it has one; InputError naming the file."""
     path = Path(path)
     centers = {key: _first_center(entry) for key, entry in read_limits_block(path).items()}
     try:
@@ -61,6 +65,9 @@ def read_earlier_pack(path: Path) -> dict[str, TrendPoint]:
         columns: dict[str, int] = {}
         found: dict[str, TrendPoint] = {}
         for row in rows:
+            said = _PERIOD.match(str(row[0])) if row and row[0] else None
+            if said:
+                when = said.group(1)
             if not columns:
                 heads = [EARLIER_HEADS.get(str(v), str(v)) if v is not None else "" for v in row]
                 if HEADS["source"] in heads and HEADS["sheet"] in heads:
@@ -70,13 +77,20 @@ def read_earlier_pack(path: Path) -> dict[str, TrendPoint]:
                 break  # the table ends at its first empty row (the contents follow)
             cell = {k: row[c] if c < len(row) else None for k, c in columns.items()}
             key = pack_key(str(cell["source"]), str(cell["sheet"] or ""))
-            found[key] = TrendPoint(when, centers.get(key), _number(cell.get("cpk")), _number(cell.get("points")),
-                                    _number(cell.get("signals")), _number(cell.get("expected")))
+            point = TrendPoint(when, centers.get(key), _number(cell.get("cpk")), _number(cell.get("points")),
+                               _number(cell.get("signals")), _number(cell.get("expected")))
+            found[key] = point  # by source and sheet, and by identity for files named by their month
+            found.setdefault(identity_key(str(cell.get("characteristic") or "")), point)
         if not columns:
             raise InputError(f"{path}: the '{SUMMARY_SHEET}' tab has no table of characteristics")
         return found
     finally:
         book.close()
+
+
+def earlier_point(pack: dict[str, TrendPoint], identity: str, key: str) -> TrendPoint | None:
+    """What an earlier pack said of a characteristic: by source and sheet where they are the same, else by identity."""
+    return pack.get(key) or pack.get(identity_key(identity))
 
 
 def _first_center(entry: dict) -> float | None:

@@ -166,13 +166,22 @@ def test_trends_across_earlier_packs(run_cli, tmp_path):
     at = next(i for i, r in enumerate(rows) if r[0] == "Trends across packs")
     head = next(i for i in range(at, len(rows)) if rows[i][0] == "Pack of")
     earlier, now = rows[head + 1], rows[head + 2]
-    assert (earlier[0], now[0]) == ("2026-11-01", "2026-12-01")
+    assert (earlier[0], now[0]) == ("2026-10", "2026-11")  # each pack dated by its period
     # each pack's own figures: points in its period (10 in October, 30 in November), its signals and Cpk
     char = done.json["characteristics"][0]
     assert (earlier[3], now[3]) == (10, char["summary"]["points_in_period"])
     assert now[4] == char["summary"]["points_signalled"]
     assert now[1] == pytest.approx(char["limits"]["mean"]["center"], rel=1e-12) == earlier[1]
     assert now[5] == pytest.approx(30 / char["performance"]["arl_in_control"], rel=1e-9)  # points / ARL0
+    # files named by their month still meet: the trend matches the characteristic's identity, not the file name
+    renamed = tmp_path / "renamed"
+    renamed.mkdir()
+    (renamed / "s-2026-11.xlsx").write_bytes((root / "s.xlsx").read_bytes())
+    later = tmp_path / "later.xlsx"
+    assert run_cli("pack", renamed, "-o", later, "--period", "2026-11", "--earlier", october).code == 0
+    rows = list(openpyxl.load_workbook(later)["Review summary"].iter_rows(values_only=True))
+    head = next(i for i, r in enumerate(rows) if r[0] == "Pack of")
+    assert (rows[head + 1][0], rows[head + 2][0]) == ("2026-10", "2026-11")
     # a file that is not a pack is refused in one line naming it
     bad = run_cli("pack", root, "-o", tmp_path / "x.xlsx", "--earlier", root / "s.xlsx")
     assert bad.code == 3 and "s.xlsx" in bad.err and "Traceback" not in bad.err

@@ -73,8 +73,7 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     ws.write_string(1, 0, "Go to:", fmt["label"])
     tab.row = 1 + len(targets)
     tab.section("About this chart")
-    named = result.settings.get("characteristic")
-    tab.fact("Characteristic", str(named.value) if named is not None else ch.name)
+    tab.fact("Characteristic", ch.name)
     tab.fact("Identity", f"{result.identity} (next month's limits and action log are matched by it)")
     tab.fact("Sheet read", result.sheet)
     tab.fact("Unit", ch.unit or "not given")
@@ -100,13 +99,13 @@ def write_evaluation_tab(out: BookWriter, tab: Tab, result: CharacteristicResult
     _capability(tab, result)  # the first page: what was charted, its limits and its capability
     tab.row += 1
     breaks = [tab.row]  # the charts start a printed page, two to a page
-    zones = charts.zones_in_use(result.rules)
+    zones = charts.zones_in_use(result.rules)  # on the location chart only: the rules apply to it alone
     unit = ch.unit if isinstance(ch.data, Measurements) else ""
     spec = spec_of(result)
     for i, sc in enumerate(layout.stats.values()):
         if i and i % 2 == 0:
             breaks.append(tab.row)
-        chart = charts.control_chart(out, layout, sc, zones, f"{sc.stat.label}: {ch.name}", unit,
+        chart = charts.control_chart(out, layout, sc, zones and not i, f"{sc.stat.label}: {ch.name}", unit,
                                      [s for s in result.signals if s.statistic == sc.stat.name], ch.excluded,
                                      spec if sc.stat.name == "individual" else None)
         ws.insert_chart(tab.row, 0, chart, {"x_offset": 4, "y_offset": 4})

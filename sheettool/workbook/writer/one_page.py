@@ -136,7 +136,7 @@ def write_one_page(out: BookWriter, tab: Tab, result: CharacteristicResult, layo
     row = CHART_TOP
     for sc, rows in zip(stats[:2], heights, strict=False):
         own_spec = spec if sc.stat.name == "individual" else None  # never on a chart of means (common practice)
-        chart = charts.control_chart(out, layout, sc, zones, f"{sc.stat.label}: {ch.name}", unit,
+        chart = charts.control_chart(out, layout, sc, zones and sc is stats[0], f"{sc.stat.label}: {ch.name}", unit,
                                      [s for s in result.signals if s.statistic == sc.stat.name], ch.excluded,
                                      own_spec, (LEFT_PX - 8, rows * ROW_PX - 6))
         ws.insert_chart(row, 0, chart, {"x_offset": 2, "y_offset": 2, "object_position": 3})

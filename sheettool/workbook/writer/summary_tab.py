@@ -7,7 +7,7 @@ from pathlib import Path
 
 from sheettool.evaluation.summary import STATUS_WORDS, PackRow, Period, pack_key
 from sheettool.workbook import style
-from sheettool.workbook.earlier_packs import TrendPoint
+from sheettool.workbook.earlier_packs import TrendPoint, earlier_point
 from sheettool.workbook.report import EvaluationReport
 from sheettool.workbook.writer import cells
 from sheettool.workbook.writer.book import Section, Summary, WriterOptions, write_workbook
@@ -96,7 +96,8 @@ def _write_summary(out: BookWriter, tab: Tab, rows: list[PackRow], period: Perio
     if earlier:
         tab.row += 1
         ws.set_h_pagebreaks([last + 2, tab.row])  # the trends start a page of their own too (_trends adds more)
-        _trends(out, tab, rows, sections, earlier, len(columns) - 1, heading.date or "this pack")
+        _trends(out, tab, rows, sections, earlier, len(columns) - 1,
+                period.label if period else heading.date or "this pack")
     cells.print_setup(ws, heading)
 
 
@@ -147,8 +148,8 @@ def _trends(out: BookWriter, tab: Tab, rows: list[PackRow], sections: list[Secti
     for k, row in enumerate(r for r in rows if r.tab is not None):
         if k and k % TRENDS_PER_PAGE == 0:
             breaks.append(tab.row)  # whole blocks to a printed page: no chart cut by a page's edge
-        key = pack_key(row.source, row.sheet)
-        history = sorted((e[key] for e in earlier if key in e), key=lambda p: p.when)
+        said = (earlier_point(e, row.characteristic, pack_key(row.source, row.sheet)) for e in earlier)
+        history = sorted((p for p in said if p is not None), key=lambda p: p.when)
         now = TrendPoint(today, row.center, row.cpk, float(row.points), float(row.points_signalled),
                          row.chance.expected if row.chance is not None else None)
         points = [*history, now]
