@@ -111,7 +111,7 @@ def write_demo(path: Path) -> None:
 def _bore_sheet(ws: xlsxwriter.worksheet.Worksheet, bold: xlsxwriter.format.Format,
                 when: xlsxwriter.format.Format) -> None:
     ws.merge_range(0, 0, 0, 7, "Brackwater Hydraulics (fictional) - HF-220 hose fitting, line 2", bold)
-    labelled = [("Part number", "HF-220"), ("Characteristic", "bore diameter"), ("Unit", "mm"),
+    labelled = [("Part number", "HF-220"), ("Characteristic", "Bore diameter"), ("Unit", "mm"),
                 ("LSL", LSL), ("USL", USL), ("Nominal", NOMINAL), ("Sampling interval (h)", INTERVAL_H),
                 ("Hours per month", HOURS_PER_MONTH)]
     _labels(ws, bold, 0, labelled)
@@ -136,7 +136,7 @@ def _bore_sheet(ws: xlsxwriter.worksheet.Worksheet, bold: xlsxwriter.format.Form
 def _leak_sheet(ws: xlsxwriter.worksheet.Worksheet, bold: xlsxwriter.format.Format,
                 when: xlsxwriter.format.Format) -> None:
     ws.merge_range(0, 0, 0, 4, "Brackwater Hydraulics (fictional) - HF-220 leak test at 250 bar", bold)
-    labelled = [("Part number", "HF-220"), ("Characteristic", "leak at 250 bar"),
+    labelled = [("Part number", "HF-220"), ("Characteristic", "Leak at 250 bar"),
                 ("Sampling interval (h)", 8), ("Hours per month", HOURS_PER_MONTH),
                 ("Base period", f"first {LEAK_BASE}")]
     _labels(ws, bold, 0, labelled)
@@ -157,7 +157,7 @@ def _leak_sheet(ws: xlsxwriter.worksheet.Worksheet, bold: xlsxwriter.format.Form
 def _crimp_sheet(ws: xlsxwriter.worksheet.Worksheet, bold: xlsxwriter.format.Format,
                  when: xlsxwriter.format.Format) -> None:
     ws.merge_range(0, 0, 0, 3, "Brackwater Hydraulics (fictional) - HA-220 hose assembly, crimp cell 1", bold)
-    labelled = [("Part number", "HA-220"), ("Characteristic", "crimp force"), ("Unit", "kN"),
+    labelled = [("Part number", "HA-220"), ("Characteristic", "Crimp force"), ("Unit", "kN"),
                 ("LSL", CRIMP_LSL), ("USL", CRIMP_USL), ("Nominal", CRIMP_NOMINAL),
                 ("Sampling interval (h)", CRIMP_INTERVAL_H), ("Hours per month", HOURS_PER_MONTH),
                 ("Base period", f"first {CRIMP_BASE}")]

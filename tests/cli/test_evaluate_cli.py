@@ -20,7 +20,7 @@ def test_demo_end_to_end(run_cli, demo_copy, tmp_path):
     report = result.json
     assert sha256(demo_copy) == before
     assert report["input_sha256"] == before
-    chars = {c["name"]: c for c in report["characteristics"]}
+    chars = {c["sheet"]: c for c in report["characteristics"]}
     assert list(chars) == ["Bore diameter", "Leak test", "Crimp force"]
     char = chars["Bore diameter"]
     assert char["chart"] == "xbar-r" and char["subgroup_size"] == 5 and char["subgroups"] == 30
@@ -52,7 +52,7 @@ def test_demo_leak_test_and_crimp_force_sheets(run_cli, demo_copy, tmp_path):
 
     result = run_cli("evaluate", demo_copy, "-o", tmp_path / "result.xlsx", "--json")
     assert result.code == 0, result.err
-    chars = {c["name"]: c for c in result.json["characteristics"]}
+    chars = {c["sheet"]: c for c in result.json["characteristics"]}
     # Leak test: the number tested varies by shift -> p chart (common practice), limits from the first 24 shifts;
     # the leak rate rises from 1.5% to 5% at shift 28 and the chart signals after it (with this seed only after it).
     leak = chars["Leak test"]
