@@ -7,20 +7,15 @@ lines its limits block keeps. Anything else is refused with one line naming the 
 
 from __future__ import annotations
 
-import datetime as dt
 import math
 import re
-import zipfile
 from dataclasses import dataclass
 from pathlib import Path
-
-import openpyxl
-from openpyxl.utils.exceptions import InvalidFileException
 
 from sheettool.base.errors import InputError
 from sheettool.evaluation.events import identity_key
 from sheettool.evaluation.summary import pack_key
-from sheettool.workbook.limits_block import read_limits_block
+from sheettool.workbook.limits_block import earlier_sheet, read_limits_block
 
 SUMMARY_SHEET = "Review summary"
 HEADS = {"source": "Source file", "sheet": "Sheet", "characteristic": "Characteristic", "points": "Points in period",
@@ -49,43 +44,33 @@ def _number(value: object) -> float | None:
 
 def read_earlier_pack(path: Path) -> dict[str, TrendPoint]:
     """The trend points of an earlier pack by source and sheet (`pack_key`) and by identity (see `earlier_point`), each
-    dated by the pack's period where it has one; InputError naming the file."""
+    dated by the pack's period where it has one (else by the file's name); InputError naming the file."""
     path = Path(path)
     centers = {key: _first_center(entry) for key, entry in read_limits_block(path).items()}
-    try:
-        book = openpyxl.load_workbook(path, read_only=True, data_only=True)
-    except (zipfile.BadZipFile, InvalidFileException, KeyError, OSError, ValueError) as exc:
-        raise InputError(f"{path}: not a readable .xlsx workbook ({type(exc).__name__})") from None
-    try:
-        if SUMMARY_SHEET not in book.sheetnames:
-            raise InputError(f"{path}: no '{SUMMARY_SHEET}' tab; --earlier takes review packs sheettool wrote")
-        created = book.properties.created
-        when = f"{created:%Y-%m-%d}" if isinstance(created, dt.datetime) else path.stem
-        rows = book[SUMMARY_SHEET].iter_rows(max_row=20_000, max_col=40, values_only=True)
-        columns: dict[str, int] = {}
-        found: dict[str, TrendPoint] = {}
-        for row in rows:
-            said = _PERIOD.match(str(row[0])) if row and row[0] else None
-            if said:
-                when = said.group(1)
-            if not columns:
-                heads = [EARLIER_HEADS.get(str(v), str(v)) if v is not None else "" for v in row]
-                if HEADS["source"] in heads and HEADS["sheet"] in heads:
-                    columns = {k: heads.index(h) for k, h in HEADS.items() if h in heads}
-                continue
-            if not row or row[columns["source"]] in (None, ""):
-                break  # the table ends at its first empty row (the contents follow)
-            cell = {k: row[c] if c < len(row) else None for k, c in columns.items()}
-            key = pack_key(str(cell["source"]), str(cell["sheet"] or ""))
-            point = TrendPoint(when, centers.get(key), _number(cell.get("cpk")), _number(cell.get("points")),
-                               _number(cell.get("signals")), _number(cell.get("expected")))
-            found[key] = point  # by source and sheet, and by identity for files named by their month
-            found.setdefault(identity_key(str(cell.get("characteristic") or "")), point)
+    rows = earlier_sheet(path, SUMMARY_SHEET, 40, 20_000)
+    if rows is None:
+        raise InputError(f"{path}: no '{SUMMARY_SHEET}' tab; --earlier takes review packs sheettool wrote")
+    when, columns, found = path.stem, {}, {}
+    for row in rows:
+        said = _PERIOD.match(str(row[0])) if row and row[0] else None
+        if said:
+            when = said.group(1)
         if not columns:
-            raise InputError(f"{path}: the '{SUMMARY_SHEET}' tab has no table of characteristics")
-        return found
-    finally:
-        book.close()
+            heads = [EARLIER_HEADS.get(str(v), str(v)) if v is not None else "" for v in row]
+            if HEADS["source"] in heads and HEADS["sheet"] in heads:
+                columns = {k: heads.index(h) for k, h in HEADS.items() if h in heads}
+            continue
+        if not row or row[columns["source"]] in (None, ""):
+            break  # the table ends at its first empty row (the contents follow)
+        cell = {k: row[c] if c < len(row) else None for k, c in columns.items()}
+        key = pack_key(str(cell["source"]), str(cell["sheet"] or ""))
+        point = TrendPoint(when, centers.get(key), _number(cell.get("cpk")), _number(cell.get("points")),
+                           _number(cell.get("signals")), _number(cell.get("expected")))
+        found[key] = point  # by source and sheet, and by identity for files named by their month
+        found.setdefault(identity_key(str(cell.get("characteristic") or "")), point)
+    if not columns:
+        raise InputError(f"{path}: the '{SUMMARY_SHEET}' tab has no table of characteristics")
+    return found
 
 
 def earlier_point(pack: dict[str, TrendPoint], identity: str, key: str) -> TrendPoint | None:

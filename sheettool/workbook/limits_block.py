@@ -138,14 +138,15 @@ def earlier_sheet(path: Path, sheet: str, width: int, most: int) -> list[tuple[A
         raise InputError(f"{path}: file not found; --limits-from needs an earlier sheettool output")
     try:
         book = openpyxl.load_workbook(path, read_only=True, data_only=True)
-    except (zipfile.BadZipFile, InvalidFileException, KeyError, OSError, ValueError) as exc:
-        raise InputError(f"{path}: not a readable .xlsx workbook ({type(exc).__name__})") from None
+    except (zipfile.BadZipFile, InvalidFileException, KeyError, OSError, ValueError):
+        raise InputError(f"{path}: not a readable .xlsx workbook (damaged, or not a workbook); give the workbook "
+                         "as sheettool wrote it") from None
     try:
         if sheet not in book.sheetnames:
             return None
         return [tuple(r) for r in itertools.islice(book[sheet].iter_rows(max_col=width, values_only=True), most)]
-    except Exception as exc:  # a damaged sheet part fails in many ways inside openpyxl
-        raise InputError(f"{path}: sheet '{sheet}' cannot be read ({type(exc).__name__}); give the "
+    except Exception:  # a damaged sheet part fails in many ways inside openpyxl
+        raise InputError(f"{path}: sheet '{sheet}' cannot be read (its part is damaged); give the "
                          "workbook as sheettool wrote it") from None
     finally:
         book.close()
