@@ -199,6 +199,7 @@ def _key_figures(tab: Tab, result: CharacteristicResult, layout: DataLayout, col
     rows += [("In-control ARL (points)", perf.arl_in_control, "arl", None),
              ("False alarms per month", perf.false_alarms_per_month, "ratio", None),
              ("Points signalled", float(chance.signalled), "count", None),
+             ("Events open (see the Action log)", float(result.events_open), "count", None),
              (f"False alarms expected ({chance.points:,} points)", chance.expected, "ratio", None)]
     tab.row += 1
     for c, h in enumerate(("Figure", "Estimate", interval_head, "")):
