@@ -43,6 +43,7 @@ def add_arguments(p: argparse.ArgumentParser) -> None:
                    "0.25,0.5,0.75,1)")
     p.add_argument("--top", default="15", help="rows shown in the terminal table (default 15)")
     p.add_argument("--json", action="store_true", help="print the whole design as one JSON object on stdout")
+    p.add_argument("--quiet", action="store_true", help="no progress bar")
     p.add_argument("-o", "--output", type=Path, metavar="DESIGN.xlsx", help="also write the design workbook")
     p.set_defaults(run=run)
 
@@ -88,7 +89,7 @@ def run(args: argparse.Namespace) -> int:
     """Design and report; 0 whenever the design was made, whether or not a scheme meets every requirement."""
     req, sampling, grid = _inputs(args)
     try:
-        result = design_schemes(req, sampling, grid, args.output, _progress_bar())
+        result = design_schemes(req, sampling, grid, args.output, _progress_bar(args.quiet))
     except ValueError as exc:
         raise UsageError(str(exc)) from None
     if args.json:
@@ -100,9 +101,9 @@ def run(args: argparse.Namespace) -> int:
     return 0
 
 
-def _progress_bar() -> Callable[[int, int], None]:
-    """The terminal's progress bar for the search (silent when stderr is not a terminal)."""
-    bar = Progress(0)
+def _progress_bar(quiet: bool) -> Callable[[int, int], None]:
+    """The terminal's progress bar for the search (silent with --quiet or when stderr is not a terminal)."""
+    bar = Progress(0, quiet=quiet)
 
     def progress(done: int, total: int) -> None:
         if total != bar.total:
