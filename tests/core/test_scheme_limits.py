@@ -86,8 +86,9 @@ def test_whole_scheme_average_matches_a_simulation_with_estimated_limits():
 
 def test_a_target_no_factor_can_reach_still_gives_the_distribution():
     # Eight points in a row on one side of the center line: for a fair coin the expected wait for a run of 8 alike is
-    # 2^8 - 1 = 255 points (Feller 1968, success runs), whatever the limit factor, so a scheme holding that rule can
-    # never reach an in-control ARL of 333; the distribution is still reported and the factor is left out (NaN).
+    # 2^8 - 1 = 255 points (Feller 1968, success runs; tests/reference/published-values.md), whatever the limit
+    # factor, so a scheme holding that rule can never reach an in-control ARL of 333; the distribution is still
+    # reported and the factor is left out (NaN).
     scheme = Scheme("individuals", rules=tuple(parse_rules("zones")), n=1)
     report = scheme_estimated_limits(scheme, 25, "moving-range", target=333.4)
     assert report.distribution.known_arl < 2**8 - 1
